@@ -1,0 +1,84 @@
+"""Argument checks shared by every layer, and gainshape's own warning class.
+
+Vocabulary: a *parameter* is the name the user typed, a *value* what they
+passed. Every failure is one sentence that names the parameter, shows the
+value and says what is accepted.
+"""
+
+from __future__ import annotations
+
+import numbers
+import warnings
+
+import numpy as np
+
+
+class GainshapeWarning(UserWarning):
+    """Warning issued by gainshape (filter with ``warnings.filterwarnings``)."""
+
+
+def warn(message: str, stacklevel: int = 3) -> None:
+    """Issue a :class:`GainshapeWarning` pointing at the caller's caller."""
+    warnings.warn(message, GainshapeWarning, stacklevel=stacklevel)
+
+
+def check_option(name: str, value, allowed) -> str:
+    """Return ``value`` if it is one of ``allowed``, else raise ValueError.
+
+    >>> check_option("phase", "zero", ("zero", "minimum"))
+    'zero'
+    """
+    if not isinstance(value, str) or value not in allowed:
+        listed = ", ".join(repr(a) for a in allowed)
+        raise ValueError(
+            f"Invalid value for the '{name}' parameter. Allowed values are "
+            f"{listed}, but got {value!r} instead."
+        )
+    return value
+
+
+def check_positive(name: str, value, *, below: float | None = None) -> float:
+    """Return ``value`` as a float if it is a finite real number > 0.
+
+    ``below`` adds an exclusive upper bound (for example the Nyquist
+    frequency).
+
+    >>> check_positive("cutoff", 30)
+    30.0
+    """
+    if isinstance(value, bool) or not isinstance(value, numbers.Real):
+        raise TypeError(
+            f"The '{name}' parameter must be a real number, but got "
+            f"{type(value).__name__} ({value!r}) instead."
+        )
+    value = float(value)
+    if not np.isfinite(value) or value <= 0:
+        raise ValueError(
+            f"The '{name}' parameter must be a finite number > 0, but got "
+            f"{value!r} instead."
+        )
+    if below is not None and value >= below:
+        raise ValueError(
+            f"The '{name}' parameter must be below {below:g}, but got "
+            f"{value:g} instead."
+        )
+    return value
+
+
+def check_int(name: str, value, *, minimum: int) -> int:
+    """Return ``value`` if it is an integer >= ``minimum``.
+
+    >>> check_int("harmonics", 3, minimum=1)
+    3
+    """
+    if isinstance(value, bool) or not isinstance(value, numbers.Integral):
+        raise TypeError(
+            f"The '{name}' parameter must be an integer, but got "
+            f"{type(value).__name__} ({value!r}) instead."
+        )
+    if value < minimum:
+        raise ValueError(
+            f"The '{name}' parameter must be an integer >= {minimum}, but got "
+            f"{value!r} instead."
+        )
+    return int(value)

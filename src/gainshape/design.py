@@ -1,0 +1,582 @@
+"""Realize a gain curve at a sampling rate and state the result in the field's terms.
+
+Vocabulary: the *request* is the gain curve; the *kernel* is the finite
+impulse response that runs; the *realized gain* is the kernel's magnitude
+response; *support* is the number of samples the kernel reaches on each side
+of t = 0, which is how much padding the engine needs. A *dense grid* is an
+FFT frequency grid fine enough that the ideal impulse response has decayed
+within it.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.fft as sfft
+from scipy.optimize import brentq
+
+from ._checks import check_option, check_positive, warn
+from .curves import GainCurve
+
+__all__ = ["design", "FilterDesign", "Characteristics", "EdgeFrequency"]
+
+_HALF_POWER = 1.0 / np.sqrt(2.0)
+_TAPER_FRACTION = 0.125  # outer eighth of each side of the kernel is tapered
+_MIN_DENSE = 2**14
+_MAX_DENSE = 2**22
+_RINGING_LEVEL = 0.01  # ringing lasts while |h| exceeds 1% (-40 dB) of its peak
+
+
+class EdgeFrequency(float):
+    """A frequency (Hz) where the gain crosses a level, with its direction.
+
+    ``direction`` is ``"rising"`` (gain increases with frequency, the edge of
+    a high-pass) or ``"falling"`` (the edge of a low-pass).
+
+    Examples
+    --------
+    >>> e = EdgeFrequency(30.0, "falling")
+    >>> e + 0, e.direction
+    (30.0, 'falling')
+    """
+
+    __slots__ = ("direction",)
+
+    def __new__(cls, hz: float, direction: str):
+        obj = super().__new__(cls, hz)
+        obj.direction = direction
+        return obj
+
+    def __repr__(self):
+        return f"{float(self):.4g} Hz ({self.direction})"
+
+    def __reduce__(self):
+        return (EdgeFrequency, (float(self), self.direction))
+
+
+@dataclass(frozen=True, slots=True)
+class Characteristics:
+    """The realized filter in the field's terms (all computed, none assumed).
+
+    Attributes
+    ----------
+    kind : str
+        Derived from the realized gain: "low-pass", "high-pass", "band-pass",
+        "band-stop", "notch", combinations joined by " + ", or "custom".
+    half_amplitude, half_power : tuple of EdgeFrequency
+        Frequencies (Hz, ascending) where the realized gain crosses 0.5
+        (-6.02 dB) and 1/sqrt(2) (-3.01 dB).
+    rolloff : tuple of float
+        For each half-amplitude edge, the steepest slope (dB/octave, positive)
+        of the realized gain between the edge and the point where the gain
+        falls to 10 x tolerance (20 dB above the kernel's error floor).
+    passband_ripple_db : float
+        Largest |20 log10(realized / requested)| where the request is at least
+        1/sqrt(2).
+    stopband_attenuation_db : float
+        -20 log10 of the largest realized gain where the request is at or
+        below the tolerance (NaN if the request never gets that low).
+    max_deviation : float
+        Largest |realized - requested| gain difference on a fine grid.
+    ringing : float
+        Seconds from the impulse response's peak to the last sample whose
+        magnitude exceeds 1% (-40 dB) of the peak.
+    group_delay : float
+        Seconds; 0 for zero phase; for minimum phase the gain-squared-weighted
+        mean group delay over the half-power passband.
+    length : float
+        Kernel length in seconds.
+    """
+
+    kind: str
+    half_amplitude: tuple
+    half_power: tuple
+    rolloff: tuple
+    passband_ripple_db: float
+    stopband_attenuation_db: float
+    max_deviation: float
+    ringing: float
+    group_delay: float
+    length: float
+
+    def to_dict(self) -> dict:
+        """Plain JSON-serializable values (edges as lists of Hz and directions).
+
+        Examples
+        --------
+        >>> from gainshape import lowpass
+        >>> c = design(lowpass(30.0), 250.0).characteristics
+        >>> sorted(c.to_dict())[:3]
+        ['group_delay', 'half_amplitude', 'half_amplitude_direction']
+        """
+        out = {}
+        for name in self.__slots__:
+            value = getattr(self, name)
+            if name.startswith("half_"):
+                out[name] = [float(e) for e in value]
+                out[name + "_direction"] = [e.direction for e in value]
+            elif isinstance(value, tuple):
+                out[name] = [float(v) for v in value]
+            else:
+                out[name] = value if isinstance(value, str) else float(value)
+        return out
+
+
+@dataclass(frozen=True, slots=True)
+class FilterDesign:
+    """A gain curve realized as a finite kernel at one sampling rate.
+
+    Made by :func:`design`; see there. ``kernel`` is read-only;
+    ``kernel[offset]`` is the sample at t = 0.
+    """
+
+    curve: GainCurve
+    sfreq: float
+    phase: str
+    length_request: object
+    tolerance: float
+    kernel: np.ndarray
+    offset: int
+    exact: bool
+    characteristics: Characteristics
+    notes: tuple = ()
+    _spectra: dict = field(default_factory=dict, repr=False, compare=False)
+
+    @property
+    def times(self) -> np.ndarray:
+        """Kernel sample times in seconds (0 at the kernel's time origin)."""
+        return (np.arange(self.kernel.size) - self.offset) / self.sfreq
+
+    @property
+    def support(self) -> int:
+        """Samples of padding the kernel needs on each side of the data."""
+        return int(max(self.offset, self.kernel.size - 1 - self.offset))
+
+    def requested_gain(self, freqs) -> np.ndarray:
+        """The curve's gain at ``freqs`` (Hz)."""
+        return self.curve(freqs)
+
+    def realized_gain(self, freqs) -> np.ndarray:
+        """Magnitude of the response that runs, at ``freqs`` (Hz).
+
+        With ``length=None`` the request is applied on each record's own
+        frequency grid, so the realized gain is the request.
+
+        Examples
+        --------
+        >>> from gainshape import lowpass
+        >>> f = design(lowpass(30.0), 250.0)
+        >>> abs(float(f.realized_gain(30.0)) - 0.5) < f.tolerance
+        True
+        """
+        if self.exact:
+            return self.requested_gain(freqs)
+        return np.abs(self._response(np.asarray(freqs, dtype=float)))
+
+    def spectrum(self, n_fft: int) -> np.ndarray:
+        """Response on the ``rfft`` grid of ``n_fft`` points (for the engine).
+
+        Real for zero phase, complex for minimum phase; cached per size.
+        """
+        if n_fft not in self._spectra:
+            self._spectra[n_fft] = self._compute_spectrum(n_fft)
+        return self._spectra[n_fft]
+
+    def _compute_spectrum(self, n_fft: int) -> np.ndarray:
+        if self.exact:
+            gain = _validated_gain(self.curve, sfft.rfftfreq(n_fft, 1.0 / self.sfreq))
+            if self.phase == "zero":
+                return gain
+            return _minimum_phase_spectrum(gain, n_fft, self.tolerance)
+        return _kernel_spectrum(self.kernel, self.offset, n_fft, self.phase)
+
+    def _response(self, freqs: np.ndarray) -> np.ndarray:
+        """Complex DTFT of the kernel at ``freqs`` (real for zero phase)."""
+        return _dtft(self.kernel, self.offset, self.sfreq, freqs, self.phase)
+
+    def plot(self, *, fmin=None, show=True):
+        """Requested and realized gain (linear and dB), impulse and step response.
+
+        Returns
+        -------
+        matplotlib.figure.Figure
+        """
+        from .viz import plot_design
+
+        return plot_design(self, fmin=fmin, show=show)
+
+    def describe(self) -> str:
+        """One line: the kind, cutoffs, roll-off, phase and length."""
+        c = self.characteristics
+        edges = ", ".join(f"{float(e):.3g}" for e in c.half_amplitude) or "none"
+        slopes = ", ".join(f"{r:.1f}" for r in c.rolloff) or "-"
+        return (
+            f"{c.kind}; half-amplitude {edges} Hz; roll-off {slopes} dB/octave; "
+            f"{self.phase} phase; {c.length:.3g} s at {self.sfreq:g} Hz"
+        )
+
+    def __repr__(self):
+        return f"FilterDesign({self.describe()})"
+
+    def _repr_html_(self):
+        from .viz import characteristics_table_html
+
+        return characteristics_table_html(self)
+
+
+def design(
+    curve: GainCurve,
+    sfreq: float,
+    *,
+    phase: str = "zero",
+    length="auto",
+    tolerance: float = 0.001,
+) -> FilterDesign:
+    """Realize ``curve`` at ``sfreq`` as a finite kernel and characterize it.
+
+    Parameters
+    ----------
+    curve : GainCurve
+        The requested gain.
+    sfreq : float
+        Sampling rate in Hz.
+    phase : {"zero", "minimum"}
+        "zero": a real, symmetric (non-causal) kernel with no delay.
+        "minimum": a causal kernel with the same magnitude (cepstral method)
+        and the smallest possible delay; its group delay is reported.
+    length : "auto" | float | None
+        "auto": the shortest kernel whose realized gain is within
+        ``tolerance`` of the request. A number: the kernel length in seconds
+        (honoured; a warning says if it misses the tolerance). None: no
+        truncation; the request is applied exactly on each record's own
+        frequency grid, padded by the decay of the ideal impulse response.
+    tolerance : float
+        Largest accepted absolute gain difference (0.001 is -60 dB in the
+        stopband and 0.1 % in the passband).
+
+    Returns
+    -------
+    FilterDesign
+
+    Examples
+    --------
+    >>> from gainshape import lowpass
+    >>> f = design(lowpass(30.0, rolloff=24.0), 500.0)
+    >>> round(float(f.characteristics.half_amplitude[0]), 2)
+    30.0
+    """
+    if not isinstance(curve, GainCurve):
+        raise TypeError(
+            "The 'curve' parameter must be a GainCurve (see gainshape.lowpass, "
+            f"GainCurve.from_points), but got {type(curve).__name__} instead."
+        )
+    sfreq = check_positive("sfreq", sfreq)
+    phase = check_option("phase", phase, ("zero", "minimum"))
+    tolerance = check_positive("tolerance", tolerance, below=1.0)
+    exact = length is None
+    if not exact and length != "auto":
+        if isinstance(length, str):
+            check_option("length", length, ("auto",))
+        length = check_positive("length", length)
+    notes = curve.nyquist_notes(sfreq / 2.0)
+
+    realizer = _Realizer(curve, sfreq, phase, tolerance)
+    if length == "auto" or exact:
+        kernel, offset = realizer.shortest()
+    else:
+        kernel, offset = realizer.of_length(int(round(length * sfreq)))
+    kernel.setflags(write=False)
+    chars = _characterize(curve, kernel, offset, sfreq, phase, tolerance, exact)
+    if not exact and length != "auto" and chars.max_deviation > tolerance:
+        auto_len = realizer.shortest()[0].size / sfreq
+        warn(
+            f"A kernel of {kernel.size / sfreq:.3g} s realizes the request only to "
+            f"within {chars.max_deviation:.3g} (tolerance {tolerance:g}); "
+            f"use length='auto' ({auto_len:.3g} s) to meet it."
+        )
+    return FilterDesign(
+        curve, sfreq, phase, length, tolerance, kernel, offset, exact, chars, notes
+    )
+
+
+# -- kernel realization -------------------------------------------------------
+class _Realizer:
+    """Ideal response on a dense grid, and truncations of it."""
+
+    def __init__(self, curve, sfreq, phase, tolerance):
+        self.sfreq, self.phase, self.tol = sfreq, phase, tolerance
+        n = _MIN_DENSE
+        while True:
+            gain = _validated_gain(curve, sfft.rfftfreq(n, 1.0 / sfreq))
+            spec = gain if phase == "zero" else _minimum_phase_spectrum(gain, n, tolerance)
+            ideal = sfft.irfft(spec, n)
+            if _tail_l1(ideal, phase) < tolerance / 4 or n >= _MAX_DENSE:
+                break
+            n *= 2
+        self.n, self.gain, self.ideal = n, gain, ideal
+
+    def of_length(self, n_taps: int):
+        """Tapered truncation to about ``n_taps`` samples; returns kernel, offset."""
+        n_taps = max(1, min(n_taps, self.n - 1))
+        if self.phase == "zero":
+            half = n_taps // 2
+            w = _taper(2 * half + 1)
+            kernel = np.concatenate([self.ideal[-half:] if half else [], self.ideal[: half + 1]])
+            return kernel * w, half
+        w = _taper(2 * n_taps - 1)[n_taps - 1 :]
+        return self.ideal[:n_taps] * w, 0
+
+    def deviation(self, kernel, offset) -> float:
+        spec = _kernel_spectrum(kernel, offset, self.n, self.phase)
+        return float(np.max(np.abs(np.abs(spec) - self.gain) if self.phase == "minimum"
+                            else np.abs(spec - self.gain)))
+
+    def shortest(self):
+        """The shortest tapered truncation within tolerance (bisection on length)."""
+        ok = lambda taps: self.deviation(*self.of_length(taps)) <= self.tol  # noqa: E731
+        hi = 8
+        while not ok(hi):
+            if hi >= self.n // 2:
+                best = self.deviation(*self.of_length(self.n // 2))
+                raise ValueError(
+                    "The requested gain cannot be realized within tolerance "
+                    f"{self.tol:g} by any kernel up to {self.n / 2 / self.sfreq:.4g} s "
+                    f"at {self.sfreq:g} Hz (best: {best:.3g}): it has a jump, a kink "
+                    "or an extremely steep or narrow feature. Use a gentler "
+                    "roll-off, a wider notch, a larger 'tolerance', or an explicit "
+                    "'length'."
+                )
+            hi *= 2
+        lo = hi // 2
+        while hi - lo > 1:
+            mid = (lo + hi) // 2
+            lo, hi = (lo, mid) if ok(mid) else (mid, hi)
+        return self.of_length(hi)
+
+
+def _taper(n: int) -> np.ndarray:
+    """Tukey window of ``n`` samples with the outer eighth of each side tapered."""
+    from scipy.signal.windows import tukey
+
+    return tukey(n, alpha=2 * _TAPER_FRACTION, sym=True) if n > 2 else np.ones(n)
+
+
+def _tail_l1(ideal: np.ndarray, phase: str) -> float:
+    """L1 norm of the part of a circular impulse response that would alias."""
+    n = ideal.size
+    if phase == "zero":
+        return float(np.abs(ideal[n // 4 : 3 * n // 4]).sum())
+    return float(np.abs(ideal[n // 2 :]).sum())
+
+
+def _validated_gain(curve: GainCurve, freqs: np.ndarray) -> np.ndarray:
+    gain = curve(freqs)
+    bad = ~np.isfinite(gain) | (gain < 0)
+    if bad.any():
+        raise ValueError(
+            f"The gain curve {curve!r} returned {gain[bad][0]!r} at "
+            f"{freqs[bad][0]:g} Hz; gains must be finite and >= 0."
+        )
+    return gain
+
+
+def _minimum_phase_spectrum(gain: np.ndarray, n: int, tolerance: float) -> np.ndarray:
+    """Minimum-phase response with magnitude ``gain`` (rfft grid of n points).
+
+    Homomorphic (real cepstrum) method: fold the cepstrum of log|G| onto
+    positive quefrencies and exponentiate. Zeros are floored at tolerance/10.
+    """
+    log_mag = np.log(np.maximum(gain, tolerance / 10.0))
+    cep = sfft.irfft(log_mag, n)
+    cep[1 : (n + 1) // 2] *= 2.0
+    cep[n // 2 + 1 :] = 0.0
+    return np.exp(sfft.rfft(cep))
+
+
+def _kernel_spectrum(kernel, offset, n_fft, phase) -> np.ndarray:
+    """Response of ``kernel`` (t = 0 at ``offset``) on an rfft grid of n_fft."""
+    buf = np.zeros(n_fft)
+    buf[: kernel.size] = kernel
+    spec = sfft.rfft(np.roll(buf, -offset))
+    return spec.real if phase == "zero" else spec
+
+
+def _dtft(kernel, offset, sfreq, freqs, phase, chunk_elems=2**22) -> np.ndarray:
+    """Exact response of the kernel at arbitrary frequencies (chunked)."""
+    freqs = np.atleast_1d(freqs)
+    t = (np.arange(kernel.size) - offset) / sfreq
+    out = np.empty(freqs.size, dtype=complex)
+    step = max(1, chunk_elems // max(kernel.size, 1))
+    for i in range(0, freqs.size, step):
+        arg = -2j * np.pi * np.outer(freqs.ravel()[i : i + step], t)
+        out[i : i + step] = np.exp(arg) @ kernel
+    out = out.reshape(np.shape(freqs))
+    return out.real if phase == "zero" else out
+
+
+# -- characterization -----------------------------------------------------------
+def _characterize(curve, kernel, offset, sfreq, phase, tol, exact) -> Characteristics:
+    nyq = sfreq / 2.0
+    n_fft = max(_MIN_DENSE, 1 << int(np.ceil(np.log2(8 * kernel.size))))
+    lin = sfft.rfftfreq(n_fft, 1.0 / sfreq)
+    low = np.geomspace(lin[1] / 8, lin[min(200, lin.size - 1)], 400)
+    freqs = np.union1d(lin, low)
+    requested = curve(freqs)
+
+    if exact:
+        realized_fn = curve
+        signed = requested
+    else:
+        def realized_fn(f):
+            return np.abs(_dtft(kernel, offset, sfreq, np.asarray(f, float), phase))
+
+        spec = _kernel_spectrum(kernel, offset, n_fft, phase)
+        on_lin = np.interp(freqs, lin, np.arange(lin.size))
+        exact_low = freqs < lin[min(200, lin.size - 1)]
+        signed = np.empty_like(freqs)
+        signed[~exact_low] = (spec.real if phase == "zero" else np.abs(spec))[
+            np.round(on_lin[~exact_low]).astype(int)
+        ]
+        low_resp = _dtft(kernel, offset, sfreq, freqs[exact_low], phase)
+        signed[exact_low] = low_resp if phase == "zero" else np.abs(low_resp)
+    realized = np.abs(signed)
+
+    half_amp = _crossings(freqs, realized, 0.5, realized_fn)
+    half_pow = _crossings(freqs, realized, _HALF_POWER, realized_fn)
+    floor = min(30 * tol, 0.05)
+    outer = _outer_edges(half_amp)
+    rolloffs = tuple(
+        _steepest_slope(e, realized_fn, freqs[1], nyq, floor, half_amp, e in outer)
+        for e in half_amp
+    )
+    passband = requested >= _HALF_POWER
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio_db = 20 * np.log10(realized[passband] / requested[passband])
+    ripple = float(np.max(np.abs(ratio_db))) if passband.any() else float("nan")
+    stop = requested <= tol
+    atten = float(-20 * np.log10(max(realized[stop].max(), 1e-300))) if stop.any() else float("nan")
+    return Characteristics(
+        kind=_kind(half_amp, realized[0], realized[-1]),
+        half_amplitude=half_amp,
+        half_power=half_pow,
+        rolloff=rolloffs,
+        passband_ripple_db=ripple,
+        stopband_attenuation_db=atten,
+        max_deviation=float(np.max(np.abs(signed - requested))),
+        ringing=_ringing(kernel, sfreq),
+        group_delay=_group_delay(kernel, offset, sfreq, phase, n_fft),
+        length=kernel.size / sfreq,
+    )
+
+
+def _crossings(freqs, gain, level, fn) -> tuple:
+    """Edges where ``gain`` crosses ``level``, refined on the exact response."""
+    above = gain >= level
+    idx = np.flatnonzero(above[1:] != above[:-1])
+    edges = []
+    for i in idx:
+        lo, hi = freqs[i], freqs[i + 1]
+        try:
+            hz = brentq(lambda f: float(fn(np.array([f]))[0]) - level, lo, hi, xtol=1e-9)
+        except ValueError:
+            hz = lo + (hi - lo) * (level - gain[i]) / (gain[i + 1] - gain[i])
+        edges.append(EdgeFrequency(hz, "rising" if above[i + 1] else "falling"))
+    return tuple(edges)
+
+
+def _steepest_slope(edge, fn, fmin, fmax, floor, edges, hull) -> float:
+    """Steepest dB/octave slope from ``edge`` into its stop side, down to ``floor``.
+
+    With ``hull`` (outer edges of a pass band), the slope is taken on the
+    least concave majorant of dB against octaves over the points above the
+    floor, which bridges notches inside the stop band and equals the gain
+    itself for a Butterworth-like transition (concave in log frequency).
+    """
+    others = [float(e) for e in edges if e is not edge]
+    if edge.direction == "falling":
+        end = min([o for o in others if o > edge] + [fmax])
+    else:
+        end = max([o for o in others if o < edge] + [fmin])
+    n_oct = abs(np.log2(end / float(edge)))
+    f = np.geomspace(float(edge), end, max(64, int(min(n_oct, 1.0) * 2000), int(n_oct * 200)))
+    db = 20 * np.log10(np.maximum(fn(f), 1e-300))
+    octaves = np.abs(np.log2(f / float(edge)))
+    above = db >= 20 * np.log10(floor)
+    if not hull:
+        above = np.cumprod(above).astype(bool)
+    octaves, db = octaves[above], db[above]
+    if hull:
+        idx = _upper_hull(octaves, db)
+        octaves, db = octaves[idx], db[idx]
+    if db.size < 2:
+        return float("nan")
+    return float(np.max(np.abs(np.diff(db) / np.diff(octaves))))
+
+
+def _upper_hull(x, y) -> list:
+    """Indices of the upper convex hull of points with increasing ``x``."""
+    out = []
+    for i in range(x.size):
+        while len(out) >= 2:
+            a, b = out[-2], out[-1]
+            cross = (x[b] - x[a]) * (y[i] - y[a]) - (y[b] - y[a]) * (x[i] - x[a])
+            if cross < 0:
+                break
+            out.pop()
+        out.append(i)
+    return out
+
+
+def _outer_edges(edges) -> set:
+    """The leading rising edge and the trailing falling edge, where present."""
+    out = set()
+    if edges and edges[0].direction == "rising":
+        out.add(edges[0])
+    if edges and edges[-1].direction == "falling":
+        out.add(edges[-1])
+    return out
+
+
+def _kind(edges, gain_dc, gain_nyq) -> str:
+    """Name the realized shape from its half-amplitude edges."""
+    if not edges:
+        return "custom"
+    dirs = [e.direction for e in edges]
+    parts, inner = [], list(edges)
+    if gain_dc < 0.5 and dirs[0] == "rising":
+        parts.append("high-pass")
+        inner = inner[1:]
+    if gain_nyq < 0.5 and dirs[-1] == "falling":
+        parts.append("low-pass")
+        inner = inner[:-1]
+    if parts == ["high-pass", "low-pass"]:
+        parts = ["band-pass"]
+    if len(inner) % 2 or any(e.direction != d for e, d in zip(inner, ["falling", "rising"] * len(inner))):
+        return "custom"
+    stops = []
+    for a, b in zip(inner[::2], inner[1::2]):
+        stops.append("notch" if (b - a) <= 0.1 * (a + b) / 2 else "band-stop")
+    for kind in ("band-stop", "notch"):
+        if kind in stops:
+            parts.append(kind)
+    return " + ".join(parts)
+
+
+def _ringing(kernel, sfreq) -> float:
+    mag = np.abs(kernel)
+    peak = int(np.argmax(mag))
+    loud = np.flatnonzero(mag > _RINGING_LEVEL * mag[peak])
+    return float((loud[-1] - peak) / sfreq)
+
+
+def _group_delay(kernel, offset, sfreq, phase, n_fft) -> float:
+    if phase == "zero":
+        return 0.0
+    t = (np.arange(kernel.size) - offset).astype(float)
+    h = sfft.rfft(kernel, n_fft)
+    th = sfft.rfft(t * kernel, n_fft)
+    mag2 = np.abs(h) ** 2
+    passband = mag2 >= 0.5
+    gd = np.real(th[passband] / h[passband]) / sfreq
+    return float(np.sum(gd * mag2[passband]) / np.sum(mag2[passband]))
