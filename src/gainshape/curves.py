@@ -9,6 +9,7 @@ JSON-serializable description that rebuilds it exactly.
 
 from __future__ import annotations
 
+import html
 import json
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
@@ -95,8 +96,8 @@ class GainCurve:
         Examples
         --------
         >>> g = GainCurve.from_points([1, 2, 40, 60], [0, 1, 1, 0])
-        >>> [round(float(v), 3) for v in g([0.5, 1.5, 50.0, 80.0])]
-        [0.0, 0.5, 0.5, 0.0]
+        >>> [round(float(v), 3) for v in g([0.5, 2.0, 30.0, 50.0, 80.0])]
+        [0.0, 1.0, 1.0, 0.668, 0.0]
         """
         freq_scale = check_option("freq_scale", freq_scale, ("linear", "log"))
         gain_scale = check_option("gain_scale", gain_scale, ("linear", "db"))
@@ -208,7 +209,7 @@ class GainCurve:
         )
         heads = "".join(f"<th>{f:g} Hz</th>" for f in freqs)
         return (
-            f"<div><b>GainCurve</b>: {_html_escape(self.describe())}"
+            f"<div><b>GainCurve</b>: {html.escape(self.describe())}"
             f"<table><tr><th>gain at</th>{heads}</tr>"
             f"<tr><td></td>{cells}</tr></table></div>"
         )
@@ -409,7 +410,7 @@ def _complement_func(a):
 
 # -- recipes --------------------------------------------------------------------
 def _dump(recipe: dict) -> str:
-    return json.dumps(recipe, sort_keys=True)
+    return json.dumps(recipe)
 
 
 def _build(recipe: Mapping) -> GainCurve:
@@ -549,7 +550,3 @@ def _as_1d_float(name, values):
             f"The '{name}' parameter must be 1-D, but got shape {arr.shape}."
         )
     return arr
-
-
-def _html_escape(text: str) -> str:
-    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")

@@ -10,6 +10,8 @@ within it.
 
 from __future__ import annotations
 
+import html
+
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -216,13 +218,54 @@ class FilterDesign:
             f"{self.phase} phase; {c.length:.3g} s at {self.sfreq:g} Hz"
         )
 
+    def summary(self) -> list[tuple[str, str]]:
+        """The characteristics as (label, value) rows of text, for tables.
+
+        Examples
+        --------
+        >>> from gainshape import lowpass
+        >>> design(lowpass(30.0), 250.0).summary()[0]
+        ('kind', 'low-pass')
+        """
+        c = self.characteristics
+
+        def edges(values):
+            return ", ".join(f"{float(e):.4g} Hz ({e.direction})" for e in values) or "none"
+
+        if self.exact:
+            truncation = "none: the request is applied on each record's own grid"
+        elif self.length_request == "auto":
+            truncation = "shortest kernel within tolerance"
+        else:
+            truncation = f"fixed at {self.length_request:g} s by request"
+        return [
+            ("kind", c.kind),
+            ("half-amplitude (-6 dB)", edges(c.half_amplitude)),
+            ("half-power (-3 dB)", edges(c.half_power)),
+            ("roll-off", ", ".join(f"{r:.1f} dB/octave" for r in c.rolloff) or "none"),
+            ("passband ripple", f"{c.passband_ripple_db:.3g} dB"),
+            ("stopband attenuation", f"{c.stopband_attenuation_db:.1f} dB"),
+            ("largest gain deviation", f"{c.max_deviation:.2g} (tolerance {self.tolerance:g})"),
+            ("ringing (to -40 dB)", f"{c.ringing * 1000:.0f} ms"),
+            ("phase", f"{self.phase} (group delay {c.group_delay * 1000:.3g} ms)"),
+            ("kernel length", f"{c.length:.4g} s ({self.kernel.size} samples)"),
+            ("truncation", truncation),
+            ("sampling rate", f"{self.sfreq:g} Hz"),
+        ] + [("note", n) for n in self.notes]
+
     def __repr__(self):
         return f"FilterDesign({self.describe()})"
 
     def _repr_html_(self):
-        from .viz import characteristics_table_html
-
-        return characteristics_table_html(self)
+        rows = "".join(
+            f"<tr><td style='text-align:left'>{k}</td>"
+            f"<td style='text-align:left'>{html.escape(v)}</td></tr>"
+            for k, v in self.summary()
+        )
+        return (
+            f"<div><b>FilterDesign</b> of {html.escape(self.curve.describe())}"
+            f"<table>{rows}</table></div>"
+        )
 
 
 def design(
@@ -263,7 +306,7 @@ def design(
     --------
     >>> from gainshape import lowpass
     >>> f = design(lowpass(30.0, rolloff=24.0), 500.0)
-    >>> round(float(f.characteristics.half_amplitude[0]), 2)
+    >>> round(float(f.characteristics.half_amplitude[0]), 1)
     30.0
     """
     if not isinstance(curve, GainCurve):
@@ -404,6 +447,7 @@ def _kernel_spectrum(kernel, offset, n_fft, phase) -> np.ndarray:
 
 def _dtft(kernel, offset, sfreq, freqs, phase, chunk_elems=2**22) -> np.ndarray:
     """Exact response of the kernel at arbitrary frequencies (chunked)."""
+    shape = np.shape(freqs)
     freqs = np.atleast_1d(freqs)
     t = (np.arange(kernel.size) - offset) / sfreq
     out = np.empty(freqs.size, dtype=complex)
@@ -411,7 +455,7 @@ def _dtft(kernel, offset, sfreq, freqs, phase, chunk_elems=2**22) -> np.ndarray:
     for i in range(0, freqs.size, step):
         arg = -2j * np.pi * np.outer(freqs.ravel()[i : i + step], t)
         out[i : i + step] = np.exp(arg) @ kernel
-    out = out.reshape(np.shape(freqs))
+    out = out.reshape(shape)
     return out.real if phase == "zero" else out
 
 
@@ -457,7 +501,7 @@ def _characterize(curve, kernel, offset, sfreq, phase, tol, exact) -> Characteri
     stop = requested <= tol
     atten = float(-20 * np.log10(max(realized[stop].max(), 1e-300))) if stop.any() else float("nan")
     return Characteristics(
-        kind=_kind(half_amp, realized[0], realized[-1]),
+        kind=_kind(half_amp, realized[0], realized[-1], _hidden_notches(freqs, realized, half_amp, floor)),
         half_amplitude=half_amp,
         half_power=half_pow,
         rolloff=rolloffs,
@@ -538,10 +582,24 @@ def _outer_edges(edges) -> set:
     return out
 
 
-def _kind(edges, gain_dc, gain_nyq) -> str:
-    """Name the realized shape from its half-amplitude edges."""
+def _hidden_notches(freqs, gain, edges, floor) -> int:
+    """Count narrow nulls in stop bands: 20 dB below the largest gain within
+    10 % of their frequency, where that gain stands above ``floor``."""
+    inner = (gain[1:-1] < gain[:-2]) & (gain[1:-1] <= gain[2:]) & (gain[1:-1] < 0.5)
+    count = 0
+    for i in np.flatnonzero(inner) + 1:
+        f = freqs[i]
+        around = gain[(freqs >= 0.9 * f) & (freqs <= 1.1 * f)]
+        inside_pair = any(a < f < b for a, b in zip(edges[:-1], edges[1:]) if a.direction == "falling")
+        if around.max() > floor and gain[i] < 0.1 * around.max() and not inside_pair:
+            count += 1
+    return count
+
+
+def _kind(edges, gain_dc, gain_nyq, hidden_notches=0) -> str:
+    """Name the realized shape from its half-amplitude edges and hidden nulls."""
     if not edges:
-        return "custom"
+        return "notch" if hidden_notches else "custom"
     dirs = [e.direction for e in edges]
     parts, inner = [], list(edges)
     if gain_dc < 0.5 and dirs[0] == "rising":
@@ -557,6 +615,8 @@ def _kind(edges, gain_dc, gain_nyq) -> str:
     stops = []
     for a, b in zip(inner[::2], inner[1::2]):
         stops.append("notch" if (b - a) <= 0.1 * (a + b) / 2 else "band-stop")
+    if hidden_notches:
+        stops.append("notch")
     for kind in ("band-stop", "notch"):
         if kind in stops:
             parts.append(kind)

@@ -1,0 +1,247 @@
+"""MNE objects and arrays in, filtered objects out: the only module that knows MNE.
+
+Vocabulary (MNE's): *inst* is a ``Raw``, ``Epochs`` or ``Evoked``; *picks*
+selects channels as in MNE; *data channels* are those MNE's ``"data"``
+picks; a *discontinuity* is an annotation whose description starts with
+``edge`` or ``bad_acq_skip`` (case-insensitive), as MNE marks joined
+recordings.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ._checks import check_option
+from .curves import GainCurve
+from .design import FilterDesign, design
+from .engine import PAD_MODES, check_finite, filter_array
+
+__all__ = ["apply"]
+
+_BOUNDARY_PREFIXES = ("edge", "bad_acq_skip")
+_NEVER_FILTERED = ("stim",)
+_EPOCH_HINT = (
+    "Filter the continuous recording before epoching, or use a gentler "
+    "high-pass (a higher cutoff needs a shorter kernel)."
+)
+
+
+def apply(
+    inst,
+    filt,
+    *,
+    sfreq: float | None = None,
+    picks=None,
+    pad: str = "reflect",
+    phase: str = "zero",
+    length="auto",
+    tolerance: float = 0.001,
+    nan: str = "raise",
+    n_jobs: int = 1,
+    copy: bool = True,
+    verbose=None,
+):
+    """Filter a Raw, Epochs, Evoked or array with a gain curve or design.
+
+    Parameters
+    ----------
+    inst : mne.io.Raw | mne.Epochs | mne.Evoked | ndarray
+        Data to filter; arrays are filtered along their last axis.
+    filt : GainCurve | FilterDesign
+        What to apply. A curve is realized with :func:`gainshape.design`
+        using ``phase``, ``length`` and ``tolerance`` (ignored for a design).
+    sfreq : float | None
+        Sampling rate in Hz; required for arrays, checked against
+        ``info["sfreq"]`` otherwise.
+    picks : str | list | slice | None
+        Channels as in MNE (names, types, indices, "data", "all"). None:
+        MNE's data channels, bad channels included. EOG, ECG, EMG and misc
+        channels are filtered only when picked; stim channels never ("all"
+        leaves them out; naming one is an error). For arrays: indices along
+        the second-to-last axis.
+    pad : str
+        ``numpy.pad`` mode extending each segment by the kernel's support.
+    nan : {"raise", "split"}
+        Non-finite samples raise (naming channels and times), or split the
+        data into segments filtered around them (they stay non-finite).
+    n_jobs : int
+        FFT worker threads (-1: all cores).
+    copy : bool
+        True: return a filtered copy and leave ``inst`` untouched. False:
+        filter in place and return ``inst`` itself.
+    verbose : bool | None
+        Show a progress bar for long work (None: only when long).
+
+    Returns
+    -------
+    Same type as ``inst``
+        For MNE objects, ``info["highpass"]``/``info["lowpass"]`` are set
+        from the realized half-amplitude cutoffs (never loosened) when the
+        picks cover every data channel.
+
+    Examples
+    --------
+    >>> import numpy as np, gainshape as gs
+    >>> x = np.random.default_rng(0).standard_normal((4, 2500))
+    >>> y = gs.apply(x, gs.bandpass(1.0, 40.0), sfreq=250.0)
+    >>> y.shape, y.dtype
+    ((4, 2500), dtype('float64'))
+    """
+    if not isinstance(filt, (GainCurve, FilterDesign)):
+        raise TypeError(
+            "The 'filt' parameter must be a GainCurve or a FilterDesign, but got "
+            f"{type(filt).__name__} instead."
+        )
+    check_option("nan", nan, ("raise", "split"))
+    check_option("pad", pad, PAD_MODES)
+    if isinstance(inst, np.ndarray):
+        return _apply_array(inst, filt, sfreq, picks, pad, phase, length, tolerance,
+                            nan, n_jobs, copy, verbose)
+    kind = _mne_kind(inst)
+    if sfreq is not None and float(sfreq) != inst.info["sfreq"]:
+        raise ValueError(
+            f"The 'sfreq' parameter ({sfreq!r}) differs from the data's "
+            f"info['sfreq'] ({inst.info['sfreq']!r}); leave it out for MNE objects."
+        )
+    idx = _pick_indices(inst, picks)
+    filt = _realize(filt, inst.info["sfreq"], phase, length, tolerance)
+    names = [inst.ch_names[i] for i in idx]
+    if nan == "raise":
+        _check_finite_mne(inst, kind, idx, names)
+    if copy:
+        inst = inst.copy()
+    if kind != "evoked" and not inst.preload:
+        inst.load_data()
+    data = inst._data if kind != "evoked" else inst.data
+    rows, segments = _rows_and_segments(inst, kind, idx, data)
+    filter_array(
+        data, filt, pad=pad, segments=segments, nan=nan, n_jobs=n_jobs, rows=rows,
+        out=data, row_names=names, verbose=verbose,
+        segment_name="Each epoch" if kind == "epochs" else None,
+        short_hint=_EPOCH_HINT if kind == "epochs" else "",
+    )
+    _update_info(inst, idx, filt)
+    return inst
+
+
+def _apply_array(data, filt, sfreq, picks, pad, phase, length, tolerance, nan,
+                 n_jobs, copy, verbose):
+    if sfreq is None:
+        raise ValueError(
+            "The 'sfreq' parameter is required for arrays: pass the sampling "
+            "rate in Hz, e.g. sfreq=1000.0."
+        )
+    filt = _realize(filt, sfreq, phase, length, tolerance)
+    n_ch = data.shape[-2] if data.ndim >= 2 else 1
+    channels = np.arange(n_ch) if picks is None else np.arange(n_ch)[picks]
+    n_lead = int(np.prod(data.shape[:-2])) if data.ndim >= 2 else 1
+    rows = (np.arange(n_lead)[:, None] * n_ch + np.atleast_1d(channels)[None, :]).ravel()
+    return filter_array(
+        data, filt, pad=pad, nan=nan, n_jobs=n_jobs, rows=rows,
+        out=None if copy else data, verbose=verbose,
+    )
+
+
+def _realize(filt, sfreq, phase, length, tolerance) -> FilterDesign:
+    if isinstance(filt, FilterDesign):
+        if filt.sfreq != float(sfreq):
+            raise ValueError(
+                f"The design was made for {filt.sfreq:g} Hz but the data are "
+                f"sampled at {float(sfreq):g} Hz; design the curve again at this rate."
+            )
+        return filt
+    return design(filt, sfreq, phase=phase, length=length, tolerance=tolerance)
+
+
+def _mne_kind(inst) -> str:
+    import mne
+
+    if isinstance(inst, mne.io.BaseRaw):
+        return "raw"
+    if isinstance(inst, mne.BaseEpochs):
+        return "epochs"
+    if isinstance(inst, mne.Evoked):
+        return "evoked"
+    raise TypeError(
+        "The 'inst' parameter must be an mne.io.Raw, mne.Epochs, mne.Evoked or "
+        f"a NumPy array, but got {type(inst).__name__} instead."
+    )
+
+
+def _pick_indices(inst, picks) -> np.ndarray:
+    from mne._fiff.pick import _picks_to_idx
+
+    idx = _picks_to_idx(inst.info, picks, none="data", exclude=())
+    types = inst.get_channel_types(picks=idx)
+    blocked = [i for i, t in zip(idx, types) if t in _NEVER_FILTERED]
+    if blocked and not (isinstance(picks, str) and picks == "all"):
+        names = ", ".join(inst.ch_names[i] for i in blocked)
+        raise ValueError(
+            f"The 'picks' parameter selects stim channel(s) {names}; stim "
+            "channels are never filtered. Pick data channels instead."
+        )
+    return np.array([i for i in idx if i not in blocked], dtype=int)
+
+
+def _check_finite_mne(inst, kind, idx, names):
+    if kind == "raw" and not inst.preload:
+        return  # checked by the engine after loading, before filtering
+    data = inst.get_data(picks=idx) if kind != "evoked" else inst.data[idx]
+    rows = data if data.ndim == 2 else np.moveaxis(data, 1, 0).reshape(len(idx), -1)
+    check_finite(rows, names, sfreq=None if kind == "epochs" else inst.info["sfreq"])
+
+
+def _rows_and_segments(inst, kind, idx, data):
+    if kind == "epochs":
+        n_epochs, n_ch = data.shape[:2]
+        rows = (np.arange(n_epochs)[:, None] * n_ch + idx[None, :]).ravel()
+        return rows, None
+    if kind == "evoked":
+        return idx, None
+    return idx, _raw_segments(inst)
+
+
+def _raw_segments(raw):
+    """Runs of samples between discontinuities; bad_acq_skip spans are left out."""
+    n = raw.n_times
+    cuts, skipped = {0, n}, []
+    annot = raw.annotations
+    for onset, duration, desc in zip(annot.onset, annot.duration, annot.description):
+        low = desc.lower()
+        if not low.startswith(_BOUNDARY_PREFIXES):
+            continue
+        start = int(raw.time_as_index(onset, use_rounding=True, origin=annot.orig_time)[0])
+        stop = start + int(round(duration * raw.info["sfreq"]))
+        start, stop = min(max(start, 0), n), min(max(stop, 0), n)
+        cuts.update((start, stop))
+        if low.startswith("bad_acq_skip") and stop > start:
+            skipped.append((start, stop))
+    bounds = sorted(cuts)
+    return [
+        (a, b)
+        for a, b in zip(bounds[:-1], bounds[1:])
+        if b > a and not any(s <= a and b <= e for s, e in skipped)
+    ]
+
+
+def _passband_edges(filt: FilterDesign):
+    """Realized (high-pass, low-pass) half-amplitude cutoffs, None where absent."""
+    edges = filt.characteristics.half_amplitude
+    dc, nyq = filt.realized_gain(np.array([0.0, filt.sfreq / 2.0]))
+    highpass = float(edges[0]) if edges and dc < 0.5 and edges[0].direction == "rising" else None
+    lowpass = float(edges[-1]) if edges and nyq < 0.5 and edges[-1].direction == "falling" else None
+    return highpass, lowpass
+
+
+def _update_info(inst, idx, filt):
+    from mne._fiff.pick import _picks_to_idx
+
+    data_idx = _picks_to_idx(inst.info, "data", exclude=())
+    if not set(data_idx.tolist()) <= set(idx.tolist()):
+        return
+    highpass, lowpass = _passband_edges(filt)
+    with inst.info._unlock():
+        if highpass is not None:
+            inst.info["highpass"] = max(float(inst.info["highpass"] or 0.0), highpass)
+        if lowpass is not None:
+            inst.info["lowpass"] = min(float(inst.info["lowpass"]), lowpass)

@@ -1,0 +1,35 @@
+"""Small seeded simulated recordings shared by the tests (made here, never loaded)."""
+
+import mne
+import numpy as np
+import pytest
+
+mne.set_log_level("ERROR")
+
+
+def simulated_raw(sfreq=250.0, seconds=40.0, seed=0, with_stim=True):
+    """EEG channels of white noise plus sines, an EOG, a misc and a stim channel."""
+    rng = np.random.default_rng(seed)
+    n = int(sfreq * seconds)
+    t = np.arange(n) / sfreq
+    names = ["Fz", "Cz", "Pz", "Oz", "EOG1", "MISC1"]
+    types = ["eeg"] * 4 + ["eog", "misc"]
+    data = 1e-6 * rng.standard_normal((len(names), n))
+    data[:4] += 5e-6 * np.sin(2 * np.pi * 10.0 * t) + 3e-6 * np.sin(2 * np.pi * 50.0 * t)
+    if with_stim:
+        names.append("STI 014")
+        types.append("stim")
+        stim = np.zeros((1, n))
+        stim[0, int(sfreq)::int(2 * sfreq)] = 1.0
+        data = np.vstack([data, stim])
+    return mne.io.RawArray(data, mne.create_info(names, sfreq, types))
+
+
+@pytest.fixture
+def raw():
+    return simulated_raw()
+
+
+@pytest.fixture
+def rng():
+    return np.random.default_rng(12345)
