@@ -187,10 +187,9 @@ class FilterDesign:
 
     def _compute_spectrum(self, n_fft: int) -> np.ndarray:
         if self.exact:
-            gain = _validated_gain(self.curve, sfft.rfftfreq(n_fft, 1.0 / self.sfreq))
             if self.phase == "zero":
-                return gain
-            return _minimum_phase_spectrum(gain, n_fft, self.tolerance)
+                return _validated_gain(self.curve, sfft.rfftfreq(n_fft, 1.0 / self.sfreq))
+            return _minimum_phase_spectrum(self.curve, n_fft, self.sfreq, self.tolerance)
         return _kernel_spectrum(self.kernel, self.offset, n_fft, self.phase)
 
     def _response(self, freqs: np.ndarray) -> np.ndarray:
@@ -350,13 +349,16 @@ class _Realizer:
     def __init__(self, curve, sfreq, phase, tolerance):
         self.sfreq, self.phase, self.tol = sfreq, phase, tolerance
         n = _MIN_DENSE
-        while True:
+        while True:  # grid fine enough for the zero-phase response to decay
             gain = _validated_gain(curve, sfft.rfftfreq(n, 1.0 / sfreq))
-            spec = gain if phase == "zero" else _minimum_phase_spectrum(gain, n, tolerance)
-            ideal = sfft.irfft(spec, n)
-            if _tail_l1(ideal, phase) < tolerance / 4 or n >= _MAX_DENSE:
+            ideal = sfft.irfft(gain, n)
+            if np.abs(ideal[n // 4 : 3 * n // 4]).sum() < tolerance / 4 or n >= _MAX_DENSE:
                 break
             n *= 2
+        if phase == "minimum":  # room for the longer causal response
+            n = min(4 * n, _MAX_DENSE)
+            gain = _validated_gain(curve, sfft.rfftfreq(n, 1.0 / sfreq))
+            ideal = sfft.irfft(_minimum_phase_spectrum(curve, n, sfreq, tolerance), n)
         self.n, self.gain, self.ideal = n, gain, ideal
 
     def of_length(self, n_taps: int):
@@ -366,7 +368,8 @@ class _Realizer:
             half = n_taps // 2
             w = _taper(2 * half + 1)
             kernel = np.concatenate([self.ideal[-half:] if half else [], self.ideal[: half + 1]])
-            return kernel * w, half
+            kernel = kernel * w
+            return 0.5 * (kernel + kernel[::-1]), half
         w = _taper(2 * n_taps - 1)[n_taps - 1 :]
         return self.ideal[:n_taps] * w, 0
 
@@ -405,14 +408,6 @@ def _taper(n: int) -> np.ndarray:
     return tukey(n, alpha=2 * _TAPER_FRACTION, sym=True) if n > 2 else np.ones(n)
 
 
-def _tail_l1(ideal: np.ndarray, phase: str) -> float:
-    """L1 norm of the part of a circular impulse response that would alias."""
-    n = ideal.size
-    if phase == "zero":
-        return float(np.abs(ideal[n // 4 : 3 * n // 4]).sum())
-    return float(np.abs(ideal[n // 2 :]).sum())
-
-
 def _validated_gain(curve: GainCurve, freqs: np.ndarray) -> np.ndarray:
     gain = curve(freqs)
     bad = ~np.isfinite(gain) | (gain < 0)
@@ -424,13 +419,25 @@ def _validated_gain(curve: GainCurve, freqs: np.ndarray) -> np.ndarray:
     return gain
 
 
-def _minimum_phase_spectrum(gain: np.ndarray, n: int, tolerance: float) -> np.ndarray:
-    """Minimum-phase response with magnitude ``gain`` (rfft grid of n points).
+def _minimum_phase_spectrum(curve, n: int, sfreq: float, tolerance: float) -> np.ndarray:
+    """Minimum-phase response with the curve's magnitude (rfft grid of n points).
 
     Homomorphic (real cepstrum) method: fold the cepstrum of log|G| onto
-    positive quefrencies and exponentiate. Zeros are floored at tolerance/10.
+    positive quefrencies and exponentiate. Where the gain is below
+    ``tolerance`` the log gain is averaged over the bin (16 sub-samples), so
+    a zero that falls on a grid point (a high-pass at 0 Hz, a notch centre)
+    contributes its integrable log singularity rather than a spike; the gain
+    is floored at 1e-9 x tolerance.
     """
-    log_mag = np.log(np.maximum(gain, tolerance / 10.0))
+    freqs = sfft.rfftfreq(n, 1.0 / sfreq)
+    floor = 1e-9 * tolerance
+    gain = _validated_gain(curve, freqs)
+    log_mag = np.log(np.maximum(gain, floor))
+    deep = np.flatnonzero(gain < tolerance)
+    if deep.size:
+        offsets = (np.arange(16) + 0.5) / 16 - 0.5
+        sub = freqs[deep, None] + offsets[None, :] * (sfreq / n)
+        log_mag[deep] = np.log(np.maximum(_validated_gain(curve, sub), floor)).mean(axis=1)
     cep = sfft.irfft(log_mag, n)
     cep[1 : (n + 1) // 2] *= 2.0
     cep[n // 2 + 1 :] = 0.0
