@@ -33,3 +33,8 @@ def raw():
 @pytest.fixture
 def rng():
     return np.random.default_rng(12345)
+
+
+@pytest.fixture
+def make_raw():
+    return simulated_raw

@@ -123,8 +123,11 @@ def test_equality_and_hash():
     assert len({gs.lowpass(30.0), gs.lowpass(30.0)}) == 1
 
 
-def test_nyquist_notes_and_errors():
-    assert gs.notch(50.0, harmonics=3).nyquist_notes(200.0) == ()
-    assert len(gs.notch(50.0, harmonics=3).nyquist_notes(125.0)) == 1
+def test_below_nyquist_trims_harmonics_and_rejects_cutoffs():
+    curve = gs.bandpass(1.0, 40.0) * gs.notch(50.0, harmonics=3)
+    assert curve.below_nyquist(200.0) == (curve, ())
+    trimmed, notes = curve.below_nyquist(125.0)
+    assert trimmed == gs.bandpass(1.0, 40.0) * gs.notch(50.0, harmonics=2)
+    assert notes == ("notch harmonic at 150 Hz is at or above the Nyquist frequency (125 Hz) and is dropped",)
     with pytest.raises(ValueError, match="Nyquist"):
-        gs.lowpass(130.0).nyquist_notes(125.0)
+        gs.lowpass(130.0).below_nyquist(125.0)

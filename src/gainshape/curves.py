@@ -214,20 +214,26 @@ class GainCurve:
             f"<tr><td></td>{cells}</tr></table></div>"
         )
 
-    def nyquist_notes(self, nyquist: float) -> tuple[str, ...]:
-        """Check the recipe's frequencies against ``nyquist`` (Hz).
+    def below_nyquist(self, nyquist: float) -> tuple[GainCurve, tuple[str, ...]]:
+        """The curve to realize below ``nyquist`` (Hz), and notes on what changed.
 
-        Raises ValueError for a cutoff or band edge at or above Nyquist and
-        returns notes for notch harmonics that will be dropped there.
+        Raises ValueError for a cutoff or band edge at or above Nyquist; notch
+        harmonics at or above it are dropped, each with a note.
 
         Examples
         --------
-        >>> notch(50.0, harmonics=3).nyquist_notes(125.0)
+        >>> curve, notes = notch(50.0, harmonics=3).below_nyquist(125.0)
+        >>> curve
+        GainCurve(notch at 50, 100 Hz, width 2 Hz)
+        >>> notes
         ('notch harmonic at 150 Hz is at or above the Nyquist frequency (125 Hz) and is dropped',)
         """
         if self._recipe is None:
-            return ()
-        return tuple(_nyquist_notes(self.recipe, nyquist))
+            return self, ()
+        notes = []
+        recipe = _fit_below(self.recipe, nyquist, notes)
+        curve = self if not notes else _build(recipe)
+        return curve, tuple(notes)
 
 
 # -- shape constructors -------------------------------------------------------
@@ -472,23 +478,27 @@ def _describe(r: Mapping) -> str:
     return f"1 - ({_describe(r['curve'])})"
 
 
-def _nyquist_notes(r: Mapping, nyquist: float):
-    kind = r["kind"]
+def _fit_below(r: dict, nyquist: float, notes: list) -> dict:
+    """Check a recipe against Nyquist; trim notch harmonics at or above it."""
     for key in ("cutoff", "low", "high", "freq"):
         if key in r and r[key] >= nyquist:
             raise ValueError(
                 f"The '{key}' of the {_describe(r)} curve must be below the "
                 f"Nyquist frequency ({nyquist:g} Hz), but got {r[key]:g} Hz."
             )
-    if kind == "notch":
-        for k in range(2, r["harmonics"] + 1):
-            if r["freq"] * k >= nyquist:
-                yield (
-                    f"notch harmonic at {r['freq'] * k:g} Hz is at or above the "
-                    f"Nyquist frequency ({nyquist:g} Hz) and is dropped"
-                )
-    for sub in r.get("factors", []) + ([r["curve"]] if "curve" in r else []):
-        yield from _nyquist_notes(sub, nyquist)
+    if r["kind"] == "notch":
+        kept = int(min(r["harmonics"], np.ceil(nyquist / r["freq"]) - 1))
+        for k in range(kept + 1, r["harmonics"] + 1):
+            notes.append(
+                f"notch harmonic at {r['freq'] * k:g} Hz is at or above the "
+                f"Nyquist frequency ({nyquist:g} Hz) and is dropped"
+            )
+        return {**r, "harmonics": kept}
+    if r["kind"] == "product":
+        return {**r, "factors": [_fit_below(f, nyquist, notes) for f in r["factors"]]}
+    if r["kind"] == "complement":
+        return {**r, "curve": _fit_below(r["curve"], nyquist, notes)}
+    return r
 
 
 def _check_band(low, high):

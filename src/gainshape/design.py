@@ -321,15 +321,19 @@ def design(
         if isinstance(length, str):
             check_option("length", length, ("auto",))
         length = check_positive("length", length)
-    notes = curve.nyquist_notes(sfreq / 2.0)
+    curve, notes = curve.below_nyquist(sfreq / 2.0)
 
     realizer = _Realizer(curve, sfreq, phase, tolerance)
     if length == "auto" or exact:
         kernel, offset = realizer.shortest()
     else:
         kernel, offset = realizer.of_length(int(round(length * sfreq)))
-    kernel.setflags(write=False)
     chars = _characterize(curve, kernel, offset, sfreq, phase, tolerance, exact)
+    while length == "auto" and chars.max_deviation > tolerance and kernel.size < realizer.n // 2:
+        # the search grid missed a peak the exact check found: lengthen a little
+        kernel, offset = realizer.of_length(int(kernel.size * 1.1) + 2)
+        chars = _characterize(curve, kernel, offset, sfreq, phase, tolerance, exact)
+    kernel.setflags(write=False)
     if not exact and length != "auto" and chars.max_deviation > tolerance:
         auto_len = realizer.shortest()[0].size / sfreq
         warn(

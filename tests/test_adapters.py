@@ -1,0 +1,147 @@
+"""MNE objects: picks, copy semantics, discontinuities, info updates, Epochs/Evoked."""
+
+import mne
+import numpy as np
+import pytest
+
+import gainshape as gs
+
+CURVE = gs.bandpass(0.5, 30.0)
+
+
+def test_default_picks_filter_eeg_only_and_keep_every_channel(raw):
+    before = raw.get_data()
+    out = gs.apply(raw, CURVE)
+    after = out.get_data()
+    assert out.ch_names == raw.ch_names
+    eeg = mne.pick_types(raw.info, eeg=True)
+    others = [i for i in range(len(raw.ch_names)) if i not in eeg]
+    assert not np.allclose(after[eeg], before[eeg])
+    np.testing.assert_array_equal(after[others], before[others])
+    np.testing.assert_array_equal(raw.get_data(), before)  # input untouched
+
+
+def test_bad_channels_are_filtered_by_default(raw):
+    raw.info["bads"] = ["Cz"]
+    out = gs.apply(raw, CURVE)
+    assert not np.allclose(out.get_data(picks="Cz"), raw.get_data(picks="Cz"))
+
+
+def test_eog_filtered_only_when_picked(raw):
+    out = gs.apply(raw, CURVE, picks=["EOG1"])
+    assert not np.allclose(out.get_data(picks="EOG1"), raw.get_data(picks="EOG1"))
+    np.testing.assert_array_equal(out.get_data(picks="eeg"), raw.get_data(picks="eeg"))
+
+
+def test_picks_all_leaves_stim_alone(raw):
+    out = gs.apply(raw, CURVE, picks="all")
+    np.testing.assert_array_equal(out.get_data(picks="stim"), raw.get_data(picks="stim"))
+    assert not np.allclose(out.get_data(picks="misc"), raw.get_data(picks="misc"))
+
+
+def test_copy_false_filters_in_place(raw):
+    expected = gs.apply(raw, CURVE).get_data()
+    out = gs.apply(raw, CURVE, copy=False)
+    assert out is raw
+    np.testing.assert_allclose(raw.get_data(), expected)
+
+
+def test_info_cutoffs_set_from_realized_edges(raw):
+    out = gs.apply(raw, CURVE)
+    edges = gs.design(CURVE, raw.info["sfreq"]).characteristics.half_amplitude
+    assert out.info["highpass"] == pytest.approx(float(edges[0]))
+    assert out.info["lowpass"] == pytest.approx(float(edges[1]))
+
+
+def test_info_never_loosened(raw):
+    narrow = gs.apply(raw, gs.bandpass(1.0, 20.0))
+    wider = gs.apply(narrow, gs.bandpass(0.1, 40.0))
+    assert wider.info["highpass"] == pytest.approx(narrow.info["highpass"])
+    assert wider.info["lowpass"] == pytest.approx(narrow.info["lowpass"])
+
+
+@pytest.mark.parametrize("curve", [gs.notch(50.0), gs.bandstop(45.0, 55.0)], ids=["notch", "bandstop"])
+def test_notch_and_bandstop_leave_info_alone(raw, curve):
+    out = gs.apply(raw, curve)
+    assert out.info["highpass"] == raw.info["highpass"]
+    assert out.info["lowpass"] == raw.info["lowpass"]
+
+
+def test_partial_picks_leave_info_alone(raw):
+    out = gs.apply(raw, CURVE, picks=["Fz"])
+    assert out.info["highpass"] == raw.info["highpass"]
+
+
+def test_edge_annotation_splits_segments(make_raw):
+    raw = make_raw(with_stim=False)
+    raw._data[:4, raw.n_times // 2 :] += 1e-3  # a jump where two recordings were joined
+    raw.set_annotations(mne.Annotations([raw.times[raw.n_times // 2]], [0.0], ["EDGE boundary"]))
+    out = gs.apply(raw, CURVE).get_data(picks="eeg")
+    half = raw.n_times // 2
+    first = gs.apply(raw.copy().crop(tmax=raw.times[half - 1]), CURVE).get_data(picks="eeg")
+    np.testing.assert_allclose(out[:, :half], first, atol=1e-15)
+
+
+def test_bad_acq_skip_span_left_unfiltered(make_raw):
+    raw = make_raw(with_stim=False)
+    onset, duration = 10.0, 2.0
+    raw.set_annotations(mne.Annotations([onset], [duration], ["BAD_ACQ_SKIP"]))
+    out = gs.apply(raw, CURVE)
+    span = slice(int(onset * 250), int((onset + duration) * 250))
+    np.testing.assert_array_equal(out.get_data()[:, span], raw.get_data()[:, span])
+
+
+def test_concatenated_raws_split_at_boundary(make_raw):
+    a, b = make_raw(seed=1, with_stim=False), make_raw(seed=2, with_stim=False)
+    joined = mne.concatenate_raws([a.copy(), b.copy()])
+    out = gs.apply(joined, CURVE).get_data()
+    np.testing.assert_allclose(out[:, : a.n_times], gs.apply(a, CURVE).get_data(), atol=1e-15)
+
+
+def test_unloaded_raw_is_loaded_on_the_copy(tmp_path, raw):
+    fname = tmp_path / "sim_raw.fif"
+    raw.save(fname)
+    unloaded = mne.io.read_raw_fif(fname, preload=False)
+    out = gs.apply(unloaded, CURVE)
+    assert not unloaded.preload
+    np.testing.assert_allclose(out.get_data(), gs.apply(raw, CURVE).get_data(), atol=1e-9)
+
+
+def test_epochs_loaded_and_filtered_like_arrays(raw):
+    events = mne.make_fixed_length_events(raw, duration=4.0)
+    epochs = mne.Epochs(raw, events, tmin=0.0, tmax=3.996, baseline=None, preload=False)
+    curve = gs.lowpass(20.0)
+    out = gs.apply(epochs, curve)
+    data = epochs.get_data()
+    expected = gs.apply(data, curve, sfreq=raw.info["sfreq"], picks=[0, 1, 2, 3])
+    np.testing.assert_allclose(out.get_data(), expected, atol=1e-15)
+    assert out.info["lowpass"] == pytest.approx(20.0, rel=1e-2)
+
+
+def test_epochs_too_short_for_kernel_warn_with_fix(raw):
+    events = mne.make_fixed_length_events(raw, duration=2.0)
+    epochs = mne.Epochs(raw, events, tmin=-0.2, tmax=0.8, baseline=None, preload=True)
+    with pytest.warns(gs.GainshapeWarning, match="Each epoch.*continuous recording"):
+        gs.apply(epochs, gs.highpass(0.1))
+
+
+def test_evoked(raw):
+    events = mne.make_fixed_length_events(raw, duration=2.0)
+    evoked = mne.Epochs(raw, events, tmin=-0.2, tmax=0.8, baseline=None).average()
+    out = gs.apply(evoked, gs.lowpass(15.0))
+    expected = gs.apply(evoked.data, gs.lowpass(15.0), sfreq=evoked.info["sfreq"])
+    np.testing.assert_allclose(out.data, expected)
+    assert out.info["lowpass"] == pytest.approx(15.0, rel=1e-2)
+
+
+def test_nan_split_on_raw(raw):
+    raw._data[:4, 1000:1100] = np.nan
+    with pytest.warns(gs.GainshapeWarning, match="0.000-4.000 s.*shorter"):
+        out = gs.apply(raw, CURVE, nan="split")
+    assert np.isnan(out.get_data(picks="eeg")[:, 1000:1100]).all()
+    assert np.isfinite(out.get_data(picks="eeg")[:, 1100:]).all()
+
+
+def test_design_reused(raw):
+    design = gs.design(CURVE, raw.info["sfreq"])
+    np.testing.assert_array_equal(gs.apply(raw, design).get_data(), gs.apply(raw, CURVE).get_data())

@@ -1,0 +1,114 @@
+"""Realization: lengths, tolerance, exact mode, characteristics, display."""
+
+import dataclasses
+import json
+
+import numpy as np
+import pytest
+
+import gainshape as gs
+
+SFREQ = 500.0
+
+
+def test_auto_length_is_shortest_within_tolerance():
+    curve = gs.highpass(0.5)
+    f = gs.design(curve, SFREQ)
+    assert f.characteristics.max_deviation <= f.tolerance
+    shorter = gs.design(curve, SFREQ, length=0.8 * f.characteristics.length, tolerance=0.5)
+    assert shorter.characteristics.max_deviation > f.tolerance
+
+
+def test_explicit_length_honoured_and_shortfall_warned():
+    with pytest.warns(gs.GainshapeWarning, match="length='auto'"):
+        f = gs.design(gs.highpass(0.5), SFREQ, length=1.0)
+    assert f.kernel.size == 501
+    assert f.characteristics.max_deviation > f.tolerance
+
+
+def test_tighter_tolerance_needs_longer_kernel():
+    loose = gs.design(gs.lowpass(30.0), SFREQ, tolerance=1e-2)
+    tight = gs.design(gs.lowpass(30.0), SFREQ, tolerance=1e-4)
+    assert tight.kernel.size > loose.kernel.size
+    assert tight.characteristics.max_deviation <= 1e-4
+
+
+def test_exact_mode_applies_request_on_record_grid():
+    f = gs.design(gs.lowpass(30.0), SFREQ, length=None)
+    spec = f.spectrum(1000)
+    np.testing.assert_array_equal(spec, gs.lowpass(30.0)(np.fft.rfftfreq(1000, 1 / SFREQ)))
+    assert f.characteristics.max_deviation == 0.0
+    assert f.support > 0
+
+
+def test_realized_gain_matches_fft_of_kernel():
+    f = gs.design(gs.bandpass(1.0, 40.0), SFREQ)
+    n = 8192
+    buf = np.zeros(n)
+    buf[: f.kernel.size] = f.kernel
+    fft_gain = np.abs(np.fft.rfft(np.roll(buf, -f.offset)))
+    freqs = np.fft.rfftfreq(n, 1 / SFREQ)
+    np.testing.assert_allclose(f.realized_gain(freqs), fft_gain, atol=1e-10)
+
+
+def test_kernel_is_read_only_and_design_frozen():
+    f = gs.design(gs.lowpass(30.0), SFREQ)
+    with pytest.raises(ValueError, match="read-only"):
+        f.kernel[0] = 1.0
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        f.sfreq = 1.0
+
+
+def test_times_centered_for_zero_phase_and_causal_for_minimum():
+    zero = gs.design(gs.lowpass(30.0), SFREQ)
+    assert zero.times[zero.offset] == 0.0 and zero.times[0] == -zero.times[-1]
+    minimum = gs.design(gs.lowpass(30.0), SFREQ, phase="minimum")
+    assert minimum.times[0] == 0.0
+
+
+@pytest.mark.parametrize(
+    ("curve", "kind"),
+    [(gs.lowpass(30.0), "low-pass"), (gs.highpass(1.0), "high-pass"),
+     (gs.bandpass(1.0, 30.0), "band-pass"), (gs.bandstop(20.0, 40.0), "band-stop"),
+     (gs.notch(50.0), "notch"), (gs.bandpass(1.0, 40.0) * gs.notch(50.0), "band-pass + notch"),
+     (gs.highpass(1.0) * gs.notch(50.0), "high-pass + notch")],
+    ids=["lp", "hp", "bp", "bs", "notch", "bp-notch", "hp-notch"],
+)
+def test_kind_derived_from_realized_gain(curve, kind):
+    assert gs.design(curve, SFREQ).characteristics.kind == kind
+
+
+def test_notch_harmonics_above_nyquist_dropped_with_note():
+    f = gs.design(gs.notch(50.0, harmonics=6), SFREQ)
+    assert len(f.notes) == 2 and "250 Hz" in f.notes[0] and "300 Hz" in f.notes[1]
+    assert ("note", f.notes[0]) in f.summary()
+    assert f.curve == gs.notch(50.0, harmonics=4)
+    assert f.realized_gain(249.0) > 0.99
+
+
+def test_characteristics_to_dict_is_json():
+    c = gs.design(gs.bandpass(1.0, 30.0), SFREQ, phase="minimum").characteristics
+    d = json.loads(json.dumps(c.to_dict()))
+    assert d["half_amplitude_direction"] == ["rising", "falling"]
+    assert d["group_delay"] > 0
+
+
+def test_ringing_grows_with_steeper_rolloff():
+    gentle = gs.design(gs.lowpass(30.0, rolloff=12.0), SFREQ).characteristics.ringing
+    steep = gs.design(gs.lowpass(30.0, rolloff=48.0), SFREQ).characteristics.ringing
+    assert steep > gentle > 0
+
+
+def test_repr_and_html():
+    f = gs.design(gs.lowpass(30.0), 1000.0)
+    assert repr(f) == (
+        "FilterDesign(low-pass; half-amplitude 30 Hz; roll-off 12.0 dB/octave; "
+        "zero phase; 0.135 s at 1000 Hz)"
+    )
+    html = f._repr_html_()
+    assert "<table>" in html and "half-amplitude" in html
+
+
+def test_spectrum_cached_per_size():
+    f = gs.design(gs.lowpass(30.0), SFREQ)
+    assert f.spectrum(4096) is f.spectrum(4096)

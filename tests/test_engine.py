@@ -1,0 +1,97 @@
+"""The array engine: shapes, dtypes, padding, segments, rows, NaN handling."""
+
+import numpy as np
+import pytest
+
+import gainshape as gs
+from gainshape.engine import PAD_MODES, filter_array
+
+SFREQ = 250.0
+DESIGN = gs.design(gs.bandpass(1.0, 30.0), SFREQ)
+
+
+@pytest.mark.parametrize("shape", [(5000,), (3, 5000), (2, 3, 5000)], ids=["1d", "2d", "3d"])
+def test_shape_kept_and_rows_filtered_independently(shape, rng):
+    x = rng.standard_normal(shape)
+    y = filter_array(x, DESIGN)
+    assert y.shape == x.shape
+    flat_x, flat_y = x.reshape(-1, 5000), y.reshape(-1, 5000)
+    for i in range(flat_x.shape[0]):
+        np.testing.assert_allclose(filter_array(flat_x[i], DESIGN), flat_y[i], atol=1e-12)
+
+
+def test_float32_stays_float32_and_close_to_float64(rng):
+    x = rng.standard_normal((4, 6000))
+    y32 = filter_array(x.astype(np.float32), DESIGN)
+    y64 = filter_array(x, DESIGN)
+    assert y32.dtype == np.float32
+    np.testing.assert_allclose(y32, y64, atol=2e-5)
+
+
+@pytest.mark.parametrize("pad", PAD_MODES)
+def test_every_pad_mode_runs_and_only_changes_edges(pad, rng):
+    x = rng.standard_normal((2, 8000))
+    y = filter_array(x, DESIGN, pad=pad)
+    ref = filter_array(x, DESIGN, pad="reflect")
+    middle = slice(DESIGN.support, 8000 - DESIGN.support)
+    np.testing.assert_allclose(y[:, middle], ref[:, middle], atol=1e-12)
+
+
+def test_rows_subset_leaves_others_bit_identical(rng):
+    x = rng.standard_normal((4, 5000))
+    y = filter_array(x, DESIGN, rows=[1, 3])
+    np.testing.assert_array_equal(y[[0, 2]], x[[0, 2]])
+    assert not np.allclose(y[1], x[1])
+
+
+def test_segments_are_filtered_independently(rng):
+    x = rng.standard_normal((1, 6000))
+    x[:, 3000:] += 100.0  # a jump at the boundary must not leak across
+    y = filter_array(x, DESIGN, segments=[(0, 3000), (3000, 6000)])
+    np.testing.assert_allclose(y[:, :3000], filter_array(x[:, :3000].copy(), DESIGN), atol=1e-12)
+    np.testing.assert_allclose(y[:, 3000:], filter_array(x[:, 3000:].copy(), DESIGN), atol=1e-12)
+
+
+def test_samples_outside_segments_unchanged(rng):
+    x = rng.standard_normal((1, 6000))
+    y = filter_array(x, DESIGN, segments=[(1000, 5000)])
+    np.testing.assert_array_equal(y[:, :1000], x[:, :1000])
+    np.testing.assert_array_equal(y[:, 5000:], x[:, 5000:])
+
+
+def test_in_place_output(rng):
+    x = rng.standard_normal((2, 5000))
+    expected = filter_array(x, DESIGN)
+    out = filter_array(x, DESIGN, out=x)
+    assert out is x
+    np.testing.assert_allclose(x, expected, atol=1e-12)
+
+
+def test_nan_raise_names_rows_before_work(rng):
+    x = rng.standard_normal((3, 5000))
+    x[2, 100] = np.nan
+    before = x.copy()
+    with pytest.raises(ValueError, match=r"O2 \(first at sample 100\)"):
+        filter_array(x, DESIGN, row_names=["O1", "Oz", "O2"], out=x)
+    np.testing.assert_array_equal(x, before)
+
+
+def test_nan_split_keeps_nan_and_filters_around(rng):
+    x = rng.standard_normal((2, 9000))
+    x[:, 4000:4100] = np.nan
+    y = filter_array(x, DESIGN, nan="split")
+    assert np.isnan(y[:, 4000:4100]).all()
+    assert np.isfinite(y[:, :4000]).all() and np.isfinite(y[:, 4100:]).all()
+    np.testing.assert_allclose(y[:, :4000], filter_array(x[:, :4000].copy(), DESIGN), atol=1e-12)
+
+
+def test_short_segment_warns_with_numbers(rng):
+    x = rng.standard_normal((1, 6000))
+    design = gs.design(gs.highpass(0.2), SFREQ)
+    with pytest.warns(gs.GainshapeWarning, match=r"\(100 samples, 0.4 s\) is shorter"):
+        filter_array(x, design, segments=[(0, 100), (100, 6000)])
+
+
+def test_progress_bar_silent_when_not_verbose(capsys, rng):
+    filter_array(rng.standard_normal((2, 3000)), DESIGN, verbose=False)
+    assert capsys.readouterr().err == ""
