@@ -15,7 +15,7 @@ from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.interpolate import PchipInterpolator
+from scipy.interpolate import CubicHermiteSpline, PchipInterpolator
 
 from ._checks import check_int, check_option, check_positive, warn
 
@@ -97,7 +97,7 @@ class GainCurve:
         --------
         >>> g = GainCurve.from_points([1, 2, 40, 60], [0, 1, 1, 0])
         >>> [round(float(v), 3) for v in g([0.5, 2.0, 30.0, 50.0, 80.0])]
-        [0.0, 1.0, 1.0, 0.668, 0.0]
+        [0.0, 1.0, 1.0, 0.5, 0.0]
         """
         freq_scale = check_option("freq_scale", freq_scale, ("linear", "log"))
         gain_scale = check_option("gain_scale", gain_scale, ("linear", "db"))
@@ -395,8 +395,15 @@ def _notch_func(freq, width, harmonics, rolloff):
 
 
 def _points_func(f, g, freq_scale, gain_scale):
+    """PCHIP through the points with zero slope at both ends.
+
+    Zero end slopes keep the Fritsch-Carlson monotonicity conditions and join
+    the flat extension smoothly; a kink there would need a far longer kernel.
+    """
     x = np.log(f) if freq_scale == "log" else f
-    interp = PchipInterpolator(x, g, extrapolate=False)
+    slopes = PchipInterpolator(x, g).derivative()(x)
+    slopes[[0, -1]] = 0.0
+    interp = CubicHermiteSpline(x, g, slopes, extrapolate=False)
 
     def func(freqs):
         fq = np.clip(freqs, f[0], f[-1])

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["plot_design"]
+__all__ = ["plot_design", "plot_spectrum_pair", "plot_erp_pair"]
 
 _REQUESTED_STYLE = dict(color="0.35", linestyle="--", linewidth=1.2, label="requested")
 _REALIZED_STYLE = dict(color="C0", linewidth=1.8, label="realized")
@@ -79,12 +79,69 @@ def plot_design(design, *, fmin=None, show=True):
     return fig
 
 
+def plot_spectrum_pair(freqs, before, after, *, show=True):
+    """Power spectra before and after filtering, in dB, on a log-frequency axis.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> f = np.linspace(0.25, 125, 500)
+    >>> fig = plot_spectrum_pair(f, 1 / f, 0.5 / f, show=False)
+    >>> fig.axes[0].get_xscale()
+    'log'
+    """
+    import matplotlib.pyplot as plt
+
+    keep = freqs > 0
+    fig, ax = plt.subplots(figsize=(8, 4), layout="constrained")
+    ax.semilogx(freqs[keep], _power_db(before[keep]), color="0.45", label="before")
+    ax.semilogx(freqs[keep], _power_db(after[keep]), color="C0", label="after")
+    ax.set_xlabel("frequency (Hz)")
+    ax.set_ylabel("power (dB re 1 V²/Hz)")
+    ax.grid(True, which="both", alpha=0.3)
+    ax.legend(loc="best", fontsize="small")
+    if show:
+        plt.show()
+    return fig
+
+
+def plot_erp_pair(times, before, after, *, label="amplitude", show=True):
+    """One channel's average waveform before and after filtering.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> t = np.linspace(-0.2, 0.8, 300)
+    >>> fig = plot_erp_pair(t, np.sin(t), 0.9 * np.sin(t), show=False)
+    >>> len(fig.axes[0].get_lines()) >= 2
+    True
+    """
+    import matplotlib.pyplot as plt
+
+    fig, ax = plt.subplots(figsize=(8, 4), layout="constrained")
+    ax.plot(times, before, color="0.45", label="before")
+    ax.plot(times, after, color="C0", label="after")
+    ax.axvline(0.0, color="0.5", linewidth=0.8)
+    ax.axhline(0.0, color="0.5", linewidth=0.8)
+    ax.set_xlabel("time (s)")
+    ax.set_ylabel(label)
+    ax.grid(True, alpha=0.3)
+    ax.legend(loc="best", fontsize="small")
+    if show:
+        plt.show()
+    return fig
+
+
 def design_frequencies(design, fmin=None) -> np.ndarray:
     """Log-spaced frequencies from ``fmin`` to Nyquist for gain plots."""
     edges = [float(e) for e in design.characteristics.half_amplitude]
     if fmin is None:
         fmin = min(edges) / 10 if edges else 0.1
     return np.geomspace(fmin, design.sfreq / 2.0, 2000)
+
+
+def _power_db(power):
+    return 10 * np.log10(np.maximum(power, 1e-300))
 
 
 def _to_db(gain):
