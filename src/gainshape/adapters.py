@@ -11,12 +11,13 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._checks import check_option
+from ._checks import check_option, warn
 from .curves import GainCurve
 from .design import FilterDesign, design
 from .engine import PAD_MODES, check_finite, filter_array
+from .provenance import fingerprint, make_step, store_step
 
-__all__ = ["apply"]
+__all__ = ["apply", "replay"]
 
 _BOUNDARY_PREFIXES = ("edge", "bad_acq_skip")
 _NEVER_FILTERED = ("stim",)
@@ -39,6 +40,7 @@ def apply(
     nan: str = "raise",
     n_jobs: int = 1,
     copy: bool = True,
+    return_step: bool = False,
     verbose=None,
 ):
     """Filter a Raw, Epochs, Evoked or array with a gain curve or design.
@@ -69,15 +71,20 @@ def apply(
     copy : bool
         True: return a filtered copy and leave ``inst`` untouched. False:
         filter in place and return ``inst`` itself.
+    return_step : bool
+        Also return the step record (a dict). MNE objects keep it in their
+        history anyway (see :func:`gainshape.history`); arrays have nowhere
+        to keep it, so this is how to get theirs.
     verbose : bool | None
         Show a progress bar for long work (None: only when long).
 
     Returns
     -------
-    Same type as ``inst``
+    Same type as ``inst`` (and the step dict if ``return_step``)
         For MNE objects, ``info["highpass"]``/``info["lowpass"]`` are set
         from the realized half-amplitude cutoffs (never loosened) when the
-        picks cover every data channel.
+        picks cover every data channel, and the step is appended to the
+        history in ``info["description"]``.
 
     Examples
     --------
@@ -95,8 +102,9 @@ def apply(
     check_option("nan", nan, ("raise", "split"))
     check_option("pad", pad, PAD_MODES)
     if isinstance(inst, np.ndarray):
-        return _apply_array(inst, filt, sfreq, picks, pad, phase, length, tolerance,
-                            nan, n_jobs, copy, verbose)
+        out, step = _apply_array(inst, filt, sfreq, picks, pad, phase, length, tolerance,
+                                 nan, n_jobs, copy, verbose)
+        return (out, step) if return_step else out
     kind = _mne_kind(inst)
     if sfreq is not None and float(sfreq) != inst.info["sfreq"]:
         raise ValueError(
@@ -114,6 +122,8 @@ def apply(
         inst.load_data()
     data = inst._data if kind != "evoked" else inst.data
     rows, segments = _rows_and_segments(inst, kind, idx, data)
+    flat = data.reshape(-1, data.shape[-1])
+    before = fingerprint(flat, rows)
     filter_array(
         data, filt, pad=pad, segments=segments, nan=nan, n_jobs=n_jobs, rows=rows,
         out=data, row_names=names, verbose=verbose,
@@ -121,7 +131,12 @@ def apply(
         short_hint=_EPOCH_HINT if kind == "epochs" else "",
     )
     _update_info(inst, idx, filt)
-    return inst
+    seconds = None if segments is None else [
+        [a / filt.sfreq, b / filt.sfreq] for a, b in segments]
+    step = make_step(filt, channels=names, pad=pad, nan=nan, segments=seconds,
+                     dtype=str(data.dtype), before=before, after=fingerprint(flat, rows))
+    store_step(inst.info, step)
+    return (inst, step) if return_step else inst
 
 
 def _apply_array(data, filt, sfreq, picks, pad, phase, length, tolerance, nan,
@@ -136,10 +151,17 @@ def _apply_array(data, filt, sfreq, picks, pad, phase, length, tolerance, nan,
     channels = np.arange(n_ch) if picks is None else np.arange(n_ch)[picks]
     n_lead = int(np.prod(data.shape[:-2])) if data.ndim >= 2 else 1
     rows = (np.arange(n_lead)[:, None] * n_ch + np.atleast_1d(channels)[None, :]).ravel()
-    return filter_array(
+    flat = data.reshape(-1, data.shape[-1])
+    before = fingerprint(flat, rows)
+    out = filter_array(
         data, filt, pad=pad, nan=nan, n_jobs=n_jobs, rows=rows,
         out=None if copy else data, verbose=verbose,
     )
+    step = make_step(filt, channels=[f"row {c}" for c in np.atleast_1d(channels)], pad=pad,
+                     nan=nan, segments=None, dtype=str(data.dtype), before=before,
+                     after=fingerprint(out.reshape(-1, out.shape[-1]), rows))
+    step["application"]["rows"] = [int(c) for c in np.atleast_1d(channels)]
+    return out, step
 
 
 def _realize(filt, sfreq, phase, length, tolerance) -> FilterDesign:
@@ -245,3 +267,49 @@ def _update_info(inst, idx, filt):
             inst.info["highpass"] = max(float(inst.info["highpass"] or 0.0), highpass)
         if lowpass is not None:
             inst.info["lowpass"] = min(float(inst.info["lowpass"]), lowpass)
+
+
+def replay(steps, inst, *, n_jobs: int = 1, verbose=None):
+    """Re-apply recorded steps, in order, to unfiltered data.
+
+    Parameters
+    ----------
+    steps : list of dict
+        Steps from :func:`gainshape.history` (or ``apply(..., return_step=True)``).
+    inst : mne.io.Raw | mne.Epochs | mne.Evoked | ndarray
+        The data as they were before the first step; left untouched.
+
+    Returns
+    -------
+    A filtered copy of ``inst``. A warning says if the input's or the
+    result's fingerprint differs from the recorded one.
+
+    Examples
+    --------
+    >>> import numpy as np, gainshape as gs
+    >>> x = np.random.default_rng(0).standard_normal((2, 2000))
+    >>> y, step = gs.apply(x, gs.lowpass(20.0), sfreq=250.0, return_step=True)
+    >>> np.array_equal(gs.replay([step], x), y)
+    True
+    """
+    out = inst
+    for number, step in enumerate(steps, start=1):
+        curve_record, d, a = step.get("curve", {}), step["design"], step["application"]
+        if curve_record.get("reproducible") is False:
+            raise ValueError(
+                f"Step {number} ({curve_record.get('description')}) was built from a "
+                "callable and cannot be replayed; rebuild it with GainCurve.from_points."
+            )
+        curve = GainCurve.from_dict(curve_record)
+        is_array = isinstance(out, np.ndarray)
+        picks = a.get("rows") if is_array else step["channels"]
+        out, new = apply(
+            out, curve, sfreq=d["sfreq"] if is_array else None, picks=picks, pad=a["pad"],
+            phase=d["phase"], length=d["length"], tolerance=d["tolerance"], nan=a["nan"],
+            n_jobs=n_jobs, copy=True, return_step=True, verbose=verbose,
+        )
+        for key, what in (("fingerprint_before", "input"), ("fingerprint_after", "result")):
+            if new[key] != step.get(key):
+                warn(f"Step {number}: the {what} differs from the recorded one "
+                     f"(fingerprint {new[key][:19]}... vs {str(step.get(key))[:19]}...).")
+    return out

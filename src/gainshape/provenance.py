@@ -1,0 +1,356 @@
+"""A record of every filter, kept with the data, and what it turns into.
+
+Vocabulary: a *step* is the JSON-serializable record of one application of a
+filter; the *history* is the ordered list of steps on an object. Steps are
+stored in ``info["description"]`` below a marker line, one JSON object per
+line, after whatever text the user had there, because MNE keeps that field
+through ``copy``, ``crop``, ``pick``, epoching, averaging, concatenation and
+FIF saving. A *fingerprint* is a SHA-256 hash of the filtered channels' data.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import hashlib
+import html
+import json
+import platform
+import uuid
+
+import numpy as np
+
+from ._checks import warn
+
+__all__ = [
+    "History",
+    "bids_filters",
+    "fingerprint",
+    "history",
+    "make_step",
+    "methods_text",
+    "store_step",
+    "write_bids_filters",
+]
+
+_BEGIN = "[gainshape history v1: one JSON step per line below; do not edit]"
+_END = "[end of gainshape history]"
+_STEP_FORMAT = "gainshape.step"
+
+
+class History(list):
+    """The ordered steps on an object: a list of dicts with a table view.
+
+    Examples
+    --------
+    >>> History([]).__repr__()
+    'History(0 steps)'
+    """
+
+    def __repr__(self):
+        lines = [f"History({len(self)} step{'s' if len(self) != 1 else ''})"]
+        lines += [f"  {i + 1}. {_one_line(step)}" for i, step in enumerate(self)]
+        return "\n".join(lines)
+
+    def _repr_html_(self):
+        head = "".join(f"<th>{h}</th>" for h in
+                       ("#", "time (UTC)", "filter", "half-amplitude (Hz)", "roll-off (dB/oct)",
+                        "phase", "channels"))
+        rows = []
+        for i, step in enumerate(self):
+            r = step.get("realized", {})
+            chans = step.get("channels", [])
+            cells = (
+                str(i + 1),
+                step.get("time", "?")[:19].replace("T", " "),
+                r.get("kind", "?"),
+                ", ".join(f"{v:.3g}" for v in r.get("half_amplitude", [])),
+                ", ".join(f"{v:.1f}" for v in r.get("rolloff", [])),
+                step.get("design", {}).get("phase", "?"),
+                f"{len(chans)} ({', '.join(chans[:3])}{', ...' if len(chans) > 3 else ''})",
+            )
+            rows.append("<tr>" + "".join(f"<td>{html.escape(c)}</td>" for c in cells) + "</tr>")
+        return f"<table><tr>{head}</tr>{''.join(rows)}</table>"
+
+
+def make_step(design, *, channels, pad, nan, segments, dtype, before, after) -> dict:
+    """The record of one application (see :func:`gainshape.apply`).
+
+    Parameters
+    ----------
+    design : FilterDesign
+    channels : list of str
+        Names of the filtered channels (rows, for arrays).
+    pad, nan : str
+        The padding mode and non-finite handling used.
+    segments : list of (float, float)
+        Segment starts and stops in seconds (None: whole records).
+    dtype : str
+        The data's dtype.
+    before, after : str
+        Fingerprints of the filtered channels before and after.
+    """
+    curve = design.curve
+    try:
+        curve_record = curve.to_dict()
+    except ValueError:
+        curve_record = {"reproducible": False, "description": curve.describe(),
+                        "reason": "built from a callable"}
+    return {
+        "format": _STEP_FORMAT,
+        "id": uuid.uuid4().hex,
+        "time": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
+        "software": software_versions(),
+        "curve": curve_record,
+        "design": {
+            "sfreq": design.sfreq,
+            "phase": design.phase,
+            "length": design.length_request,
+            "tolerance": design.tolerance,
+            "kernel_samples": int(design.kernel.size),
+            "notes": list(design.notes),
+        },
+        "realized": design.characteristics.to_dict(),
+        "application": {"pad": pad, "nan": nan, "segments": segments, "dtype": dtype},
+        "channels": list(channels),
+        "fingerprint_before": before,
+        "fingerprint_after": after,
+    }
+
+
+def software_versions() -> dict:
+    """Versions of gainshape, NumPy, SciPy, MNE-Python and Python."""
+    import mne
+    import scipy
+
+    from . import __version__
+
+    return {"gainshape": __version__, "numpy": np.__version__, "scipy": scipy.__version__,
+            "mne": mne.__version__, "python": platform.python_version()}
+
+
+def fingerprint(rows: np.ndarray, picked) -> str:
+    """SHA-256 of the picked rows (of a 2-D view), their dtype and shape.
+
+    Examples
+    --------
+    >>> x = np.zeros((2, 4))
+    >>> fingerprint(x, [0]) == fingerprint(x.copy(), [0])
+    True
+    """
+    h = hashlib.sha256(f"{rows.dtype.str}|{len(picked)}x{rows.shape[-1]}".encode())
+    for r in picked:
+        h.update(np.ascontiguousarray(rows[r]).tobytes())
+    return "sha256:" + h.hexdigest()
+
+
+def store_step(info, step: dict) -> None:
+    """Append ``step`` to the history kept in ``info["description"]``."""
+    user_text, lines = _split_description(info.get("description"))
+    lines.append(json.dumps(step, separators=(",", ":")))
+    block = "\n".join([_BEGIN, *lines, _END])
+    info["description"] = f"{user_text}\n\n{block}" if user_text else block
+
+
+def history(inst) -> History:
+    """The filter steps recorded on an MNE object, oldest first.
+
+    Damaged or hand-edited lines are skipped with a warning.
+
+    Examples
+    --------
+    >>> import mne
+    >>> info = mne.create_info(["Cz"], 250.0, "eeg")
+    >>> raw = mne.io.RawArray(np.zeros((1, 500)), info, verbose=False)
+    >>> history(raw)
+    History(0 steps)
+    """
+    info = getattr(inst, "info", None)
+    if info is None:
+        raise TypeError(
+            f"{type(inst).__name__} objects carry no history; for arrays, call "
+            "gainshape.apply(..., return_step=True) to get the step record."
+        )
+    _, lines = _split_description(info.get("description"))
+    steps = History()
+    for number, line in enumerate(lines, start=1):
+        try:
+            step = json.loads(line)
+            if not isinstance(step, dict) or step.get("format") != _STEP_FORMAT:
+                raise ValueError("not a gainshape step")
+        except ValueError as err:
+            warn(f"Skipped damaged history line {number} ({err}): {line[:60]!r}")
+            continue
+        steps.append(step)
+    return steps
+
+
+def methods_text(inst) -> str:
+    """A methods-section paragraph describing every filter step in order.
+
+    Covers the items of the reporting checklist of Widmann, Schroeger & Maess
+    (2015, J Neurosci Methods 250:34-46): filter type and family, cutoffs and
+    their definition, roll-off, passband ripple and stopband attenuation,
+    causality and delay, length, padding, and software versions.
+    """
+    steps = history(inst)
+    if not steps:
+        return "No gainshape filter has been applied to these data."
+    sw = steps[-1].get("software", {})
+    opening = (
+        f"Data were filtered with gainshape {sw.get('gainshape', '?')} "
+        f"(NumPy {sw.get('numpy', '?')}, SciPy {sw.get('scipy', '?')}, "
+        f"MNE-Python {sw.get('mne', '?')})"
+    )
+    if len(steps) == 1:
+        return f"{opening}. {_step_sentences(steps[0])}"
+    parts = [f"({i + 1}) {_step_sentences(s)}" for i, s in enumerate(steps)]
+    return f"{opening} in {len(steps)} steps, applied in this order. " + " ".join(parts)
+
+
+def bids_filters(inst) -> dict | str:
+    """The BIDS EEG sidecar ``SoftwareFilters`` object for the recorded steps.
+
+    An object of objects (filter name -> parameters, units in the keys), or
+    "n/a" when no filter was applied, as the BIDS specification allows.
+    """
+    steps = history(inst)
+    if not steps:
+        return "n/a"
+    out = {}
+    for i, step in enumerate(steps, start=1):
+        r, d = step.get("realized", {}), step.get("design", {})
+        out[f"gainshape step {i}: {r.get('kind', 'filter')}"] = {
+            "half-amplitude cutoff (Hz)": _rounded(r.get("half_amplitude", []), 4),
+            "half-power cutoff (Hz)": _rounded(r.get("half_power", []), 4),
+            "roll-off (dB/octave)": _rounded(r.get("rolloff", []), 3),
+            "passband ripple (dB)": _round_sig(r.get("passband_ripple_db"), 3),
+            "stopband attenuation (dB)": _round_sig(r.get("stopband_attenuation_db"), 3),
+            "phase": d.get("phase", "n/a"),
+            "group delay (s)": _round_sig(r.get("group_delay"), 3),
+            "kernel length (s)": _round_sig(r.get("length"), 4),
+            "sampling frequency (Hz)": d.get("sfreq", "n/a"),
+            "design": "frequency-sampled FIR from a gain curve, tapered truncation",
+            "software": f"gainshape {step.get('software', {}).get('gainshape', '?')}",
+        }
+    return out
+
+
+def write_bids_filters(bids_path, inst) -> None:
+    """Write :func:`bids_filters` into a BIDS dataset's ``*_eeg.json`` (needs mne-bids).
+
+    ``bids_path`` is an ``mne_bids.BIDSPath`` of the recording.
+    """
+    try:
+        from mne_bids import update_sidecar_json
+    except ImportError:
+        raise ImportError(
+            "write_bids_filters needs mne-bids: pip install 'gainshape[bids]'."
+        ) from None
+    sidecar = bids_path.copy().update(suffix=bids_path.datatype or "eeg", extension=".json")
+    if not sidecar.fpath.exists():
+        raise ValueError(f"The 'bids_path' sidecar {sidecar.fpath} does not exist.")
+    update_sidecar_json(sidecar, {"SoftwareFilters": bids_filters(inst)})
+
+
+# -- helpers --------------------------------------------------------------------
+def _split_description(description):
+    """(user text, step lines) of a description that may hold a history block."""
+    text = description or ""
+    if _BEGIN not in text:
+        return text, []
+    before, _, rest = text.partition(_BEGIN)
+    block, _, after = rest.partition(_END)
+    user = (before.rstrip("\n") + ("\n" + after.strip("\n") if after.strip() else "")).strip("\n")
+    return user, [line for line in block.split("\n") if line.strip()]
+
+
+def _one_line(step) -> str:
+    r = step.get("realized", {})
+    cut = ", ".join(f"{v:.3g}" for v in r.get("half_amplitude", []))
+    return (f"{step.get('time', '?')} {r.get('kind', '?')} ({cut} Hz), "
+            f"{step.get('design', {}).get('phase', '?')} phase, "
+            f"{len(step.get('channels', []))} channels")
+
+
+def _step_sentences(step) -> str:
+    r, d, a = step.get("realized", {}), step.get("design", {}), step.get("application", {})
+    phase = d.get("phase", "zero")
+    family = "zero-phase (non-causal)" if phase == "zero" else "minimum-phase (causal)"
+    channels = step.get("channels", [])
+    curve = step.get("curve", {})
+    request = (
+        "drawn as a gain curve from a function" if curve.get("reproducible") is False
+        else f"requested as the gain curve '{_curve_words(curve.get('curve', {}))}'"
+    )
+    text = [
+        f"A {family} {r.get('kind', 'custom-shape')} FIR filter, {request}, was applied to "
+        f"{len(channels)} channel{'s' if len(channels) != 1 else ''} by multiplying the "
+        "Fourier transform of the padded data by the filter's frequency response.",
+        _edge_sentence(r),
+    ]
+    details = [f"passband ripple {r.get('passband_ripple_db', float('nan')):.2g} dB"]
+    if np.isfinite(r.get("stopband_attenuation_db", float("nan"))):
+        details.append(f"stopband attenuation {r['stopband_attenuation_db']:.0f} dB")
+    details.append(f"a largest gain deviation from the request of {r.get('max_deviation', 0):.2g}")
+    text.append("It had " + ", ".join(details) + ".")
+    length = (
+        "The filter was applied exactly on each record's frequency grid (no kernel "
+        f"truncation; impulse response support {r.get('length', 0):.3g} s)"
+        if d.get("length", "auto") is None else
+        f"The kernel was {r.get('length', 0):.3g} s long ({d.get('kernel_samples', 0)} "
+        f"samples at {d.get('sfreq', float('nan')):g} Hz)"
+    )
+    delay = ("introduced no delay" if phase == "zero" else
+             f"delayed the passband by {1000 * r.get('group_delay', 0):.3g} ms on average")
+    text.append(f"{length} and {delay}.")
+    text.append(f"Each continuous segment was padded at both ends ({a.get('pad', 'reflect')} "
+                "mode of numpy.pad) by at least the kernel's half-length.")
+    return " ".join(text)
+
+
+def _edge_sentence(r) -> str:
+    """Cutoffs of the pass-band edges (with roll-off) and the stop bands between."""
+    edges = list(zip(r.get("half_amplitude", []), r.get("half_amplitude_direction", [])))
+    power = list(r.get("half_power", []))
+    slopes = list(r.get("rolloff", []))
+    if not edges:
+        return "The realized gain did not cross 0.5 (no half-amplitude cutoff)."
+    outer = []
+    if edges[0][1] == "rising":
+        outer.append((0, "high-pass"))
+    if edges[-1][1] == "falling" and len(edges) - 1 not in [i for i, _ in outer]:
+        outer.append((len(edges) - 1, "low-pass"))
+    parts = []
+    for i, name in outer:
+        hp = f", half-power {power[i]:.3g} Hz" if i < len(power) and len(power) == len(edges) else ""
+        slope = f", roll-off {slopes[i]:.1f} dB/octave" if i < len(slopes) else ""
+        parts.append(f"{name} half-amplitude (-6 dB) cutoff {edges[i][0]:.3g} Hz{hp}{slope}")
+    inner_idx = [i for i in range(len(edges)) if i not in [j for j, _ in outer]]
+    stops = [f"{edges[i][0]:.4g}-{edges[j][0]:.4g}" for i, j in zip(inner_idx[::2], inner_idx[1::2])]
+    if stops:
+        parts.append("stop band" + ("s" if len(stops) > 1 else "") + " between half-amplitude "
+                     "points at " + _and_list(stops) + " Hz")
+    return "The realized filter had " + "; ".join(parts) + "."
+
+
+def _and_list(items) -> str:
+    return " and ".join(items) if len(items) <= 2 else ", ".join(items[:-1]) + " and " + items[-1]
+
+
+def _curve_words(recipe) -> str:
+    from .curves import GainCurve
+
+    try:
+        return GainCurve.from_dict({"format": "gainshape.GainCurve", "curve": recipe}).describe()
+    except (ValueError, KeyError, TypeError):
+        return "unreadable"
+
+
+def _round_sig(value, digits):
+    if value is None or not np.isfinite(value):
+        return "n/a"
+    return float(f"{value:.{digits}g}")
+
+
+def _rounded(values, digits):
+    return [_round_sig(v, digits) for v in values]

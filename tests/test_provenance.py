@@ -1,0 +1,183 @@
+"""Provenance: records survive MNE workflows and become text and BIDS metadata."""
+
+import json
+
+import mne
+import numpy as np
+import pytest
+
+import gainshape as gs
+
+BANDPASS = gs.bandpass(0.5, 30.0)
+NOTCH = gs.notch(50.0, harmonics=2)
+
+
+@pytest.fixture
+def filtered(raw):
+    raw.info["description"] = "Pilot session; cap size 56."
+    return gs.apply(gs.apply(raw, BANDPASS), NOTCH)
+
+
+def _kinds(inst):
+    return [step["realized"]["kind"] for step in gs.history(inst)]
+
+
+def test_step_record_contents(raw):
+    out, step = gs.apply(raw, BANDPASS, return_step=True)
+    assert json.loads(json.dumps(step)) == step
+    assert step["curve"] == BANDPASS.to_dict()
+    assert set(step["software"]) >= {"gainshape", "numpy", "scipy", "mne"}
+    assert step["channels"] == ["Fz", "Cz", "Pz", "Oz"]
+    assert step["time"].endswith("+00:00")
+    assert step["fingerprint_before"] != step["fingerprint_after"]
+    realized = gs.design(BANDPASS, raw.info["sfreq"]).characteristics
+    assert step["realized"]["half_amplitude"] == pytest.approx([float(e) for e in realized.half_amplitude])
+    assert gs.history(out) == [step]
+
+
+def test_callable_curve_marked_not_reproducible(raw):
+    _, step = gs.apply(raw, gs.GainCurve(lambda f: np.exp(-f / 30.0)), return_step=True)
+    assert step["curve"]["reproducible"] is False
+
+
+def test_two_steps_keep_order_and_user_text(filtered):
+    assert _kinds(filtered) == ["band-pass", "notch"]
+    assert filtered.info["description"].startswith("Pilot session; cap size 56.")
+
+
+def test_input_history_untouched(raw, filtered):
+    assert gs.history(raw) == []
+
+
+@pytest.mark.parametrize(
+    "operation",
+    [lambda r: r.copy(), lambda r: r.copy().crop(tmax=10.0), lambda r: r.copy().pick(["Fz", "Cz"]),
+     lambda r: r.copy().drop_channels(["Oz"]), lambda r: r.copy().resample(125.0)],
+    ids=["copy", "crop", "pick", "drop_channels", "resample"],
+)
+def test_history_survives_operations(filtered, operation):
+    assert gs.history(operation(filtered)) == gs.history(filtered)
+
+
+def test_history_survives_raw_fif(filtered, tmp_path):
+    filtered.save(tmp_path / "f_raw.fif")
+    back = mne.io.read_raw_fif(tmp_path / "f_raw.fif")
+    assert gs.history(back) == gs.history(filtered)
+    assert back.info["description"].startswith("Pilot session")
+
+
+def test_history_survives_epochs_and_evoked(filtered, tmp_path):
+    events = mne.make_fixed_length_events(filtered, duration=2.0)
+    epochs = mne.Epochs(filtered, events, tmin=0.0, tmax=1.0, baseline=None, preload=True)
+    assert gs.history(epochs) == gs.history(filtered)
+    epochs.save(tmp_path / "f-epo.fif")
+    assert gs.history(mne.read_epochs(tmp_path / "f-epo.fif")) == gs.history(filtered)
+    evoked = epochs.average()
+    assert gs.history(evoked) == gs.history(filtered)
+    mne.write_evokeds(tmp_path / "f-ave.fif", evoked)
+    assert gs.history(mne.read_evokeds(tmp_path / "f-ave.fif")[0]) == gs.history(filtered)
+
+
+def test_epochs_and_evoked_steps_are_recorded(raw):
+    events = mne.make_fixed_length_events(raw, duration=2.0)
+    epochs = mne.Epochs(raw, events, tmin=0.0, tmax=1.996, baseline=None, preload=True)
+    assert _kinds(gs.apply(epochs, gs.lowpass(20.0))) == ["low-pass"]
+    assert _kinds(gs.apply(epochs.average(), gs.lowpass(20.0))) == ["low-pass"]
+
+
+def test_history_survives_concatenation(make_raw):
+    parts = [gs.apply(make_raw(seed=s), BANDPASS) for s in (1, 2)]
+    joined = mne.concatenate_raws(parts)
+    assert _kinds(joined) == ["band-pass"]
+
+
+def test_damaged_record_warns_and_keeps_readable_steps(filtered):
+    text = filtered.info["description"]
+    lines = text.split("\n")
+    first_step = next(i for i, line in enumerate(lines) if line.startswith("{"))
+    lines[first_step] = lines[first_step][:40]  # a truncated hand edit
+    filtered.info["description"] = "\n".join(lines)
+    with pytest.warns(gs.GainshapeWarning, match="damaged history line 1"):
+        steps = gs.history(filtered)
+    assert [s["realized"]["kind"] for s in steps] == ["notch"]
+
+
+def test_history_of_array_explains_return_step():
+    with pytest.raises(TypeError, match="return_step=True"):
+        gs.history(np.zeros((2, 10)))
+
+
+def test_history_html_table(filtered):
+    html = gs.history(filtered)._repr_html_()
+    assert html.count("<tr>") == 3 and "band-pass" in html and "notch" in html
+
+
+def test_methods_text_reports_every_step_with_realized_numbers(filtered):
+    text = gs.methods_text(filtered)
+    steps = gs.history(filtered)
+    bp = steps[0]["realized"]
+    assert "in 2 steps" in text and text.index("band-pass") < text.index("notch")
+    assert f"{bp['half_amplitude'][0]:.3g} Hz" in text and f"{bp['half_amplitude'][1]:.3g} Hz" in text
+    assert f"{bp['rolloff'][0]:.1f} dB/octave" in text
+    assert "zero-phase" in text and "stop bands" in text and "reflect" in text
+    assert f"MNE-Python {mne.__version__}" in text
+
+
+def test_methods_text_minimum_phase_reports_delay(raw):
+    out = gs.apply(raw, gs.lowpass(20.0), phase="minimum")
+    delay = gs.history(out)[0]["realized"]["group_delay"]
+    assert f"delayed the passband by {1000 * delay:.3g} ms" in gs.methods_text(out)
+
+
+def test_bids_filters_shape(filtered):
+    # BIDS EEG sidecar: SoftwareFilters is "n/a" or an object of objects
+    # (BIDS specification, Modality specific files: EEG, sidecar JSON).
+    sf = gs.bids_filters(filtered)
+    assert isinstance(sf, dict) and len(sf) == 2
+    for name, params in sf.items():
+        assert isinstance(name, str) and isinstance(params, dict)
+        assert any("(Hz)" in key for key in params)
+        for value in params.values():
+            assert isinstance(value, (str, float, int, list))
+    json.dumps(sf)
+
+
+def test_bids_filters_na_without_steps(raw):
+    assert gs.bids_filters(raw) == "n/a"
+
+
+@pytest.mark.filterwarnings("ignore:No events found:RuntimeWarning")
+def test_write_bids_filters_updates_sidecar(raw, filtered, tmp_path):
+    mne_bids = pytest.importorskip("mne_bids")
+    raw = raw.copy().pick(["Fz", "Cz", "Pz", "Oz", "EOG1", "STI 014"])
+    raw.info["line_freq"] = 50.0
+    path = mne_bids.BIDSPath(subject="01", task="tones", datatype="eeg", root=tmp_path)
+    mne_bids.write_raw_bids(raw, path, format="BrainVision", allow_preload=True, verbose=False)
+    gs.write_bids_filters(path, filtered)
+    sidecar = path.copy().update(suffix="eeg", extension=".json")
+    content = json.loads(sidecar.fpath.read_text())
+    assert content["SoftwareFilters"] == gs.bids_filters(filtered)
+    assert content["TaskName"] == "tones"
+
+
+def test_replay_reproduces_fingerprint(raw, filtered):
+    steps = gs.history(filtered)
+    again = gs.replay(steps, raw)
+    np.testing.assert_array_equal(again.get_data(), filtered.get_data())
+    assert [s["fingerprint_after"] for s in gs.history(again)] == [s["fingerprint_after"] for s in steps]
+
+
+def test_replay_warns_on_different_input(raw, filtered, make_raw):
+    other = make_raw(seed=99)
+    with pytest.warns(gs.GainshapeWarning) as record:
+        gs.replay(gs.history(filtered)[:1], other)
+    messages = [str(w.message) for w in record]
+    assert any("input differs" in m for m in messages)
+    assert any("result differs" in m for m in messages)
+
+
+def test_replay_array_step():
+    x = np.random.default_rng(0).standard_normal((3, 2000))
+    y, step = gs.apply(x, gs.lowpass(20.0), sfreq=250.0, picks=[0, 2], return_step=True)
+    np.testing.assert_array_equal(gs.replay([step], x), y)
+    assert step["application"]["rows"] == [0, 2]
