@@ -9,15 +9,17 @@ recordings.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 from ._checks import check_option, warn
 from .curves import GainCurve
 from .design import FilterDesign, design
 from .engine import PAD_MODES, check_finite, filter_array
-from .provenance import fingerprint, make_step, store_step
+from .provenance import fingerprint, history, make_step, store_step
 
-__all__ = ["apply", "replay"]
+__all__ = ["apply", "replay", "as_arrays", "Signals"]
 
 _BOUNDARY_PREFIXES = ("edge", "bad_acq_skip")
 _NEVER_FILTERED = ("stim",)
@@ -137,6 +139,65 @@ def apply(
                      dtype=str(data.dtype), before=before, after=fingerprint(flat, rows))
     store_step(inst.info, step)
     return (inst, step) if return_step else inst
+
+
+@dataclass(frozen=True)
+class Signals:
+    """Data channels of an input as plain arrays, for the summaries.
+
+    ``data`` has shape (n_channels, n_times) or (n_epochs, n_channels,
+    n_times); ``history_ids`` are the ids of its recorded steps.
+    """
+
+    data: np.ndarray
+    sfreq: float
+    ch_names: list
+    ch_types: list
+    kind: str
+    unit: str
+    line_freq: float | None
+    history_ids: list
+    times: np.ndarray
+
+
+def as_arrays(inst, *, sfreq=None) -> Signals:
+    """Data channels (MNE's "data" picks) of a Raw/Epochs/Evoked, or an array.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> as_arrays(np.zeros((3, 100)), sfreq=100.0).ch_names
+    ['0', '1', '2']
+    """
+    if isinstance(inst, np.ndarray):
+        if sfreq is None:
+            raise ValueError(
+                "The 'sfreq' parameter is required for arrays: pass the sampling "
+                "rate in Hz, e.g. sfreq=1000.0."
+            )
+        if inst.ndim not in (1, 2) or inst.dtype.kind != "f":
+            raise ValueError(
+                "Arrays must be 1-D or 2-D (channels x times) floating point, but got "
+                f"shape {inst.shape} and dtype {inst.dtype}."
+            )
+        data = np.atleast_2d(inst)
+        names = [str(i) for i in range(data.shape[0])]
+        return Signals(data, float(sfreq), names, ["n/a"] * len(names), "array", "unit",
+                       None, [], np.arange(data.shape[-1]) / float(sfreq))
+    from mne._fiff.pick import _picks_to_idx
+
+    kind = _mne_kind(inst)
+    if sfreq is not None and float(sfreq) != inst.info["sfreq"]:
+        raise ValueError(
+            f"The 'sfreq' parameter ({sfreq!r}) differs from the data's "
+            f"info['sfreq'] ({inst.info['sfreq']!r}); leave it out for MNE objects."
+        )
+    idx = _picks_to_idx(inst.info, "data", exclude=())
+    data = inst.get_data(picks=idx) if kind != "evoked" else inst.data[idx]
+    ids = [step.get("id") for step in history(inst)]
+    return Signals(data, float(inst.info["sfreq"]), [inst.ch_names[i] for i in idx],
+                   inst.get_channel_types(picks=idx), kind, "V", inst.info.get("line_freq"),
+                   ids, inst.times)
 
 
 def _apply_array(data, filt, sfreq, picks, pad, phase, length, tolerance, nan,
