@@ -45,3 +45,45 @@ def test_title_states_the_design(design):
     fig = design.plot(show=False)
     assert fig._suptitle.get_text() == design.describe()
     plt.close(fig)
+
+
+def test_band_change_map_equals_data(rng):
+    x = rng.standard_normal((3, 10000))
+    ds = gs.band_change(x, gs.apply(x, gs.bandpass(2.0, 20.0), sfreq=250.0), sfreq=250.0)
+    fig = gs.plot_band_change(ds, show=False)
+    image = fig.axes[0].get_images()[0]
+    np.testing.assert_allclose(image.get_array(), ds.change_db.transpose("channel", "band").values)
+    assert image.norm.vmin == -image.norm.vmax  # centred on 0
+    bars = [p.get_width() for p in fig.axes[1].patches]
+    np.testing.assert_allclose(bars, ds.change_db.median("channel").values)
+    plt.close(fig)
+
+
+def test_observed_gain_plot_equals_data(rng):
+    x = rng.standard_normal((2, 20000))
+    f = gs.design(gs.lowpass(30.0), 250.0)
+    da = gs.observed_gain(x, gs.apply(x, f), sfreq=250.0)
+    fig = gs.plot_observed_gain(da, f, show=False)
+    ax = fig.axes[0]
+    median = _line(ax, "observed (median)")
+    realized = _line(ax, "realized")
+    freqs = median.get_xdata()
+    measured = np.isfinite(da.values).any(axis=0)
+    expected = np.full(da.sizes["frequency"], np.nan)
+    expected[measured] = np.nanmedian(20 * np.log10(da.values[:, measured]), axis=0)
+    np.testing.assert_allclose(median.get_ydata(), expected[da.frequency.values > 0])
+    np.testing.assert_allclose(realized.get_ydata(), 20 * np.log10(f.realized_gain(freqs)))
+    plt.close(fig)
+
+
+def test_audit_plot_equals_data():
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", gs.GainshapeWarning)
+        ds = gs.audit(gs.highpass(1.0), 250.0)
+    fig = gs.plot_audit(ds, show=False)
+    for ax, name in zip(fig.axes, ds.waveform.values):
+        np.testing.assert_array_equal(_line(ax, "original").get_ydata(), ds.original.sel(waveform=name).values)
+        np.testing.assert_array_equal(_line(ax, "filtered").get_ydata(), ds.filtered.sel(waveform=name).values)
+    plt.close(fig)

@@ -4,7 +4,10 @@ from ._checks import GainshapeWarning
 from .adapters import apply, replay
 from .curves import GainCurve, bandpass, bandstop, highpass, lowpass, notch
 from .design import FilterDesign, design
+from .audit import audit
 from .provenance import bids_filters, history, methods_text, write_bids_filters
+from .summaries import band_change, observed_gain
+from .viz import plot_audit, plot_band_change, plot_observed_gain
 
 __version__ = "0.1.0"
 
@@ -13,6 +16,8 @@ __all__ = [
     "GainCurve",
     "GainshapeWarning",
     "apply",
+    "audit",
+    "band_change",
     "bandpass",
     "bids_filters",
     "bandstop",
@@ -22,6 +27,10 @@ __all__ = [
     "lowpass",
     "methods_text",
     "notch",
+    "observed_gain",
+    "plot_audit",
+    "plot_band_change",
+    "plot_observed_gain",
     "replay",
     "write_bids_filters",
 ]

@@ -55,8 +55,9 @@ def apply(
         What to apply. A curve is realized with :func:`gainshape.design`
         using ``phase``, ``length`` and ``tolerance`` (ignored for a design).
     sfreq : float | None
-        Sampling rate in Hz; required for arrays, checked against
-        ``info["sfreq"]`` otherwise.
+        Sampling rate in Hz; required for arrays (unless ``filt`` is a
+        design, whose rate is used), checked against ``info["sfreq"]``
+        otherwise.
     picks : str | list | slice | None
         Channels as in MNE (names, types, indices, "data", "all"). None:
         MNE's data channels, bad channels included. EOG, ECG, EMG and misc
@@ -202,6 +203,8 @@ def as_arrays(inst, *, sfreq=None) -> Signals:
 
 def _apply_array(data, filt, sfreq, picks, pad, phase, length, tolerance, nan,
                  n_jobs, copy, verbose):
+    if sfreq is None and isinstance(filt, FilterDesign):
+        sfreq = filt.sfreq
     if sfreq is None:
         raise ValueError(
             "The 'sfreq' parameter is required for arrays: pass the sampling "

@@ -3,8 +3,9 @@
 Vocabulary: a *waveform* is a test signal (step, pulse, simulated ERP, or the
 user's); a *component* is one bump of it with a polarity; *onset* and
 *offset* are the first and last times a component reaches 10 % of its own
-peak; an *opposite deflection* is the largest excursion of the filtered
-component against its polarity before its onset or after its offset.
+peak; an *opposite deflection* is the largest excursion against the
+component's polarity that filtering adds (beyond any the original had)
+before its onset or after its offset.
 Because filtering is linear, each component of the simulated ERP is filtered
 on its own, so one component's artefacts are not mistaken for another's.
 """
@@ -52,13 +53,14 @@ def audit(filt, sfreq: float | None = None, waveform=None) -> xr.Dataset:
         ``onset_shift_ms``, ``opposite_before``/``opposite_after`` (data
         units) and ``_pct`` (of the peak), ``ringing_s`` (from the offset until
         ``|filtered - original|`` last exceeds 1 % of the peak); per ``waveform``
-        and ``time``: ``original`` and ``filtered``.
+        and ``time``: ``original`` and ``filtered``; per ``component`` and
+        ``time``: ``component_filtered`` (each component filtered alone).
 
     Examples
     --------
     >>> import gainshape as gs
     >>> ds = audit(gs.lowpass(30.0), 500.0)
-    >>> list(ds.component.values)
+    >>> ds.component.values.tolist()
     ['step', 'pulse', 'erp early', 'erp late']
     """
     filt, sfreq = _design(filt, sfreq, waveform)
@@ -78,7 +80,9 @@ def audit(filt, sfreq: float | None = None, waveform=None) -> xr.Dataset:
     ds = xr.Dataset(
         {**metrics,
          "original": (("waveform", "time"), original, {"units": unit}),
-         "filtered": (("waveform", "time"), after, {"units": unit})},
+         "filtered": (("waveform", "time"), after, {"units": unit}),
+         "component_filtered": (("component", "time"), np.array(list(filtered.values())),
+                                {"units": unit, "long_name": "each component filtered alone"})},
         coords={"component": list(components), "waveform": wave_names,
                 "component_waveform": ("component", [w for w, _ in components.values()]),
                 "time": ("time", times, {"units": "s"})},
@@ -89,7 +93,8 @@ def audit(filt, sfreq: float | None = None, waveform=None) -> xr.Dataset:
                        ("onset_shift_ms", "ms"), ("opposite_before", unit),
                        ("opposite_after", unit), ("opposite_before_pct", "%"),
                        ("opposite_after_pct", "%"), ("ringing_s", "s"), ("peak", unit),
-                       ("peak_latency_ms", "ms")):
+                       ("peak_latency_ms", "ms"), ("opposite_before_time_ms", "ms"),
+                       ("opposite_after_time_ms", "ms")):
         ds[key].attrs["units"] = units
     return ds
 
@@ -145,8 +150,14 @@ def _metrics(t, x, y, sfreq) -> dict:
     lo, hi = max(0, i_onset - half), min(t.size, i_offset + half + 1)
     j_peak = lo + int(np.argmax(ys[lo:hi]))
     j_onset, _ = _first_last(ys, _LEVEL * ys[j_peak])
-    before = -ys[:i_onset].min() if i_onset > 0 else 0.0
-    after = -ys[i_offset + 1 :].min() if i_offset + 1 < t.size else float("nan")
+    # how much further than the original the filtered waveform goes against
+    # the component's polarity (the original's own opposite excursions, such
+    # as baseline noise in an average, do not count)
+    added = np.maximum(-ys, 0.0) - np.maximum(-xs, 0.0)
+    k_before = int(np.argmax(added[:i_onset])) if i_onset > 0 else None
+    k_after = i_offset + 1 + int(np.argmax(added[i_offset + 1 :])) if i_offset + 1 < t.size else None
+    before = max(added[k_before], 0.0) if k_before is not None else 0.0
+    after = max(added[k_after], 0.0) if k_after is not None else float("nan")
     peak = xs[i_peak]
     error = np.flatnonzero(np.abs(y - x) > _RING_LEVEL * peak)
     return {
@@ -155,10 +166,12 @@ def _metrics(t, x, y, sfreq) -> dict:
         "peak_change_pct": 100 * (ys[j_peak] - peak) / peak,
         "latency_shift_ms": 1000 * (t[j_peak] - t[i_peak]),
         "onset_shift_ms": 1000 * (t[j_onset] - t[i_onset]),
-        "opposite_before": max(before, 0.0),
-        "opposite_before_pct": 100 * max(before, 0.0) / peak,
-        "opposite_after": max(after, 0.0) if after == after else after,
-        "opposite_after_pct": 100 * max(after, 0.0) / peak if after == after else after,
+        "opposite_before": before,
+        "opposite_before_pct": 100 * before / peak,
+        "opposite_before_time_ms": 1000 * t[k_before] if k_before is not None else float("nan"),
+        "opposite_after": after,
+        "opposite_after_pct": 100 * after / peak,
+        "opposite_after_time_ms": 1000 * t[k_after] if k_after is not None else float("nan"),
         "ringing_s": float(t[error[-1]] - t[i_offset]) if error.size and error[-1] > i_offset else 0.0,
     }
 

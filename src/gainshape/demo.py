@@ -131,8 +131,9 @@ def main(argv=None) -> int:
     matplotlib.use("Agg")
     import mne
 
-    from . import apply, design
-    from .viz import plot_design, plot_erp_pair, plot_spectrum_pair
+    from . import apply, audit, band_change, design, methods_text, observed_gain
+    from .viz import (plot_audit, plot_band_change, plot_design, plot_erp_pair,
+                      plot_observed_gain, plot_spectrum_pair)
 
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--out", default="demo-output", help="output folder")
@@ -143,6 +144,7 @@ def main(argv=None) -> int:
     start = time.perf_counter()
 
     raw = simulate_workshop_recording()
+    raw.info["line_freq"] = 50.0
     print(f"Simulated {len(raw.ch_names)} channels, {raw.times[-1]:.0f} s at "
           f"{raw.info['sfreq']:g} Hz (workshop tone session).")
     curve = demo_curve()
@@ -171,7 +173,28 @@ def main(argv=None) -> int:
         out / "erp_cz_before_after.png", dpi=110)
     print(f"\ninfo: highpass {filtered.info['highpass']:.4g} Hz, lowpass "
           f"{filtered.info['lowpass']:.4g} Hz")
-    print(f"Wrote {fif} and 3 figures to {out}/ in {time.perf_counter() - start:.1f} s.")
+
+    change = band_change(raw, filtered)
+    change.to_netcdf(out / "band_change.nc")
+    plot_band_change(change, show=False).savefig(out / "band_change.png", dpi=110)
+    print("\nBand power change, dB (median and range over the 32 EEG channels)")
+    for band in change.band.values:
+        values = change.change_db.sel(band=band)
+        print(f"  {band:<6} {float(change.band_low.sel(band=band)):>5g}-"
+              f"{float(change.band_high.sel(band=band)):<5g} Hz  {float(values.median()):8.2f}"
+              f"   [{float(values.min()):.2f}, {float(values.max()):.2f}]")
+    gain = observed_gain(raw, filtered)
+    plot_observed_gain(gain, filt, show=False).savefig(out / "observed_gain.png", dpi=110)
+
+    waveforms = audit(filt)
+    plot_audit(waveforms, show=False).savefig(out / "waveform_audit.png", dpi=110)
+    print("\nWaveform audit (test waveforms)")
+    table = waveforms[["peak_change_pct", "latency_shift_ms", "onset_shift_ms",
+                       "opposite_before_pct", "opposite_after_pct", "ringing_s"]]
+    print(table.to_dataframe().drop(columns="component_waveform").round(2).to_string())
+    print("\nMethods paragraph\n" + methods_text(filtered))
+    print(f"\nWrote {fif}, band_change.nc and 6 figures to {out}/ in "
+          f"{time.perf_counter() - start:.1f} s.")
     return 0
 
 

@@ -10,8 +10,17 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["plot_design", "plot_spectrum_pair", "plot_erp_pair"]
+__all__ = [
+    "plot_design",
+    "plot_spectrum_pair",
+    "plot_erp_pair",
+    "plot_band_change",
+    "plot_observed_gain",
+    "plot_audit",
+]
 
+_LABEL_PCT = 5.0  # opposite deflections smaller than this are not labelled
+_MAP_LIMIT_DB = 20.0  # colour scale of band-change maps saturates beyond +-20 dB
 _REQUESTED_STYLE = dict(color="0.35", linestyle="--", linewidth=1.2, label="requested")
 _REALIZED_STYLE = dict(color="C0", linewidth=1.8, label="realized")
 
@@ -130,6 +139,174 @@ def plot_erp_pair(times, before, after, *, label="amplitude", show=True):
     if show:
         plt.show()
     return fig
+
+
+def plot_band_change(ds, *, show=True):
+    """Channel x band map of ``change_db`` (diverging, centred on 0) and a per-band summary.
+
+    Epochs are averaged (in power) before mapping. The right panel shows the
+    median change across channels with the range from the smallest to the
+    largest.
+
+    Examples
+    --------
+    >>> import numpy as np, gainshape as gs
+    >>> x = np.random.default_rng(0).standard_normal((3, 5000))
+    >>> ds = gs.band_change(x, gs.apply(x, gs.lowpass(20.0), sfreq=250.0), sfreq=250.0)
+    >>> fig = plot_band_change(ds, show=False)
+    >>> fig.axes[0].get_xlabel()
+    'band'
+    """
+    import matplotlib.pyplot as plt
+
+    change = band_change_map(ds)
+    lim = min(max(float(np.nanmax(np.abs(change))), 0.1), _MAP_LIMIT_DB)
+    n_ch, n_band = change.shape
+    fig, (ax_map, ax_sum) = plt.subplots(
+        1, 2, figsize=(10, max(3.5, 0.22 * n_ch + 1.5)), layout="constrained",
+        gridspec_kw={"width_ratios": [1.4, 1.0]})
+    image = ax_map.imshow(change, cmap="RdBu_r", vmin=-lim, vmax=lim, aspect="auto",
+                          interpolation="nearest")
+    ax_map.set_xticks(range(n_band), [str(b) for b in ds.band.values], rotation=45)
+    ax_map.set_yticks(range(n_ch), [str(c) for c in ds.channel.values],
+                      fontsize="small" if n_ch > 20 else "medium")
+    ax_map.set_xlabel("band")
+    ax_map.set_ylabel("channel")
+    fig.colorbar(image, ax=ax_map, label="power change (dB)",
+                 extend="both" if np.nanmax(np.abs(change)) > lim else "neither")
+
+    median = np.nanmedian(change, axis=0)
+    low, high = np.nanmin(change, axis=0), np.nanmax(change, axis=0)
+    y = np.arange(n_band)
+    ax_sum.barh(y, median, color=["C3" if m > 0 else "C0" for m in median], alpha=0.8,
+                label="median over channels")
+    ax_sum.hlines(y, low, high, color="0.2", linewidth=1.5, label="range")
+    ax_sum.axvline(0.0, color="0.5", linewidth=0.8)
+    ax_sum.set_yticks(y, [f"{b} ({lo:g}-{hi:g} Hz)" for b, lo, hi in
+                          zip(ds.band.values, ds.band_low.values, ds.band_high.values)])
+    ax_sum.invert_yaxis()
+    ax_sum.set_xlabel("power change (dB)")
+    ax_sum.legend(loc="best", fontsize="small")
+    ax_sum.grid(True, axis="x", alpha=0.3)
+    if show:
+        plt.show()
+    return fig
+
+
+def band_change_map(ds) -> np.ndarray:
+    """``change_db`` as (channel, band), epochs combined by mean power."""
+    if "epoch" not in ds.dims:
+        return ds.change_db.transpose("channel", "band").values
+    before = ds.power_before.mean("epoch")
+    after = ds.power_after.mean("epoch")
+    return (10 * np.log10(after / before)).transpose("channel", "band").values
+
+
+def plot_observed_gain(da, design=None, *, show=True):
+    """Observed gain per channel (thin), its median (thick) and the realized gain (dashed), in dB.
+
+    Examples
+    --------
+    >>> import numpy as np, gainshape as gs
+    >>> x = np.random.default_rng(0).standard_normal((2, 20000))
+    >>> f = gs.design(gs.lowpass(30.0), 250.0)
+    >>> da = gs.observed_gain(x, gs.apply(x, f), sfreq=250.0)
+    >>> fig = plot_observed_gain(da, f, show=False)
+    >>> fig.axes[0].get_xscale()
+    'log'
+    """
+    import matplotlib.pyplot as plt
+
+    freqs = da.frequency.values
+    keep = freqs > 0
+    gain_db = _to_db(da.values[:, keep])
+    fig, ax = plt.subplots(figsize=(8, 4.5), layout="constrained")
+    for row in gain_db:
+        ax.semilogx(freqs[keep], row, color="0.7", linewidth=0.6)
+    median = observed_median_db(da)[keep]
+    ax.semilogx(freqs[keep], median, color="C0", linewidth=1.8, label="observed (median)")
+    if design is not None:
+        ax.semilogx(freqs[keep], _to_db(design.realized_gain(freqs[keep])), color="C3",
+                    linestyle="--", linewidth=1.4, label="realized")
+    ax.set_xlabel("frequency (Hz)")
+    ax.set_ylabel("gain (dB)")
+    ax.set_ylim(max(-80.0, np.nanmin(median) - 5 if np.isfinite(median).any() else -80.0), 5)
+    ax.grid(True, which="both", alpha=0.3)
+    ax.legend(loc="best", fontsize="small")
+    if show:
+        plt.show()
+    return fig
+
+
+def observed_median_db(da) -> np.ndarray:
+    """Median over channels of the observed gain in dB (NaN where unmeasured)."""
+    gain_db = _to_db(da.values)
+    measured = np.isfinite(gain_db).any(axis=0)
+    out = np.full(gain_db.shape[-1], np.nan)
+    out[measured] = np.nanmedian(gain_db[:, measured], axis=0)
+    return out
+
+
+def plot_audit(ds, *, tmin=-0.5, tmax=2.0, show=True):
+    """Original and filtered waveforms, one panel each, with distortions marked.
+
+    Triangles mark each component's peak before (grey) and after (blue).
+    Where a waveform has several components, each one filtered alone is
+    drawn thin and dotted; red dots on it mark its largest opposite-polarity
+    deflection before and after, labelled in % of its peak (from 5 %).
+
+    Examples
+    --------
+    >>> import gainshape as gs
+    >>> fig = plot_audit(gs.audit(gs.highpass(1.0), 250.0), show=False)
+    >>> len(fig.axes)
+    3
+    """
+    import matplotlib.pyplot as plt
+
+    names = [str(w) for w in ds.waveform.values]
+    t = ds.time.values
+    fig, axes = plt.subplots(len(names), 1, figsize=(9, 2.6 * len(names) + 0.5),
+                             layout="constrained", squeeze=False)
+    for ax, name in zip(axes[:, 0], names):
+        original = ds.original.sel(waveform=name).values
+        filtered = ds.filtered.sel(waveform=name).values
+        ax.plot(t, original, color="0.45", linewidth=1.2, label="original")
+        ax.plot(t, filtered, color="C0", linewidth=1.4, label="filtered")
+        components = ds.component.values[ds.component_waveform.values == name]
+        for comp in components:
+            alone = ds.component_filtered.sel(component=comp).values
+            if len(components) > 1:
+                ax.plot(t, alone, color="C0", linewidth=0.8, linestyle=":")
+            _mark_component(ax, t, alone, ds.sel(component=comp))
+        ax.axhline(0.0, color="0.6", linewidth=0.7)
+        ax.axvline(0.0, color="0.6", linewidth=0.7)
+        ax.set_xlim(max(tmin, t[0]), min(tmax, t[-1]))
+        ax.set_ylabel(f"{name} ({ds.attrs.get('units', '')})")
+        ax.grid(True, alpha=0.3)
+    axes[0, 0].legend(loc="best", fontsize="small")
+    axes[-1, 0].set_xlabel("time (s)")
+    fig.suptitle(ds.attrs.get("filter", ""), fontsize="medium")
+    if show:
+        plt.show()
+    return fig
+
+
+def _mark_component(ax, t, alone, row):
+    peak, latency = float(row.peak), float(row.peak_latency_ms) / 1000
+    marker = "v" if peak > 0 else "^"
+    ax.plot([latency], [peak], marker=marker, color="0.3", linestyle="none")
+    ax.plot([latency + float(row.latency_shift_ms) / 1000],
+            [peak * (1 + float(row.peak_change_pct) / 100)],
+            marker=marker, color="C0", linestyle="none")
+    for side in ("before", "after"):
+        pct, when = float(row[f"opposite_{side}_pct"]), float(row[f"opposite_{side}_time_ms"])
+        if not np.isfinite(pct) or pct < _LABEL_PCT:
+            continue
+        idx = int(np.argmin(np.abs(t - when / 1000)))
+        ax.plot([t[idx]], [alone[idx]], marker="o", color="C3", linestyle="none")
+        ax.annotate(f"{pct:.0f}% {side}", (t[idx], alone[idx]), textcoords="offset points",
+                    xytext=(4, -10 * np.sign(peak)), fontsize="x-small", color="C3")
 
 
 def design_frequencies(design, fmin=None) -> np.ndarray:

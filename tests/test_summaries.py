@@ -1,0 +1,86 @@
+"""Band change and observed gain: shapes, metadata, errors, netCDF round trip."""
+
+import mne
+import numpy as np
+import pytest
+import xarray as xr
+
+import gainshape as gs
+
+SFREQ = 250.0
+
+
+@pytest.fixture
+def pair(raw):
+    raw.info["line_freq"] = 50.0
+    return raw, gs.apply(raw, gs.notch(50.0))
+
+
+def test_dims_coords_and_units(pair):
+    ds = gs.band_change(*pair)
+    assert ds.change_db.dims == ("channel", "band")
+    assert list(ds.band.values) == ["slow", "delta", "theta", "alpha", "beta", "gamma", "line"]
+    assert list(ds.band_low.sel(band=["alpha", "line"]).values) == [8.0, 49.0]
+    assert list(ds.channel.values) == ["Fz", "Cz", "Pz", "Oz"]
+    assert set(ds.ch_type.values) == {"eeg"}
+    assert ds.power_before.attrs["units"] == "V^2"
+    np.testing.assert_allclose(ds.retained, ds.power_after / ds.power_before)
+    np.testing.assert_allclose(ds.change_db, 10 * np.log10(ds.retained))
+
+
+def test_history_steps_between(pair):
+    before, after = pair
+    ds = gs.band_change(before, after)
+    assert ds.attrs["history_steps_between"] == gs.history(after)[0]["id"]
+    assert gs.band_change(after, after).attrs["history_steps_between"] == ""
+
+
+def test_epochs_have_epoch_dim(raw):
+    events = mne.make_fixed_length_events(raw, duration=4.0)
+    epochs = mne.Epochs(raw, events, tmin=0.0, tmax=3.996, baseline=None, preload=True)
+    ds = gs.band_change(epochs, gs.apply(epochs, gs.lowpass(20.0)))
+    assert ds.change_db.dims == ("epoch", "channel", "band")
+    assert ds.sizes["epoch"] == len(epochs)
+
+
+def test_custom_bands_and_arrays(rng):
+    x = rng.standard_normal((2, 5000))
+    ds = gs.band_change(x, x, bands={"low": (1, 10), "high": (10, 100)}, sfreq=SFREQ)
+    assert list(ds.band.values) == ["low", "high"]
+    np.testing.assert_allclose(ds.change_db, 0.0)
+
+
+def test_netcdf_round_trip(pair, tmp_path):
+    ds = gs.band_change(*pair)
+    ds.to_netcdf(tmp_path / "change.nc")
+    assert xr.load_dataset(tmp_path / "change.nc").identical(ds)
+
+
+@pytest.mark.parametrize(
+    ("other", "fragment"),
+    [(lambda r: r.copy().pick(["Fz", "Cz"]), "channels"),
+     (lambda r: r.copy().resample(125.0), "sampling rates"),
+     (lambda r: r.copy().crop(tmax=10.0), "shapes")],
+    ids=["channels", "sfreq", "length"],
+)
+def test_mismatched_inputs(raw, other, fragment):
+    with pytest.raises(ValueError, match=f"their {fragment} differ"):
+        gs.band_change(raw, other(raw))
+
+
+def test_bad_bands(raw):
+    with pytest.raises(ValueError, match="Nyquist"):
+        gs.band_change(raw, raw, bands={"too high": (100.0, 200.0)})
+    with pytest.raises(TypeError, match="'bands'"):
+        gs.band_change(raw, raw, bands=[(1, 4)])
+
+
+def test_observed_gain_shape_and_mask(rng):
+    x = rng.standard_normal((3, 20000))
+    x[2] = 0.0  # no power: nothing to measure
+    y = gs.apply(x, gs.lowpass(30.0), sfreq=SFREQ)
+    da = gs.observed_gain(x, y, sfreq=SFREQ)
+    assert da.dims == ("channel", "frequency")
+    assert np.isnan(da.values[2]).all()
+    assert np.isnan(da.values[:2, :4]).all()  # main lobe of the window around 0 Hz
+    assert np.isfinite(da.values[:2, 4:]).all()
