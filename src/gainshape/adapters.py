@@ -117,8 +117,11 @@ def apply(
     idx = _pick_indices(inst, picks)
     filt = _realize(filt, inst.info["sfreq"], phase, length, tolerance)
     names = [inst.ch_names[i] for i in idx]
-    if nan == "raise":
-        _check_finite_mne(inst, kind, idx, names)
+    if nan == "raise" and (kind == "evoked" or inst.preload):
+        data = inst._data if kind != "evoked" else inst.data
+        rows, _ = _rows_and_segments(inst, kind, idx, data, with_segments=False)
+        check_finite(data.reshape(-1, data.shape[-1]), _row_names(names, kind, len(rows)),
+                     None if kind == "epochs" else inst.info["sfreq"], picked=rows)
     if copy:
         inst = inst.copy()
     if kind != "evoked" and not inst.preload:
@@ -129,7 +132,7 @@ def apply(
     before = fingerprint(flat, rows)
     filter_array(
         data, filt, pad=pad, segments=segments, nan=nan, n_jobs=n_jobs, rows=rows,
-        out=data, row_names=names, verbose=verbose,
+        out=data, row_names=_row_names(names, kind, len(rows)), verbose=verbose,
         segment_name="Each epoch" if kind == "epochs" else None,
         short_hint=_EPOCH_HINT if kind == "epochs" else "",
     )
@@ -269,22 +272,22 @@ def _pick_indices(inst, picks) -> np.ndarray:
     return np.array([i for i in idx if i not in blocked], dtype=int)
 
 
-def _check_finite_mne(inst, kind, idx, names):
-    if kind == "raw" and not inst.preload:
-        return  # checked by the engine after loading, before filtering
-    data = inst.get_data(picks=idx) if kind != "evoked" else inst.data[idx]
-    rows = data if data.ndim == 2 else np.moveaxis(data, 1, 0).reshape(len(idx), -1)
-    check_finite(rows, names, sfreq=None if kind == "epochs" else inst.info["sfreq"])
+def _row_names(names, kind, n_rows):
+    """Channel names for each filtered row (epochs repeat them per epoch)."""
+    if kind != "epochs":
+        return names
+    return [f"{name} in epoch {i // len(names)}" for i, name in
+            zip(range(n_rows), names * (n_rows // max(len(names), 1)))]
 
 
-def _rows_and_segments(inst, kind, idx, data):
+def _rows_and_segments(inst, kind, idx, data, with_segments=True):
     if kind == "epochs":
         n_epochs, n_ch = data.shape[:2]
         rows = (np.arange(n_epochs)[:, None] * n_ch + idx[None, :]).ravel()
         return rows, None
     if kind == "evoked":
         return idx, None
-    return idx, _raw_segments(inst)
+    return idx, _raw_segments(inst) if with_segments else None
 
 
 def _raw_segments(raw):

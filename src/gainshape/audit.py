@@ -189,13 +189,13 @@ def _literature_notes(filt) -> list:
     notes = []
     if cutoff >= 0.3:
         notes.append(
-            f"The high-pass half-amplitude cutoff is {cutoff:.3g} Hz: high-pass cutoffs of "
+            f"The high-pass half-amplitude cutoff is {cutoff:.2g} Hz: high-pass cutoffs of "
             "0.3 Hz and above produced artefactual opposite-polarity effects in ERP data "
             "(Tanner, Morgan-Short & Luck, 2015, Psychophysiology 52:997-1009)."
         )
     if float(f"{cutoff:.2g}") > 0.1:  # 0.1001 Hz realized from a 0.1 Hz request is 0.1
         notes.append(
-            f"The high-pass half-amplitude cutoff is {cutoff:.3g} Hz, above the 0.1 Hz "
+            f"The high-pass half-amplitude cutoff is {cutoff:.2g} Hz, above the 0.1 Hz "
             "recommended as a maximum for ERP work (Acunzo, MacKenzie & van Rossum, 2012, "
             "J Neurosci Methods 209:212-218)."
         )

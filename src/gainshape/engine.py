@@ -103,12 +103,14 @@ def filter_array(
     picked = np.arange(all_rows.shape[0]) if rows is None else np.asarray(rows, dtype=int)
     segments = _check_segments(segments, data.shape[-1])
     if nan == "raise":
-        check_finite(all_rows[picked], row_names)
+        check_finite(all_rows, row_names, picked=picked)
     if out is None:
         out = np.empty_like(data)
     out_rows = out.reshape(-1, data.shape[-1])
     if not np.shares_memory(out_rows, all_rows):
-        out_rows[...] = all_rows
+        whole = nan == "raise" and segments == [(0, data.shape[-1])]
+        untouched = np.setdiff1d(np.arange(all_rows.shape[0]), picked) if whole else slice(None)
+        out_rows[untouched] = all_rows[untouched]  # picked rows are overwritten below
     for group, group_segments in _row_groups(all_rows, picked, segments, nan):
         for start, stop in group_segments:
             _warn_if_short(design, start, stop, segment_name, short_hint)
@@ -116,8 +118,12 @@ def filter_array(
     return out
 
 
-def check_finite(rows: np.ndarray, row_names=None, sfreq=None) -> None:
+def check_finite(rows: np.ndarray, row_names=None, sfreq=None, *, picked=None) -> None:
     """Raise ValueError naming the rows (and first times) holding NaN or inf.
+
+    ``picked`` limits the check to those rows; ``row_names`` follow its order.
+    Rows are summed first (one pass, no copy); only rows whose sum is not
+    finite are scanned sample by sample.
 
     Examples
     --------
@@ -127,17 +133,18 @@ def check_finite(rows: np.ndarray, row_names=None, sfreq=None) -> None:
     ...
     ValueError: The data contain NaN or infinite values in Cz (first at sample 1); clean or interpolate them, or pass nan='split' to filter around them.
     """
-    bad = ~np.isfinite(rows)
-    bad_rows = np.flatnonzero(bad.any(axis=-1))
-    if bad_rows.size == 0:
+    picked = np.arange(rows.shape[0]) if picked is None else np.asarray(picked)
+    suspects = [i for i, r in enumerate(picked) if not np.isfinite(np.add.reduce(rows[r], dtype=float))]
+    bad = [(i, int(np.argmin(np.isfinite(rows[picked[i]])))) for i in suspects
+           if not np.isfinite(rows[picked[i]]).all()]
+    if not bad:
         return
     parts = []
-    for r in bad_rows[:5]:
-        name = row_names[r] if row_names is not None else f"row {r}"
-        first = int(np.argmax(bad[r]))
+    for i, first in bad[:5]:
+        name = row_names[i] if row_names is not None else f"row {picked[i]}"
         where = f"{first / sfreq:.3f} s" if sfreq else f"sample {first}"
         parts.append(f"{name} (first at {where})")
-    more = f" and {bad_rows.size - 5} more" if bad_rows.size > 5 else ""
+    more = f" and {len(bad) - 5} more" if len(bad) > 5 else ""
     raise ValueError(
         f"The data contain NaN or infinite values in {', '.join(parts)}{more}; "
         "clean or interpolate them, or pass nan='split' to filter around them."
@@ -220,22 +227,55 @@ def _warn_if_short(design, start, stop, name, hint):
 
 
 def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, verbose):
+    """Filter ``rows[group, start:stop]`` into ``out_rows`` in blocks of rows.
+
+    Each block is copied into one reused buffer of ``n_fft`` samples per row
+    (segment in the middle, padding either side, zeros after), transformed,
+    multiplied by the response in place and transformed back.
+    """
     n_seg = stop - start
     n_pad = design.support
     n_fft = sfft.next_fast_len(n_seg + 2 * n_pad, real=True)
     spec = design.spectrum(n_fft)
-    spec = spec.astype(np.float32 if spec.dtype.kind == "f" else np.complex64) if rows.dtype == np.float32 else spec
+    if rows.dtype == np.float32:
+        spec = spec.astype(np.float32 if spec.dtype.kind == "f" else np.complex64)
     row_bytes = 2 * n_fft * rows.itemsize
     budget = max(_MIN_BLOCK_BYTES, _BLOCK_FRACTION * rows.nbytes)
-    per_block = max(1, int(budget // row_bytes))
+    per_block = int(min(max(1, budget // row_bytes), group.size))
+    buf = np.zeros((per_block, n_fft), dtype=rows.dtype)
     blocks = [group[i : i + per_block] for i in range(0, group.size, per_block)]
     for block in _progress(blocks, verbose):
-        padded = np.pad(rows[block, start:stop], ((0, 0), (n_pad, n_pad)), mode=pad)
-        spectrum = sfft.rfft(padded, n=n_fft, axis=-1, workers=workers)
+        work = buf[: block.size]
+        for j, r in enumerate(block):
+            _pad_into(work[j, : n_seg + 2 * n_pad], rows[r, start:stop], n_pad, pad)
+        spectrum = sfft.rfft(work, axis=-1, workers=workers)
         spectrum *= spec
-        out_rows[block, start:stop] = sfft.irfft(spectrum, n=n_fft, axis=-1, workers=workers)[
-            :, n_pad : n_pad + n_seg
-        ]
+        filtered = sfft.irfft(spectrum, n=n_fft, axis=-1, workers=workers, overwrite_x=True)
+        for j, r in enumerate(block):
+            out_rows[r, start:stop] = filtered[j, n_pad : n_pad + n_seg]
+
+
+def _pad_into(dst: np.ndarray, seg: np.ndarray, n_pad: int, mode: str) -> None:
+    """Write ``numpy.pad(seg, n_pad, mode)`` into ``dst`` without a temporary
+    for the common local modes."""
+    n = seg.size
+    dst[n_pad : n_pad + n] = seg
+    if n_pad == 0:
+        return
+    if mode == "reflect" and n_pad < n:
+        dst[:n_pad] = seg[n_pad:0:-1]
+        dst[n_pad + n :] = seg[-2 : -n_pad - 2 : -1]
+    elif mode == "symmetric" and n_pad <= n:
+        dst[:n_pad] = seg[n_pad - 1 :: -1] if n_pad < n else seg[::-1]
+        dst[n_pad + n :] = seg[: -n_pad - 1 : -1]
+    elif mode == "edge":
+        dst[:n_pad] = seg[0]
+        dst[n_pad + n :] = seg[-1]
+    elif mode == "constant":
+        dst[:n_pad] = 0
+        dst[n_pad + n :] = 0
+    else:
+        dst[:] = np.pad(seg, n_pad, mode=mode)
 
 
 def _progress(blocks, verbose):
