@@ -17,8 +17,9 @@ import scipy.fft as sfft
 
 from ._checks import check_int, check_option, warn
 
-__all__ = ["filter_array", "check_finite", "PAD_MODES"]
+__all__ = ["filter_array", "check_finite", "filter_span", "edge_pads", "block_plan", "PAD_MODES"]
 
+LOCAL_PAD_MODES = ("reflect", "symmetric", "edge", "constant")  # need only the ends
 PAD_MODES = (
     "reflect",
     "symmetric",
@@ -227,55 +228,120 @@ def _warn_if_short(design, start, stop, name, hint):
 
 
 def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, verbose):
-    """Filter ``rows[group, start:stop]`` into ``out_rows`` in blocks of rows.
-
-    Each block is copied into one reused buffer of ``n_fft`` samples per row
-    (segment in the middle, padding either side, zeros after), transformed,
-    multiplied by the response in place and transformed back.
-    """
+    """Filter ``rows[group, start:stop]`` into ``out_rows``, in blocks of rows
+    and, for long segments, in overlapping blocks of time (overlap-save)."""
     n_seg = stop - start
-    n_pad = design.support
-    n_fft = sfft.next_fast_len(n_seg + 2 * n_pad, real=True)
-    spec = design.spectrum(n_fft)
-    if rows.dtype == np.float32:
-        spec = spec.astype(np.float32 if spec.dtype.kind == "f" else np.complex64)
-    row_bytes = 2 * n_fft * rows.itemsize
-    budget = max(_MIN_BLOCK_BYTES, _BLOCK_FRACTION * rows.nbytes)
-    per_block = int(min(max(1, budget // row_bytes), group.size))
-    buf = np.zeros((per_block, n_fft), dtype=rows.dtype)
+    n_fft, step = block_plan(n_seg, design.support, whole=getattr(design, "exact", False))
+    per_block = _rows_per_block(rows, n_fft, group.size)
     blocks = [group[i : i + per_block] for i in range(0, group.size, per_block)]
+    buf = np.zeros((per_block, n_fft), dtype=rows.dtype)
     for block in _progress(blocks, verbose):
-        work = buf[: block.size]
-        for j, r in enumerate(block):
-            _pad_into(work[j, : n_seg + 2 * n_pad], rows[r, start:stop], n_pad, pad)
-        spectrum = sfft.rfft(work, axis=-1, workers=workers)
-        spectrum *= spec
-        filtered = sfft.irfft(spectrum, n=n_fft, axis=-1, workers=workers, overwrite_x=True)
-        for j, r in enumerate(block):
-            out_rows[r, start:stop] = filtered[j, n_pad : n_pad + n_seg]
+        sel = _as_index(block)
+        seg = rows[sel, start:stop]
+        edges = edge_pads(seg, design.support, pad)
+        for a in range(0, n_seg, step):
+            b = min(a + step, n_seg)
+            out_rows[sel, start + a : start + b] = filter_span(
+                seg, edges, a, b, design, n_fft, workers, buf[: block.size])
 
 
-def _pad_into(dst: np.ndarray, seg: np.ndarray, n_pad: int, mode: str) -> None:
-    """Write ``numpy.pad(seg, n_pad, mode)`` into ``dst`` without a temporary
-    for the common local modes."""
-    n = seg.size
-    dst[n_pad : n_pad + n] = seg
+def block_plan(n_seg: int, n_pad: int, whole: bool = False) -> tuple[int, int]:
+    """FFT size and output samples per block for a segment of ``n_seg`` samples.
+
+    One FFT over the whole padded segment when it is short or ``whole`` is
+    asked for (a design applied exactly on the record's grid); otherwise blocks
+    of a power of two about 8 x the overlap (``2 n_pad``), at most 2**18
+    unless the overlap needs more: such FFTs stay in cache and run about
+    twice as fast per sample as one FFT of a long recording.
+
+    Examples
+    --------
+    >>> block_plan(1000, 100)
+    (1200, 1000)
+    >>> block_plan(600_000, 22_200)
+    (262144, 217744)
+    """
+    n_whole = sfft.next_fast_len(n_seg + 2 * n_pad, real=True)
+    n_fft = max(2**15, min(2**18, 1 << int(np.ceil(np.log2(8 * max(n_pad, 1))))))
+    n_fft = max(n_fft, 1 << int(np.ceil(np.log2(4 * max(n_pad, 1)))))
+    if whole or n_whole <= n_fft:
+        return n_whole, n_seg
+    return n_fft, n_fft - 2 * n_pad
+
+
+def _rows_per_block(rows, n_fft, n_rows) -> int:
+    """Rows per block so that input, spectrum and output buffers fit the budget."""
+    budget = max(_MIN_BLOCK_BYTES, _BLOCK_FRACTION * rows.nbytes)
+    return int(min(max(1, budget // (3 * n_fft * rows.itemsize)), n_rows))
+
+
+def _as_index(block: np.ndarray):
+    """A slice for consecutive row numbers (a view, no copy), else the array."""
+    if block.size and np.all(np.diff(block) == 1):
+        return slice(int(block[0]), int(block[-1]) + 1)
+    return block
+
+
+def edge_pads(seg, n_pad: int, mode: str):
+    """(left, right) padding of each row, as ``numpy.pad(row, n_pad, mode)`` adds.
+
+    ``seg`` is any 2-D array-like supporting ``seg[:, lo:hi]`` slices with a
+    ``shape``; for the local modes only its first and last ``n_pad + 1``
+    samples are read, so it may be a lazy view of a file.
+    """
+    k, n = seg.shape
     if n_pad == 0:
-        return
-    if mode == "reflect" and n_pad < n:
-        dst[:n_pad] = seg[n_pad:0:-1]
-        dst[n_pad + n :] = seg[-2 : -n_pad - 2 : -1]
-    elif mode == "symmetric" and n_pad <= n:
-        dst[:n_pad] = seg[n_pad - 1 :: -1] if n_pad < n else seg[::-1]
-        dst[n_pad + n :] = seg[: -n_pad - 1 : -1]
-    elif mode == "edge":
-        dst[:n_pad] = seg[0]
-        dst[n_pad + n :] = seg[-1]
-    elif mode == "constant":
-        dst[:n_pad] = 0
-        dst[n_pad + n :] = 0
-    else:
-        dst[:] = np.pad(seg, n_pad, mode=mode)
+        empty = np.zeros((k, 0))
+        return empty, empty
+    if mode in LOCAL_PAD_MODES and n_pad < n:
+        head = np.asarray(seg[:, : n_pad + 1])
+        tail = np.asarray(seg[:, n - n_pad - 1 :])
+        if mode == "reflect":
+            return head[:, n_pad:0:-1], tail[:, -2::-1]
+        if mode == "symmetric":
+            return head[:, n_pad - 1 :: -1], tail[:, :0:-1]
+        if mode == "edge":
+            return np.repeat(head[:, :1], n_pad, 1), np.repeat(tail[:, -1:], n_pad, 1)
+        zeros = np.zeros((k, n_pad), dtype=head.dtype)
+        return zeros, zeros
+    full = np.asarray(seg[:, :])
+    padded = np.stack([np.pad(row, n_pad, mode=mode) for row in full])
+    return padded[:, :n_pad], padded[:, n_pad + n :]
+
+
+def filter_span(seg, edges, a, b, design, n_fft, workers, buf) -> np.ndarray:
+    """Filtered samples ``[a, b)`` of a padded segment (overlap-save block).
+
+    ``seg[:, lo:hi]`` gives the segment's samples, ``edges`` its padding
+    (from :func:`edge_pads`); ``buf`` is a (rows, n_fft) work array.
+    """
+    n_pad, n = design.support, seg.shape[1]
+    lo, hi = a - n_pad, b + n_pad  # segment coordinates, padding outside [0, n)
+    left, right = edges
+    buf[:, hi - lo :] = 0.0
+    pos = 0
+    if lo < 0:
+        take = min(-lo, hi - lo)
+        buf[:, :take] = left[:, n_pad + lo : n_pad + lo + take]
+        pos = take
+    d_lo, d_hi = max(lo, 0), min(hi, n)
+    if d_hi > d_lo:
+        buf[:, pos : pos + d_hi - d_lo] = seg[:, d_lo:d_hi]
+        pos += d_hi - d_lo
+    if hi > n:
+        r_lo = max(lo - n, 0)
+        buf[:, pos : pos + hi - n - r_lo] = right[:, r_lo : hi - n]
+    spectrum = sfft.rfft(buf, axis=-1, workers=workers)
+    spectrum *= _spectrum(design, n_fft, buf.dtype)
+    out = sfft.irfft(spectrum, n=n_fft, axis=-1, workers=workers, overwrite_x=True)
+    return out[:, n_pad : n_pad + b - a]
+
+
+def _spectrum(design, n_fft, dtype):
+    spec = design.spectrum(n_fft)
+    if dtype == np.float32:
+        return spec.astype(np.float32 if spec.dtype.kind == "f" else np.complex64)
+    return spec
 
 
 def _progress(blocks, verbose):
