@@ -95,3 +95,23 @@ def test_short_segment_warns_with_numbers(rng):
 def test_progress_bar_silent_when_not_verbose(capsys, rng):
     filter_array(rng.standard_normal((2, 3000)), DESIGN, verbose=False)
     assert capsys.readouterr().err == ""
+
+
+def test_blocks_in_time_equal_one_fft_over_the_record(rng):
+    # scipy.fft reference: one rfft/irfft over the whole reflect-padded record
+    import scipy.fft as sfft
+
+    from gainshape.engine import block_plan
+
+    design = gs.design(gs.highpass(1.0), SFREQ)
+    x = rng.standard_normal((3, 150_000))
+    n_fft, step = block_plan(x.shape[1], design.support)
+    assert step < x.shape[1]  # several blocks
+    n = sfft.next_fast_len(x.shape[1] + 2 * design.support, real=True)
+    p = design.support
+    reference = sfft.irfft(sfft.rfft(np.pad(x, ((0, 0), (p, p)), mode="reflect"), n) * design.spectrum(n), n)
+    expected = reference[:, p : p + x.shape[1]]
+    np.testing.assert_allclose(filter_array(x, design), expected, atol=1e-12)
+    in_place = x.copy()
+    filter_array(in_place, design, out=in_place)
+    np.testing.assert_allclose(in_place, expected, atol=1e-12)

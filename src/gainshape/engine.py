@@ -239,10 +239,15 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ve
         sel = _as_index(block)
         seg = rows[sel, start:stop]
         edges = edge_pads(seg, design.support, pad)
+        in_place = np.shares_memory(out_rows, rows)
+        carry = None
         for a in range(0, n_seg, step):
             b = min(a + step, n_seg)
-            out_rows[sel, start + a : start + b] = filter_span(
-                seg, edges, a, b, design, n_fft, workers, buf[: block.size])
+            filtered = filter_span(seg, edges, a, b, design, n_fft, workers, buf[: block.size],
+                                   carry=carry)
+            if in_place and b < n_seg:  # the next block's left context, before it is overwritten
+                carry = np.array(seg[:, b - design.support : b])
+            out_rows[sel, start + a : start + b] = filtered
 
 
 def block_plan(n_seg: int, n_pad: int, whole: bool = False) -> tuple[int, int]:
@@ -309,17 +314,22 @@ def edge_pads(seg, n_pad: int, mode: str):
     return padded[:, :n_pad], padded[:, n_pad + n :]
 
 
-def filter_span(seg, edges, a, b, design, n_fft, workers, buf) -> np.ndarray:
+def filter_span(seg, edges, a, b, design, n_fft, workers, buf, carry=None) -> np.ndarray:
     """Filtered samples ``[a, b)`` of a padded segment (overlap-save block).
 
     ``seg[:, lo:hi]`` gives the segment's samples, ``edges`` its padding
     (from :func:`edge_pads`); ``buf`` is a (rows, n_fft) work array.
+    ``carry``, if given, replaces the first ``support`` samples of the block's
+    input (the previous block's end, saved before filtering in place).
     """
     n_pad, n = design.support, seg.shape[1]
     lo, hi = a - n_pad, b + n_pad  # segment coordinates, padding outside [0, n)
     left, right = edges
     buf[:, hi - lo :] = 0.0
     pos = 0
+    if carry is not None and lo >= 0:
+        buf[:, :n_pad] = carry
+        lo, pos = lo + n_pad, n_pad
     if lo < 0:
         take = min(-lo, hi - lo)
         buf[:, :take] = left[:, n_pad + lo : n_pad + lo + take]
