@@ -1,9 +1,10 @@
 """Side-by-side speed and memory of gainshape, MNE-Python and a bare FFT round trip.
 
 Workload: a simulated 64-channel, 10-minute, 1000 Hz recording (``--quick``:
-16 channels, 2 minutes). Each case runs in its own process; peak memory is
-the process's maximum resident set size minus its size just before the case
-ran (data loaded), minus the output, as a multiple of the data size.
+16 channels, 2 minutes). Each case runs in its own process, after its imports
+and inputs are ready; working memory is the peak resident set size during the
+case (Linux VmHWM, reset just before) minus the size before it and minus the
+output, as a multiple of the data size.
 
     python benchmarks/run.py [--quick] [--n-jobs N] [--out results.json]
 """
@@ -14,7 +15,6 @@ import argparse
 import json
 import os
 import platform
-import resource
 import subprocess
 import sys
 import time
@@ -39,63 +39,62 @@ NOTCH = 50.0
 HARMONICS = 3
 
 
-def make_raw(n_channels, seconds, sfreq=1000.0, dtype=np.float64):
+def make_raw(n_channels, seconds, sfreq=1000.0):
     import mne
 
     rng = np.random.default_rng(0)
     n = int(seconds * sfreq)
-    data = rng.standard_normal((n_channels, n)).astype(dtype) * 1e-5
+    data = rng.standard_normal((n_channels, n))
+    data *= 1e-5
     info = mne.create_info([f"EEG{i:03d}" for i in range(n_channels)], sfreq, "eeg")
-    return mne.io.RawArray(data, info, verbose=False)
+    return mne.io.RawArray(data, info, copy=None, verbose=False)
 
 
-def _rss_bytes():
-    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024
+def _reset_peak_rss():
+    """Reset the kernel's resident-set high-water mark (Linux >= 4.0)."""
+    with open("/proc/self/clear_refs", "w") as fh:
+        fh.write("5")
 
 
-def _current_rss():
-    with open("/proc/self/statm") as fh:
-        return int(fh.read().split()[1]) * os.sysconf("SC_PAGE_SIZE")
+def _rss(field):
+    with open("/proc/self/status") as fh:
+        for line in fh:
+            if line.startswith(field + ":"):
+                return int(line.split()[1]) * 1024
+    raise RuntimeError(f"{field} not found in /proc/self/status")
 
 
-def case_gainshape(raw, n_jobs, dtype):
+# Each case: setup(raw, n_jobs) -> state (untimed, before the memory baseline),
+# run(state) -> output array (timed and measured).
+def setup_gainshape(raw, n_jobs, dtype):
     import gainshape as gs
 
     curve = matched_curve()
     if dtype == "float32":
-        data = raw.get_data().astype(np.float32)
-        start = time.perf_counter()
-        out = gs.apply(data, curve, sfreq=raw.info["sfreq"], n_jobs=n_jobs)
-        return time.perf_counter() - start, out.nbytes
-    start = time.perf_counter()
-    out = gs.apply(raw, curve, n_jobs=n_jobs, verbose=False)
-    return time.perf_counter() - start, out._data.nbytes
+        data32 = raw._data.astype(np.float32)
+        return lambda: gs.apply(data32, curve, sfreq=raw.info["sfreq"], n_jobs=n_jobs)
+    return lambda: gs.apply(raw, curve, n_jobs=n_jobs, verbose=False)._data
 
 
-def case_mne(raw, n_jobs, dtype):
-    start = time.perf_counter()
-    out = raw.copy().filter(*MNE_BAND, n_jobs=n_jobs, verbose=False)
-    return time.perf_counter() - start, out._data.nbytes
+def setup_mne(raw, n_jobs, dtype):
+    return lambda: raw.copy().filter(*MNE_BAND, n_jobs=n_jobs, verbose=False)._data
 
 
-def case_gainshape_notch(raw, n_jobs, dtype):
+def setup_gainshape_notch(raw, n_jobs, dtype):
     import gainshape as gs
 
-    start = time.perf_counter()
-    out = gs.apply(raw, gs.notch(NOTCH, width=2.0, harmonics=HARMONICS), n_jobs=n_jobs,
-                   verbose=False)
-    return time.perf_counter() - start, out._data.nbytes
+    curve = gs.notch(NOTCH, width=2.0, harmonics=HARMONICS)
+    return lambda: gs.apply(raw, curve, n_jobs=n_jobs, verbose=False)._data
 
 
-def case_mne_notch(raw, n_jobs, dtype):
-    start = time.perf_counter()
+def setup_mne_notch(raw, n_jobs, dtype):
     freqs = NOTCH * np.arange(1, HARMONICS + 1)
-    out = raw.copy().notch_filter(freqs, n_jobs=n_jobs, verbose=False)
-    return time.perf_counter() - start, out._data.nbytes
+    return lambda: raw.copy().notch_filter(freqs, n_jobs=n_jobs, verbose=False)._data
 
 
-def case_bare_fft(raw, n_jobs, dtype):
-    """rfft -> multiply -> irfft of the data padded as gainshape pads it."""
+def setup_bare_fft(raw, n_jobs, dtype):
+    """rfft -> multiply -> irfft of the data padded as gainshape pads it, one
+    FFT over each whole padded channel (the design is made beforehand)."""
     import scipy.fft as sfft
 
     import gainshape as gs
@@ -105,38 +104,40 @@ def case_bare_fft(raw, n_jobs, dtype):
     n_pad = filt.support
     n_fft = sfft.next_fast_len(data.shape[-1] + 2 * n_pad, real=True)
     spec = filt.spectrum(n_fft).astype(data.dtype)
-    out = np.empty_like(data)
-    start = time.perf_counter()
-    for i in range(data.shape[0]):
-        x = np.pad(data[i], n_pad, mode="reflect")
-        y = sfft.irfft(sfft.rfft(x, n_fft, workers=n_jobs) * spec, n_fft, workers=n_jobs)
-        out[i] = y[n_pad : n_pad + data.shape[-1]]
-    return time.perf_counter() - start, out.nbytes
+
+    def run():
+        out = np.empty_like(data)
+        for i in range(data.shape[0]):
+            x = np.pad(data[i], n_pad, mode="reflect")
+            y = sfft.irfft(sfft.rfft(x, n_fft, workers=n_jobs) * spec, n_fft, workers=n_jobs)
+            out[i] = y[n_pad : n_pad + data.shape[-1]]
+        return out
+
+    return run
 
 
 CASES = {
-    "gainshape bandpass float64": (case_gainshape, "float64"),
-    "mne bandpass float64": (case_mne, "float64"),
-    "gainshape bandpass float32": (case_gainshape, "float32"),
-    "bare fft float64": (case_bare_fft, "float64"),
-    "bare fft float32": (case_bare_fft, "float32"),
-    "gainshape notch float64": (case_gainshape_notch, "float64"),
-    "mne notch float64": (case_mne_notch, "float64"),
+    "gainshape bandpass float64": (setup_gainshape, "float64"),
+    "mne bandpass float64": (setup_mne, "float64"),
+    "gainshape bandpass float32": (setup_gainshape, "float32"),
+    "bare fft float64": (setup_bare_fft, "float64"),
+    "bare fft float32": (setup_bare_fft, "float32"),
+    "gainshape notch float64": (setup_gainshape_notch, "float64"),
+    "mne notch float64": (setup_mne_notch, "float64"),
 }
 
 
 def worker(name, n_channels, seconds, n_jobs):
-    func, dtype = CASES[name]
+    setup, dtype = CASES[name]
     raw = make_raw(n_channels, seconds)
-    data_bytes = raw._data.nbytes if dtype == "float64" else raw._data.nbytes // 2
-    if dtype == "float32" and func is case_gainshape:
-        base_extra = data_bytes  # the float32 input copy made inside the case
-    else:
-        base_extra = 0
-    baseline = _current_rss()
-    seconds_taken, out_bytes = func(raw, n_jobs, dtype)
-    peak = _rss_bytes()
-    extra = max(peak - baseline - out_bytes - base_extra, 0)
+    run = setup(raw, n_jobs, dtype)
+    data_bytes = raw._data.nbytes // (2 if dtype == "float32" else 1)
+    baseline = _rss("VmRSS")
+    _reset_peak_rss()
+    start = time.perf_counter()
+    out = run()
+    seconds_taken = time.perf_counter() - start
+    extra = max(_rss("VmHWM") - baseline - out.nbytes, 0)
     return {"case": name, "seconds": seconds_taken, "data_bytes": data_bytes,
             "extra_memory_bytes": extra, "extra_memory_ratio": extra / data_bytes}
 
