@@ -9,6 +9,7 @@ recordings.
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass
 
 import numpy as np
@@ -16,7 +17,8 @@ import numpy as np
 from ._checks import check_option, warn
 from .curves import GainCurve
 from .design import FilterDesign, design
-from .engine import PAD_MODES, check_finite, filter_array
+from .engine import (LOCAL_PAD_MODES, PAD_MODES, block_plan, check_finite, edge_pads,
+                     filter_array, filter_span)
 from .provenance import fingerprint, history, make_step, store_step
 
 __all__ = ["apply", "replay", "as_arrays", "Signals"]
@@ -73,7 +75,11 @@ def apply(
         FFT worker threads (-1: all cores).
     copy : bool
         True: return a filtered copy and leave ``inst`` untouched. False:
-        filter in place and return ``inst`` itself.
+        filter in place and return ``inst`` itself. A Raw that is not loaded
+        is never read whole: the result is a Raw that filters block by block
+        as its data are read or saved (memory bounded by the block, not the
+        recording; ``pad`` must then be a local mode, ``length`` not None,
+        ``copy`` True; its history step carries no fingerprints).
     return_step : bool
         Also return the step record (a dict). MNE objects keep it in their
         history anyway (see :func:`gainshape.history`); arrays have nowhere
@@ -115,8 +121,20 @@ def apply(
             f"info['sfreq'] ({inst.info['sfreq']!r}); leave it out for MNE objects."
         )
     idx = _pick_indices(inst, picks)
+    lazy = kind == "raw" and not inst.preload
+    if lazy:
+        _check_lazy(filt, length, pad, nan, copy)
     filt = _realize(filt, inst.info["sfreq"], phase, length, tolerance)
     names = [inst.ch_names[i] for i in idx]
+    if lazy:
+        out = _lazy_filtered(inst, filt, idx, pad, n_jobs)
+        _update_info(out, idx, filt)
+        step = make_step(filt, channels=names, pad=pad, nan=nan,
+                         segments=[[a / filt.sfreq, b / filt.sfreq] for a, b in _raw_segments(inst)],
+                         dtype="float64", before=None, after=None)
+        step["application"]["lazy"] = True
+        store_step(out.info, step)
+        return (out, step) if return_step else out
     if nan == "raise" and (kind == "evoked" or inst.preload):
         data = inst._data if kind != "evoked" else inst.data
         rows, _ = _rows_and_segments(inst, kind, idx, data, with_segments=False)
@@ -124,7 +142,7 @@ def apply(
                      None if kind == "epochs" else inst.info["sfreq"], picked=rows)
     if copy:
         inst = inst.copy()
-    if kind != "evoked" and not inst.preload:
+    if kind == "epochs" and not inst.preload:
         inst.load_data()
     data = inst._data if kind != "evoked" else inst.data
     rows, segments = _rows_and_segments(inst, kind, idx, data)
@@ -376,7 +394,118 @@ def replay(steps, inst, *, n_jobs: int = 1, verbose=None):
             n_jobs=n_jobs, copy=True, return_step=True, verbose=verbose,
         )
         for key, what in (("fingerprint_before", "input"), ("fingerprint_after", "result")):
-            if new[key] != step.get(key):
+            if None not in (new[key], step.get(key)) and new[key] != step.get(key):
                 warn(f"Step {number}: the {what} differs from the recorded one "
                      f"(fingerprint {new[key][:19]}... vs {str(step.get(key))[:19]}...).")
     return out
+
+
+def _check_lazy(filt, length, pad, nan, copy):
+    """What a Raw that is not loaded cannot do, said before any work."""
+    exact = filt.exact if isinstance(filt, FilterDesign) else length is None
+    problems = [
+        (exact, "'length' None applies the gain on the whole record's grid, which "
+                "needs the record in memory; use length='auto'"),
+        (pad not in LOCAL_PAD_MODES, f"'pad' must be one of "
+                                     f"{', '.join(repr(m) for m in LOCAL_PAD_MODES)}, "
+                                     f"not {pad!r}"),
+        (nan != "raise", "'nan' must be 'raise'"),
+        (not copy, "'copy' False cannot filter a file in place"),
+    ]
+    for failed, message in problems:
+        if failed:
+            raise ValueError(
+                f"The Raw is not loaded, so it is filtered lazily as it is read: "
+                f"{message}. Or call raw.load_data() first."
+            )
+
+
+def _lazy_filtered(raw, filt, idx, pad, n_jobs):
+    """A Raw that filters ``raw`` (not loaded) block by block as it is read."""
+    from mne.io import BaseRaw
+
+    info = raw.info.copy()
+    with info._unlock():
+        for ch in info["chs"]:  # the reader returns calibrated data already
+            ch["cal"], ch["range"] = 1.0, 1.0
+
+    class _FilteredRaw(BaseRaw):
+        def _read_segment_file(self, data, idx, fi, start, stop, cals, mult):
+            from mne._fiff.utils import _mult_cal_one
+
+            reader = self._raw_extras[fi]["gainshape_reader"]
+            _mult_cal_one(data, reader.read(start, stop), idx, cals, mult)
+
+    reader = _BlockReader(raw, filt, idx, pad, n_jobs)
+    out = _FilteredRaw(
+        info, preload=False, first_samps=(raw.first_samp,), last_samps=(raw.last_samp,),
+        filenames=(None,), raw_extras=({"gainshape_reader": reader},),
+        orig_format="double", dtype=np.float64, verbose=False,
+    )
+    out.set_annotations(raw.annotations)
+    return out
+
+
+class _BlockReader:
+    """Filtered samples of a source Raw, computed one block at a time.
+
+    Each request is served from the last block when it lies inside it;
+    otherwise a new block starting at the request is filtered (overlap-save
+    with the kernel's support read around it). Memory is bounded by the
+    block length, independent of the recording's length.
+    """
+
+    def __init__(self, raw, filt, rows, pad, n_jobs):
+        self.raw, self.filt, self.rows, self.pad = raw, filt, rows, pad
+        self.workers = n_jobs if n_jobs != -1 else (os.cpu_count() or 1)
+        self.segments = _raw_segments(raw)
+        self.names = [raw.ch_names[i] for i in rows]
+        self.cache = (0, 0, None)
+        self.edges = {}
+
+    def read(self, start, stop):
+        """All channels, samples [start, stop) in the source's file samples."""
+        start, stop = start - self.raw.first_samp, stop - self.raw.first_samp
+        c_start, c_stop, block = self.cache
+        if not (c_start <= start and stop <= c_stop):
+            _, step = self._plan((0, self.raw.n_times))
+            c_start, c_stop = start, min(self.raw.n_times, max(stop, start + step))
+            block = self._filtered(c_start, c_stop)
+            self.cache = (c_start, c_stop, block)
+        return block[:, start - c_start : stop - c_start]
+
+    def _plan(self, segment):
+        s, e = segment
+        return block_plan(e - s, self.filt.support, compact=True)
+
+    def _filtered(self, start, stop):
+        out = self.raw.get_data(start=start, stop=stop)
+        for s, e in self.segments:
+            a, b = max(start, s), min(stop, e)
+            if a >= b:
+                continue
+            view = _SegmentView(self.raw, self.rows, s, e, self.names)
+            if (s, e) not in self.edges:
+                self.edges = {(s, e): edge_pads(view, self.filt.support, self.pad)}
+            n_fft, step = self._plan((s, e))
+            buf = np.zeros((len(self.rows), n_fft))
+            for lo in range(a - s, b - s, step):
+                hi = min(lo + step, b - s)
+                out[self.rows, s + lo - start : s + hi - start] = filter_span(
+                    view, self.edges[(s, e)], lo, hi, self.filt, n_fft, self.workers, buf)
+        return out
+
+
+class _SegmentView:
+    """``view[:, lo:hi]`` reads rows of a Raw segment from disk, checking for NaN."""
+
+    def __init__(self, raw, rows, start, stop, names):
+        self.raw, self.rows, self.start, self.names = raw, rows, start, names
+        self.shape = (len(rows), stop - start)
+
+    def __getitem__(self, key):
+        _, sl = key
+        lo, hi, _ = sl.indices(self.shape[1])
+        data = self.raw.get_data(picks=self.rows, start=self.start + lo, stop=self.start + hi)
+        check_finite(data, self.names)
+        return data

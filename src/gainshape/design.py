@@ -176,14 +176,19 @@ class FilterDesign:
             return self.requested_gain(freqs)
         return np.abs(self._response(np.asarray(freqs, dtype=float)))
 
-    def spectrum(self, n_fft: int) -> np.ndarray:
+    def spectrum(self, n_fft: int, dtype=np.float64) -> np.ndarray:
         """Response on the ``rfft`` grid of ``n_fft`` points (for the engine).
 
-        Real for zero phase, complex for minimum phase; cached per size.
+        Real for zero phase, complex for minimum phase, in single precision
+        for ``dtype=float32`` data; cached per size and precision.
         """
-        if n_fft not in self._spectra:
-            self._spectra[n_fft] = self._compute_spectrum(n_fft)
-        return self._spectra[n_fft]
+        key = (n_fft, np.dtype(dtype) == np.float32)
+        if key not in self._spectra:
+            spec = self._compute_spectrum(n_fft)
+            if key[1]:
+                spec = spec.astype(np.float32 if spec.dtype.kind == "f" else np.complex64)
+            self._spectra[key] = spec
+        return self._spectra[key]
 
     def _compute_spectrum(self, n_fft: int) -> np.ndarray:
         if self.exact:
@@ -428,8 +433,12 @@ def _taper(n: int) -> np.ndarray:
     return tukey(n, alpha=2 * _TAPER_FRACTION, sym=True) if n > 2 else np.ones(n)
 
 
-def _validated_gain(curve: GainCurve, freqs: np.ndarray) -> np.ndarray:
-    gain = curve(freqs)
+def _validated_gain(curve: GainCurve, freqs: np.ndarray, chunk: int = 2**16) -> np.ndarray:
+    """The curve at ``freqs``, evaluated in chunks (bounded temporaries), checked."""
+    gain = np.empty(freqs.shape)
+    flat_f, flat_g = freqs.reshape(-1), gain.reshape(-1)
+    for i in range(0, flat_f.size, chunk):
+        flat_g[i : i + chunk] = curve(flat_f[i : i + chunk])
     bad = ~np.isfinite(gain) | (gain < 0)
     if bad.any():
         raise ValueError(
@@ -467,8 +476,10 @@ def _minimum_phase_spectrum(curve, n: int, sfreq: float, tolerance: float) -> np
 def _kernel_spectrum(kernel, offset, n_fft, phase) -> np.ndarray:
     """Response of ``kernel`` (t = 0 at ``offset``) on an rfft grid of n_fft."""
     buf = np.zeros(n_fft)
-    buf[: kernel.size] = kernel
-    spec = sfft.rfft(np.roll(buf, -offset))
+    buf[: kernel.size - offset] = kernel[offset:]  # t >= 0 at the start,
+    if offset:
+        buf[n_fft - offset :] = kernel[:offset]  # t < 0 wrapped to the end
+    spec = sfft.rfft(buf)
     return spec.real if phase == "zero" else spec
 
 
@@ -498,7 +509,7 @@ def _characterize(curve, kernel, offset, sfreq, phase, tol, exact) -> Characteri
     nyq = sfreq / 2.0
     n_fft = max(2 * _MIN_DENSE, 1 << int(np.ceil(np.log2(16 * kernel.size))))
     freqs = sfft.rfftfreq(n_fft, 1.0 / sfreq)
-    requested = curve(freqs)
+    requested = _validated_gain(curve, freqs)
     if exact:
         point_fn, signed = curve, requested
     else:

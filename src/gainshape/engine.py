@@ -5,7 +5,7 @@ Vocabulary: *rows* are everything but the last axis (channels, epochs); a
 discontinuities or NaN runs); *support* is the kernel's reach in samples, and
 every segment is padded by at least that much on each side. This module knows
 nothing of MNE; ``design`` is any object with ``support``, ``sfreq``,
-``kernel`` and ``spectrum(n_fft)`` (a :class:`gainshape.design.FilterDesign`).
+``kernel`` and ``spectrum(n_fft, dtype)`` (a :class:`gainshape.design.FilterDesign`).
 """
 
 from __future__ import annotations
@@ -33,7 +33,7 @@ PAD_MODES = (
     "wrap",
 )
 _MIN_BLOCK_BYTES = 16 * 2**20
-_BLOCK_FRACTION = 0.125  # working memory per block, as a fraction of the data
+_BLOCK_FRACTION = 0.1  # working memory per block, as a fraction of the data
 
 
 def filter_array(
@@ -250,14 +250,16 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ve
             out_rows[sel, start + a : start + b] = filtered
 
 
-def block_plan(n_seg: int, n_pad: int, whole: bool = False) -> tuple[int, int]:
+def block_plan(n_seg: int, n_pad: int, whole: bool = False, compact: bool = False) -> tuple[int, int]:
     """FFT size and output samples per block for a segment of ``n_seg`` samples.
 
     One FFT over the whole padded segment when it is short or ``whole`` is
     asked for (a design applied exactly on the record's grid); otherwise blocks
     of a power of two about 8 x the overlap (``2 n_pad``), at most 2**18
     unless the overlap needs more: such FFTs stay in cache and run about
-    twice as fast per sample as one FFT of a long recording.
+    twice as fast per sample as one FFT of a long recording. ``compact``
+    takes the smallest block with at most half of it overlap (for reading
+    from disk with little memory).
 
     Examples
     --------
@@ -268,6 +270,8 @@ def block_plan(n_seg: int, n_pad: int, whole: bool = False) -> tuple[int, int]:
     """
     n_whole = sfft.next_fast_len(n_seg + 2 * n_pad, real=True)
     n_fft = max(2**15, min(2**18, 1 << int(np.ceil(np.log2(8 * max(n_pad, 1))))))
+    if compact:
+        n_fft = 2**12
     n_fft = max(n_fft, 1 << int(np.ceil(np.log2(4 * max(n_pad, 1)))))
     if whole or n_whole <= n_fft:
         return n_whole, n_seg
@@ -342,16 +346,9 @@ def filter_span(seg, edges, a, b, design, n_fft, workers, buf, carry=None) -> np
         r_lo = max(lo - n, 0)
         buf[:, pos : pos + hi - n - r_lo] = right[:, r_lo : hi - n]
     spectrum = sfft.rfft(buf, axis=-1, workers=workers)
-    spectrum *= _spectrum(design, n_fft, buf.dtype)
+    spectrum *= design.spectrum(n_fft, buf.dtype)
     out = sfft.irfft(spectrum, n=n_fft, axis=-1, workers=workers, overwrite_x=True)
     return out[:, n_pad : n_pad + b - a]
-
-
-def _spectrum(design, n_fft, dtype):
-    spec = design.spectrum(n_fft)
-    if dtype == np.float32:
-        return spec.astype(np.float32 if spec.dtype.kind == "f" else np.complex64)
-    return spec
 
 
 def _progress(blocks, verbose):
