@@ -480,7 +480,7 @@ def _kernel_spectrum(kernel, offset, n_fft, phase) -> np.ndarray:
     if offset:
         buf[n_fft - offset :] = kernel[:offset]  # t < 0 wrapped to the end
     spec = sfft.rfft(buf)
-    return spec.real if phase == "zero" else spec
+    return np.ascontiguousarray(spec.real) if phase == "zero" else spec
 
 
 def _dtft(kernel, offset, sfreq, freqs, phase, chunk_elems=2**22) -> np.ndarray:
@@ -507,7 +507,7 @@ def _characterize(curve, kernel, offset, sfreq, phase, tol, exact) -> Characteri
     denser than the kernel (exact values there), with crossings refined on the
     exact response."""
     nyq = sfreq / 2.0
-    n_fft = max(2 * _MIN_DENSE, 1 << int(np.ceil(np.log2(16 * kernel.size))))
+    n_fft = max(2 * _MIN_DENSE, sfft.next_fast_len(16 * kernel.size, real=True))
     freqs = sfft.rfftfreq(n_fft, 1.0 / sfreq)
     requested = _validated_gain(curve, freqs)
     if exact:
