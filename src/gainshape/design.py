@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import scipy.fft as sfft
-from scipy.optimize import brentq
+from scipy.optimize import brentq, minimize_scalar
 
 from ._checks import check_option, check_positive, warn
 from .curves import GainCurve
@@ -503,11 +503,11 @@ def _dtft(kernel, offset, sfreq, freqs, phase, chunk_elems=2**22) -> np.ndarray:
 
 # -- characterization -----------------------------------------------------------
 def _characterize(curve, kernel, offset, sfreq, phase, tol, exact) -> Characteristics:
-    """Characteristics from the realized gain on an FFT grid at least 16 times
-    denser than the kernel (exact values there), with crossings refined on the
-    exact response."""
+    """Characteristics from the realized gain on an FFT grid at least 8 times
+    denser than the kernel (exact values there), with crossings and the
+    largest deviations refined on the exact response."""
     nyq = sfreq / 2.0
-    n_fft = max(2 * _MIN_DENSE, sfft.next_fast_len(16 * kernel.size, real=True))
+    n_fft = max(2 * _MIN_DENSE, sfft.next_fast_len(8 * kernel.size, real=True))
     freqs = sfft.rfftfreq(n_fft, 1.0 / sfreq)
     requested = _validated_gain(curve, freqs)
     if exact:
@@ -518,6 +518,14 @@ def _characterize(curve, kernel, offset, sfreq, phase, tol, exact) -> Characteri
 
         spec = _kernel_spectrum(kernel, offset, n_fft, phase)
         signed = spec if phase == "zero" else np.abs(spec)
+    # the lowest 64 grid steps hold too few points for slopes: add 32 exact
+    # points per step there (zoom FFT)
+    low = np.linspace(0.0, freqs[64], 2048)[1:]
+    low_signed = curve(low) if exact else _zoom_response(kernel, offset, sfreq, freqs[64], phase)
+    order = np.argsort(np.concatenate([freqs, low]), kind="stable")
+    freqs = np.concatenate([freqs, low])[order]
+    requested = np.concatenate([requested, curve(low)])[order]
+    signed = np.concatenate([signed, low_signed if phase == "zero" else np.abs(low_signed)])[order]
     realized = np.abs(signed)
 
     def grid_fn(f):
@@ -545,11 +553,38 @@ def _characterize(curve, kernel, offset, sfreq, phase, tol, exact) -> Characteri
         rolloff=rolloffs,
         passband_ripple_db=ripple,
         stopband_attenuation_db=atten,
-        max_deviation=float(np.max(np.abs(signed - requested))),
+        max_deviation=_max_deviation(freqs, signed, requested, curve, None if exact else point_fn),
         ringing=_ringing(kernel, sfreq),
         group_delay=_group_delay(kernel, offset, sfreq, phase, n_fft),
         length=kernel.size / sfreq,
     )
+
+
+def _zoom_response(kernel, offset, sfreq, fmax, phase, m=2048) -> np.ndarray:
+    """Exact response at ``m - 1`` points evenly spaced in (0, fmax] (zoom FFT)."""
+    from scipy.signal import ZoomFFT
+
+    freqs = np.linspace(0.0, fmax, m)
+    spec = ZoomFFT(kernel.size, [0.0, fmax], m=m, fs=sfreq, endpoint=True)(kernel)
+    spec = spec * np.exp(2j * np.pi * freqs * offset / sfreq)  # t = 0 at the offset
+    return (spec.real if phase == "zero" else spec)[1:]
+
+
+def _max_deviation(freqs, realized, requested, curve, point_fn, n_peaks=8) -> float:
+    """Largest |realized - requested|: the grid's largest peaks, each refined
+    by a bounded search on the exact response between its grid neighbours."""
+    dev = np.abs(realized - requested)
+    best = float(dev.max())
+    if point_fn is None:  # applied exactly on the record's grid
+        return best
+    inner = np.flatnonzero((dev[1:-1] >= dev[:-2]) & (dev[1:-1] >= dev[2:])) + 1
+    for i in inner[np.argsort(dev[inner])[-n_peaks:]]:
+        found = minimize_scalar(
+            lambda f: -abs(float(point_fn(np.array([f]))[0]) - float(curve(f))),
+            bounds=(freqs[i - 1], freqs[i + 1]), method="bounded",
+            options={"xatol": 1e-6 * (freqs[1] - freqs[0])})
+        best = max(best, -float(found.fun))
+    return best
 
 
 def _crossings(freqs, gain, level, fn) -> tuple:
