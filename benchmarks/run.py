@@ -16,6 +16,7 @@ import json
 import os
 import platform
 import subprocess
+import tempfile
 import sys
 import time
 from pathlib import Path
@@ -40,14 +41,18 @@ HARMONICS = 3
 
 
 def make_raw(n_channels, seconds, sfreq=1000.0):
+    """The simulated recording, read back from a FIF file as users' data are
+    (a RawArray would also keep its input array, which ``copy()`` duplicates)."""
     import mne
 
-    rng = np.random.default_rng(0)
-    n = int(seconds * sfreq)
-    data = rng.standard_normal((n_channels, n))
-    data *= 1e-5
-    info = mne.create_info([f"EEG{i:03d}" for i in range(n_channels)], sfreq, "eeg")
-    return mne.io.RawArray(data, info, copy=None, verbose=False)
+    fname = Path(tempfile.gettempdir()) / f"gainshape_bench_{n_channels}x{int(seconds)}_raw.fif"
+    if not fname.exists():
+        rng = np.random.default_rng(0)
+        data = rng.standard_normal((n_channels, int(seconds * sfreq)))
+        data *= 1e-5
+        info = mne.create_info([f"EEG{i:03d}" for i in range(n_channels)], sfreq, "eeg")
+        mne.io.RawArray(data, info, verbose=False).save(fname, fmt="double", verbose=False)
+    return mne.io.read_raw_fif(fname, preload=True, verbose=False)
 
 
 def _reset_peak_rss():
@@ -154,6 +159,7 @@ def main(argv=None):
     if args.worker:
         print(json.dumps(worker(args.worker, n_channels, seconds, args.n_jobs)))
         return 0
+    make_raw(n_channels, seconds)  # write the shared input file once
     results = {}
     for name in CASES:
         runs = []

@@ -140,27 +140,45 @@ def apply(
         rows, _ = _rows_and_segments(inst, kind, idx, data, with_segments=False)
         check_finite(data.reshape(-1, data.shape[-1]), _row_names(names, kind, len(rows)),
                      None if kind == "epochs" else inst.info["sfreq"], picked=rows)
-    if copy:
-        inst = inst.copy()
     if kind == "epochs" and not inst.preload:
+        inst = inst.copy() if copy else inst
         inst.load_data()
+        copy = False  # the loaded copy is ours to filter in place
     data = inst._data if kind != "evoked" else inst.data
+    out = _copy_with_empty_data(inst, kind) if copy else inst
+    out_data = out._data if kind != "evoked" else out.data
     rows, segments = _rows_and_segments(inst, kind, idx, data)
     flat = data.reshape(-1, data.shape[-1])
     before = fingerprint(flat, rows)
     filter_array(
         data, filt, pad=pad, segments=segments, nan=nan, n_jobs=n_jobs, rows=rows,
-        out=data, row_names=_row_names(names, kind, len(rows)), verbose=verbose,
+        out=out_data, row_names=_row_names(names, kind, len(rows)), verbose=verbose,
         segment_name="Each epoch" if kind == "epochs" else None,
         short_hint=_EPOCH_HINT if kind == "epochs" else "",
     )
-    _update_info(inst, idx, filt)
+    _update_info(out, idx, filt)
     seconds = None if segments is None else [
         [a / filt.sfreq, b / filt.sfreq] for a, b in segments]
+    after = fingerprint(out_data.reshape(-1, data.shape[-1]), rows)
     step = make_step(filt, channels=names, pad=pad, nan=nan, segments=seconds,
-                     dtype=str(data.dtype), before=before, after=fingerprint(flat, rows))
-    store_step(inst.info, step)
-    return (inst, step) if return_step else inst
+                     dtype=str(data.dtype), before=before, after=after)
+    store_step(out.info, step)
+    return (out, step) if return_step else out
+
+
+def _copy_with_empty_data(inst, kind):
+    """``inst.copy()`` whose data array is new and unfilled (the engine writes
+    every sample of it), sparing a copy of data about to be replaced."""
+    if kind == "evoked":
+        return inst.copy()
+    data = inst._data
+    try:
+        inst._data = np.empty(data.shape[:-1] + (0,), dtype=data.dtype)
+        out = inst.copy()
+    finally:
+        inst._data = data
+    out._data = np.empty_like(data)
+    return out
 
 
 @dataclass(frozen=True)

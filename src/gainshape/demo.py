@@ -45,7 +45,8 @@ def simulate_workshop_recording(seconds: float = 180.0, sfreq: float = 500.0, se
     t = np.arange(n) / sfreq
     info = mne.create_info(_CHANNELS + ["EOG1", "STI 014"], sfreq,
                            ["eeg"] * len(_CHANNELS) + ["eog", "stim"])
-    info.set_montage("standard_1020")
+    builtin = mne.channels.get_builtin_montages()
+    info.set_montage("colin27_1020" if "colin27_1020" in builtin else "standard_1020")
     pos = np.array([info["chs"][i]["loc"][:3] for i in range(len(_CHANNELS))])
     front = (pos[:, 1] - pos[:, 1].min()) / np.ptp(pos[:, 1])  # 0 back .. 1 front
     top = (pos[:, 2] - pos[:, 2].min()) / np.ptp(pos[:, 2])  # 0 low .. 1 vertex
