@@ -115,55 +115,75 @@ def apply(
                                  nan, n_jobs, copy, verbose)
         return (out, step) if return_step else out
     kind = _mne_kind(inst)
-    if sfreq is not None and float(sfreq) != inst.info["sfreq"]:
-        raise ValueError(
-            f"The 'sfreq' parameter ({sfreq!r}) differs from the data's "
-            f"info['sfreq'] ({inst.info['sfreq']!r}); leave it out for MNE objects."
-        )
+    _check_sfreq(inst, sfreq)
     idx = _pick_indices(inst, picks)
-    lazy = kind == "raw" and not inst.preload
-    if lazy:
+    if kind == "raw" and not inst.preload:
         _check_lazy(filt, length, pad, nan, copy)
-    filt = _realize(filt, inst.info["sfreq"], phase, length, tolerance)
+        filt = _realize(filt, inst.info["sfreq"], phase, length, tolerance)
+        out, step = _apply_lazy(inst, filt, idx, pad, nan, n_jobs)
+    else:
+        filt = _realize(filt, inst.info["sfreq"], phase, length, tolerance)
+        out, step = _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose)
+    _update_info(out, idx, filt)
+    store_step(out.info, step)
+    return (out, step) if return_step else out
+
+
+def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
+    """Filter data in memory; returns the filtered object and its step."""
     names = [inst.ch_names[i] for i in idx]
-    if lazy:
-        out = _lazy_filtered(inst, filt, idx, pad, n_jobs)
-        _update_info(out, idx, filt)
-        step = make_step(filt, channels=names, pad=pad, nan=nan,
-                         segments=[[a / filt.sfreq, b / filt.sfreq] for a, b in _raw_segments(inst)],
-                         dtype="float64", before=None, after=None)
-        step["application"]["lazy"] = True
-        store_step(out.info, step)
-        return (out, step) if return_step else out
-    if nan == "raise" and (kind == "evoked" or inst.preload):
-        data = inst._data if kind != "evoked" else inst.data
-        rows, _ = _rows_and_segments(inst, kind, idx, data, with_segments=False)
-        check_finite(data.reshape(-1, data.shape[-1]), _row_names(names, kind, len(rows)),
-                     None if kind == "epochs" else inst.info["sfreq"], picked=rows)
     if kind == "epochs" and not inst.preload:
         inst = inst.copy() if copy else inst
         inst.load_data()
         copy = False  # the loaded copy is ours to filter in place
     data = inst._data if kind != "evoked" else inst.data
+    rows, segments = _rows_and_segments(inst, kind, idx, data)
+    row_names = _row_names(names, kind, len(rows))
+    flat = data.reshape(-1, data.shape[-1])
+    if nan == "raise":  # before any work, on the input itself
+        check_finite(flat, row_names, None if kind == "epochs" else inst.info["sfreq"],
+                     picked=rows)
     out = _copy_with_empty_data(inst, kind) if copy else inst
     out_data = out._data if kind != "evoked" else out.data
-    rows, segments = _rows_and_segments(inst, kind, idx, data)
-    flat = data.reshape(-1, data.shape[-1])
     before = fingerprint(flat, rows)
     filter_array(
         data, filt, pad=pad, segments=segments, nan=nan, n_jobs=n_jobs, rows=rows,
-        out=out_data, row_names=_row_names(names, kind, len(rows)), verbose=verbose,
+        out=out_data, row_names=row_names, verbose=verbose,
         segment_name="Each epoch" if kind == "epochs" else None,
         short_hint=_EPOCH_HINT if kind == "epochs" else "",
     )
-    _update_info(out, idx, filt)
     seconds = None if segments is None else [
         [a / filt.sfreq, b / filt.sfreq] for a, b in segments]
     after = fingerprint(out_data.reshape(-1, data.shape[-1]), rows)
     step = make_step(filt, channels=names, pad=pad, nan=nan, segments=seconds,
                      dtype=str(data.dtype), before=before, after=after)
-    store_step(out.info, step)
-    return (out, step) if return_step else out
+    return out, step
+
+
+def _apply_lazy(raw, filt, idx, pad, nan, n_jobs):
+    """A lazily filtered Raw for one that is not loaded, and its step."""
+    out = _lazy_filtered(raw, filt, idx, pad, n_jobs)
+    seconds = [[a / filt.sfreq, b / filt.sfreq] for a, b in _raw_segments(raw)]
+    step = make_step(filt, channels=[raw.ch_names[i] for i in idx], pad=pad, nan=nan,
+                     segments=seconds, dtype="float64", before=None, after=None)
+    step["application"]["lazy"] = True
+    return out, step
+
+
+def _check_sfreq(inst, sfreq):
+    if sfreq is not None and float(sfreq) != inst.info["sfreq"]:
+        raise ValueError(
+            f"The 'sfreq' parameter ({sfreq!r}) differs from the data's "
+            f"info['sfreq'] ({inst.info['sfreq']!r}); leave it out for MNE objects."
+        )
+
+
+def _require_sfreq(sfreq):
+    if sfreq is None:
+        raise ValueError(
+            "The 'sfreq' parameter is required for arrays: pass the sampling "
+            "rate in Hz, e.g. sfreq=1000.0."
+        )
 
 
 def _copy_with_empty_data(inst, kind):
@@ -210,11 +230,7 @@ def as_arrays(inst, *, sfreq=None) -> Signals:
     ['0', '1', '2']
     """
     if isinstance(inst, np.ndarray):
-        if sfreq is None:
-            raise ValueError(
-                "The 'sfreq' parameter is required for arrays: pass the sampling "
-                "rate in Hz, e.g. sfreq=1000.0."
-            )
+        _require_sfreq(sfreq)
         if inst.ndim not in (1, 2) or inst.dtype.kind != "f":
             raise ValueError(
                 "Arrays must be 1-D or 2-D (channels x times) floating point, but got "
@@ -227,11 +243,7 @@ def as_arrays(inst, *, sfreq=None) -> Signals:
     from mne._fiff.pick import _picks_to_idx
 
     kind = _mne_kind(inst)
-    if sfreq is not None and float(sfreq) != inst.info["sfreq"]:
-        raise ValueError(
-            f"The 'sfreq' parameter ({sfreq!r}) differs from the data's "
-            f"info['sfreq'] ({inst.info['sfreq']!r}); leave it out for MNE objects."
-        )
+    _check_sfreq(inst, sfreq)
     idx = _picks_to_idx(inst.info, "data", exclude=())
     data = inst.get_data(picks=idx) if kind != "evoked" else inst.data[idx]
     ids = [step.get("id") for step in history(inst)]
@@ -244,11 +256,7 @@ def _apply_array(data, filt, sfreq, picks, pad, phase, length, tolerance, nan,
                  n_jobs, copy, verbose):
     if sfreq is None and isinstance(filt, FilterDesign):
         sfreq = filt.sfreq
-    if sfreq is None:
-        raise ValueError(
-            "The 'sfreq' parameter is required for arrays: pass the sampling "
-            "rate in Hz, e.g. sfreq=1000.0."
-        )
+    _require_sfreq(sfreq)
     filt = _realize(filt, sfreq, phase, length, tolerance)
     n_ch = data.shape[-2] if data.ndim >= 2 else 1
     channels = np.arange(n_ch) if picks is None else np.arange(n_ch)[picks]

@@ -570,7 +570,7 @@ def _zoom_response(kernel, offset, sfreq, fmax, phase, m=2048) -> np.ndarray:
     return (spec.real if phase == "zero" else spec)[1:]
 
 
-def _max_deviation(freqs, realized, requested, curve, point_fn, n_peaks=8) -> float:
+def _max_deviation(freqs, realized, requested, curve, point_fn, n_peaks=3) -> float:
     """Largest |realized - requested|: the grid's largest peaks, each refined
     by a bounded search on the exact response between its grid neighbours."""
     dev = np.abs(realized - requested)
@@ -582,7 +582,7 @@ def _max_deviation(freqs, realized, requested, curve, point_fn, n_peaks=8) -> fl
         found = minimize_scalar(
             lambda f: -abs(float(point_fn(np.array([f]))[0]) - float(curve(f))),
             bounds=(freqs[i - 1], freqs[i + 1]), method="bounded",
-            options={"xatol": 1e-6 * (freqs[1] - freqs[0])})
+            options={"xatol": 1e-3 * (freqs[1] - freqs[0])})
         best = max(best, -float(found.fun))
     return best
 
