@@ -258,7 +258,7 @@ def plot_audit(ds, *, tmin=-0.5, tmax=2.0, show=True):
     Examples
     --------
     >>> import gainshape as gs
-    >>> fig = plot_audit(gs.audit(gs.highpass(1.0), 250.0), show=False)
+    >>> fig = plot_audit(gs.audit(gs.highpass(0.1), 250.0), show=False)
     >>> len(fig.axes)
     3
     """
