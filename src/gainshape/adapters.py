@@ -148,7 +148,7 @@ def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
     before = fingerprint(flat, rows)
     filter_array(
         data, filt, pad=pad, segments=segments, nan=nan, n_jobs=n_jobs, rows=rows,
-        out=out_data, row_names=row_names, verbose=verbose,
+        out=out_data, row_names=row_names, verbose=verbose, checked=True,
         segment_name="Each epoch" if kind == "epochs" else None,
         short_hint=_EPOCH_HINT if kind == "epochs" else "",
     )

@@ -49,6 +49,7 @@ def filter_array(
     row_names=None,
     segment_name: str | None = None,
     short_hint: str = "",
+    checked: bool = False,
     verbose=None,
 ) -> np.ndarray:
     """Filter ``data`` along its last axis with ``design``.
@@ -81,6 +82,8 @@ def filter_array(
         How warnings name a segment (e.g. "Each epoch"); None: by its times.
     short_hint : str
         Advice appended to the warning for segments shorter than the kernel.
+    checked : bool
+        The caller has already checked the rows for non-finite values.
 
     Returns
     -------
@@ -103,7 +106,7 @@ def filter_array(
     all_rows = data.reshape(-1, data.shape[-1])
     picked = np.arange(all_rows.shape[0]) if rows is None else np.asarray(rows, dtype=int)
     segments = _check_segments(segments, data.shape[-1])
-    if nan == "raise":
+    if nan == "raise" and not checked:
         check_finite(all_rows, row_names, picked=picked)
     if out is None:
         out = np.empty_like(data)

@@ -69,8 +69,8 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
         Dims ``(channel, band)`` (``(epoch, channel, band)`` for Epochs);
         ``power_before``, ``power_after``, ``change_db``, ``retained``;
         coords ``band_low``, ``band_high`` (Hz) and ``ch_type``; attrs with the
-        sampling rate, Welch settings and the ids of history steps in
-        ``after`` that ``before`` lacks.
+        sampling rate, Welch settings and the ids (comma-separated) of the
+        history steps in ``after`` that ``before`` lacks.
 
     Examples
     --------
