@@ -222,10 +222,17 @@ def bids_filters(inst) -> dict | str:
     out = {}
     for i, step in enumerate(steps, start=1):
         r, d = step.get("realized", {}), step.get("design", {})
+        passband, stops = _edge_groups(r)
+        edges = {}
+        for name, hz, half_power, slope in passband:
+            edges[f"{name} half-amplitude cutoff (Hz)"] = _round_sig(hz, 4)
+            edges[f"{name} half-power cutoff (Hz)"] = _round_sig(half_power, 4)
+            edges[f"{name} roll-off (dB/octave)"] = _round_sig(slope, 3)
+        if stops:
+            edges["stop bands between half-amplitude points (Hz)"] = [
+                [_round_sig(lo, 4), _round_sig(hi, 4)] for lo, hi in stops]
         out[f"gainshape step {i}: {r.get('kind', 'filter')}"] = {
-            "half-amplitude cutoff (Hz)": _rounded(r.get("half_amplitude", []), 4),
-            "half-power cutoff (Hz)": _rounded(r.get("half_power", []), 4),
-            "roll-off (dB/octave)": _rounded(r.get("rolloff", []), 3),
+            **edges,
             "passband ripple (dB)": _round_sig(r.get("passband_ripple_db"), 3),
             "stopband attenuation (dB)": _round_sig(r.get("stopband_attenuation_db"), 3),
             "phase": d.get("phase", "n/a"),
@@ -311,28 +318,41 @@ def _step_sentences(step) -> str:
     return " ".join(text)
 
 
-def _edge_sentence(r) -> str:
-    """Cutoffs of the pass-band edges (with roll-off) and the stop bands between."""
+def _edge_groups(r):
+    """Pass-band edges [(name, hz, half-power hz or None, roll-off or None)]
+    and stop bands [(low, high)] of a step's realized characteristics."""
     edges = list(zip(r.get("half_amplitude", []), r.get("half_amplitude_direction", [])))
     power = list(r.get("half_power", []))
     slopes = list(r.get("rolloff", []))
-    if not edges:
-        return "The realized gain did not cross 0.5 (no half-amplitude cutoff)."
     outer = []
-    if edges[0][1] == "rising":
+    if edges and edges[0][1] == "rising":
         outer.append((0, "high-pass"))
-    if edges[-1][1] == "falling" and len(edges) - 1 not in [i for i, _ in outer]:
+    if edges and edges[-1][1] == "falling" and (not outer or len(edges) > 1):
         outer.append((len(edges) - 1, "low-pass"))
+    passband = [
+        (name, edges[i][0], power[i] if len(power) == len(edges) else None,
+         slopes[i] if i < len(slopes) else None)
+        for i, name in outer
+    ]
+    inner = [i for i in range(len(edges)) if i not in [j for j, _ in outer]]
+    stops = [(edges[i][0], edges[j][0]) for i, j in zip(inner[::2], inner[1::2])]
+    return passband, stops
+
+
+def _edge_sentence(r) -> str:
+    """Cutoffs of the pass-band edges (with roll-off) and the stop bands between."""
+    passband, stops = _edge_groups(r)
+    if not passband and not stops:
+        return "The realized gain did not cross 0.5 (no half-amplitude cutoff)."
     parts = []
-    for i, name in outer:
-        hp = f", half-power {power[i]:.3g} Hz" if i < len(power) and len(power) == len(edges) else ""
-        slope = f", roll-off {slopes[i]:.1f} dB/octave" if i < len(slopes) else ""
-        parts.append(f"{name} half-amplitude (-6 dB) cutoff {edges[i][0]:.3g} Hz{hp}{slope}")
-    inner_idx = [i for i in range(len(edges)) if i not in [j for j, _ in outer]]
-    stops = [f"{edges[i][0]:.4g}-{edges[j][0]:.4g}" for i, j in zip(inner_idx[::2], inner_idx[1::2])]
+    for name, hz, half_power, slope in passband:
+        hp = f", half-power {half_power:.3g} Hz" if half_power is not None else ""
+        sl = f", roll-off {slope:.1f} dB/octave" if slope is not None else ""
+        parts.append(f"{name} half-amplitude (-6 dB) cutoff {hz:.3g} Hz{hp}{sl}")
     if stops:
+        bands = [f"{lo:.4g}-{hi:.4g}" for lo, hi in stops]
         parts.append("stop band" + ("s" if len(stops) > 1 else "") + " between half-amplitude "
-                     "points at " + _and_list(stops) + " Hz")
+                     "points at " + _and_list(bands) + " Hz")
     return "The realized filter had " + "; ".join(parts) + "."
 
 
