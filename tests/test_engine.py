@@ -115,3 +115,8 @@ def test_blocks_in_time_equal_one_fft_over_the_record(rng):
     in_place = x.copy()
     filter_array(in_place, design, out=in_place)
     np.testing.assert_allclose(in_place, expected, atol=1e-12)
+
+
+def test_progress_bar_shown_when_verbose(capsys, rng):
+    filter_array(rng.standard_normal((2, 3000)), DESIGN, verbose=True)
+    assert "filtering" in capsys.readouterr().err
