@@ -112,3 +112,12 @@ def test_repr_and_html():
 def test_spectrum_cached_per_size():
     f = gs.design(gs.lowpass(30.0), SFREQ)
     assert f.spectrum(4096) is f.spectrum(4096)
+
+
+def test_jump_in_request_is_explained():
+    brickwall = gs.GainCurve(lambda f: (f < 30.0).astype(float))
+    with pytest.raises(ValueError, match="jump, a kink"):
+        gs.design(brickwall, 250.0)
+    with pytest.warns(gs.GainshapeWarning, match="no kernel length meets it"):
+        f = gs.design(brickwall, 250.0, length=1.0)
+    assert f.characteristics.max_deviation > 0.1

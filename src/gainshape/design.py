@@ -340,11 +340,13 @@ def design(
         chars = _characterize(curve, kernel, offset, sfreq, phase, tolerance, exact)
     kernel.setflags(write=False)
     if not exact and length != "auto" and chars.max_deviation > tolerance:
-        auto_len = realizer.shortest()[0].size / sfreq
+        try:
+            fix = f"use length='auto' ({realizer.shortest()[0].size / sfreq:.3g} s) to meet it."
+        except ValueError:
+            fix = "no kernel length meets it: the request has a jump or a kink."
         warn(
             f"A kernel of {kernel.size / sfreq:.3g} s realizes the request only to "
-            f"within {chars.max_deviation:.3g} (tolerance {tolerance:g}); "
-            f"use length='auto' ({auto_len:.3g} s) to meet it."
+            f"within {chars.max_deviation:.3g} (tolerance {tolerance:g}); {fix}"
         )
     return FilterDesign(
         curve, sfreq, phase, length, tolerance, kernel, offset, exact, chars, notes
