@@ -72,7 +72,10 @@ class Characteristics:
     rolloff : tuple of float
         For each half-amplitude edge, the steepest slope (dB/octave, positive)
         of the realized gain between the edge and the point where the gain
-        falls to 10 x tolerance (20 dB above the kernel's error floor).
+        falls to 30 x tolerance (about 30 dB above the kernel's error floor;
+        at most 0.05). For the outer edges of a pass band the slope is taken
+        on the upper concave hull of dB against octaves, so a notch inside the
+        stop band does not count as roll-off.
     passband_ripple_db : float
         Largest |20 log10(realized / requested)| where the request is at least
         1/sqrt(2).
