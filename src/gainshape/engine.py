@@ -260,7 +260,8 @@ def block_plan(n_seg: int, n_pad: int, whole: bool = False, compact: bool = Fals
     asked for (a design applied exactly on the record's grid); otherwise blocks
     of a power of two about 8 x the overlap (``2 n_pad``), at most 2**18
     unless the overlap needs more: such FFTs stay in cache and run about
-    twice as fast per sample as one FFT of a long recording. ``compact``
+    twice as fast per sample as one FFT of a long recording. The blocks are
+    then evened out so that the last is not mostly padding. ``compact``
     takes the smallest block with at most half of it overlap (for reading
     from disk with little memory).
 
@@ -269,7 +270,7 @@ def block_plan(n_seg: int, n_pad: int, whole: bool = False, compact: bool = Fals
     >>> block_plan(1000, 100)
     (1200, 1000)
     >>> block_plan(600_000, 22_200)
-    (262144, 217744)
+    (245760, 200000)
     """
     n_whole = sfft.next_fast_len(n_seg + 2 * n_pad, real=True)
     n_fft = max(2**15, min(2**18, 1 << int(np.ceil(np.log2(8 * max(n_pad, 1))))))
@@ -278,7 +279,9 @@ def block_plan(n_seg: int, n_pad: int, whole: bool = False, compact: bool = Fals
     n_fft = max(n_fft, 1 << int(np.ceil(np.log2(4 * max(n_pad, 1)))))
     if whole or n_whole <= n_fft:
         return n_whole, n_seg
-    return n_fft, n_fft - 2 * n_pad
+    n_blocks = -(-n_seg // (n_fft - 2 * n_pad))
+    step = -(-n_seg // n_blocks)  # equal blocks: no short, wasteful last one
+    return sfft.next_fast_len(step + 2 * n_pad, real=True), step
 
 
 def _rows_per_block(rows, n_fft, n_rows) -> int:
