@@ -195,9 +195,10 @@ class FilterDesign:
 
     def _compute_spectrum(self, n_fft: int) -> np.ndarray:
         if self.exact:
+            gain = _validated_gain(self.curve, sfft.rfftfreq(n_fft, 1.0 / self.sfreq))
             if self.phase == "zero":
-                return _validated_gain(self.curve, sfft.rfftfreq(n_fft, 1.0 / self.sfreq))
-            return _minimum_phase_spectrum(self.curve, n_fft, self.sfreq, self.tolerance)
+                return gain
+            return _minimum_phase_spectrum(self.curve, gain, n_fft, self.sfreq, self.tolerance)
         return _kernel_spectrum(self.kernel, self.offset, n_fft, self.phase)
 
     def _response(self, freqs: np.ndarray) -> np.ndarray:
@@ -372,7 +373,7 @@ class _Realizer:
         if phase == "minimum":  # room for the longer causal response
             n = min(4 * n, _MAX_DENSE)
             gain = _validated_gain(curve, sfft.rfftfreq(n, 1.0 / sfreq))
-            ideal = sfft.irfft(_minimum_phase_spectrum(curve, n, sfreq, tolerance), n)
+            ideal = sfft.irfft(_minimum_phase_spectrum(curve, gain, n, sfreq, tolerance), n)
         self.n, self.gain, self.ideal = n, gain, ideal
 
     def of_length(self, n_taps: int):
@@ -453,8 +454,9 @@ def _validated_gain(curve: GainCurve, freqs: np.ndarray, chunk: int = 2**16) -> 
     return gain
 
 
-def _minimum_phase_spectrum(curve, n: int, sfreq: float, tolerance: float) -> np.ndarray:
-    """Minimum-phase response with the curve's magnitude (rfft grid of n points).
+def _minimum_phase_spectrum(curve, gain, n: int, sfreq: float, tolerance: float) -> np.ndarray:
+    """Minimum-phase response with magnitude ``gain``, the curve on the rfft
+    grid of n points.
 
     Homomorphic (real cepstrum) method: fold the cepstrum of log|G| onto
     positive quefrencies and exponentiate. Where the gain is below
@@ -465,7 +467,6 @@ def _minimum_phase_spectrum(curve, n: int, sfreq: float, tolerance: float) -> np
     """
     freqs = sfft.rfftfreq(n, 1.0 / sfreq)
     floor = 1e-9 * tolerance
-    gain = _validated_gain(curve, freqs)
     log_mag = np.log(np.maximum(gain, floor))
     deep = np.flatnonzero(gain < tolerance)
     if deep.size:

@@ -238,11 +238,11 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ve
     per_block = _rows_per_block(rows, n_fft, group.size)
     blocks = [group[i : i + per_block] for i in range(0, group.size, per_block)]
     buf = np.zeros((per_block, n_fft), dtype=rows.dtype)
+    in_place = np.shares_memory(out_rows, rows)
     for block in _progress(blocks, verbose):
         sel = _as_index(block)
         seg = rows[sel, start:stop]
         edges = edge_pads(seg, design.support, pad)
-        in_place = np.shares_memory(out_rows, rows)
         carry = None
         for a in range(0, n_seg, step):
             b = min(a + step, n_seg)

@@ -223,7 +223,7 @@ def plot_observed_gain(da, design=None, *, show=True):
     fig, ax = plt.subplots(figsize=(8, 4.5), layout="constrained")
     for row in gain_db:
         ax.semilogx(freqs[keep], row, color="0.7", linewidth=0.6)
-    median = observed_median_db(da)[keep]
+    median = _median_over_channels(gain_db)
     ax.semilogx(freqs[keep], median, color="C0", linewidth=1.8, label="observed (median)")
     if design is not None:
         ax.semilogx(freqs[keep], _to_db(design.realized_gain(freqs[keep])), color="C3",
@@ -238,9 +238,8 @@ def plot_observed_gain(da, design=None, *, show=True):
     return fig
 
 
-def observed_median_db(da) -> np.ndarray:
-    """Median over channels of the observed gain in dB (NaN where unmeasured)."""
-    gain_db = _to_db(da.values)
+def _median_over_channels(gain_db) -> np.ndarray:
+    """Median over channels (rows) of gains in dB, NaN where none was measured."""
     measured = np.isfinite(gain_db).any(axis=0)
     out = np.full(gain_db.shape[-1], np.nan)
     out[measured] = np.nanmedian(gain_db[:, measured], axis=0)
