@@ -18,7 +18,7 @@ from ._checks import check_option, warn
 from .curves import GainCurve
 from .design import FilterDesign, design
 from .engine import (LOCAL_PAD_MODES, PAD_MODES, block_plan, check_finite, edge_pads,
-                     filter_array, filter_span)
+                     filter_array, filter_span, spectrum_buffer)
 from .provenance import fingerprint, history, make_step, store_step
 
 __all__ = ["apply", "replay", "as_arrays", "Signals"]
@@ -515,10 +515,11 @@ class _BlockReader:
                 self.edges = {(s, e): edge_pads(view, self.filt.support, self.pad)}
             n_fft, step = self._plan((s, e))
             buf = np.zeros((len(self.rows), n_fft))
+            spec = spectrum_buffer(buf)
             for lo in range(a - s, b - s, step):
                 hi = min(lo + step, b - s)
                 out[self.rows, s + lo - start : s + hi - start] = filter_span(
-                    view, self.edges[(s, e)], lo, hi, self.filt, n_fft, self.workers, buf)
+                    view, self.edges[(s, e)], lo, hi, self.filt, n_fft, self.workers, buf, spec=spec)
         return out
 
 
