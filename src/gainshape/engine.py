@@ -240,7 +240,7 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ve
     blocks = [group[i : i + per_block] for i in range(0, group.size, per_block)]
     buf = np.zeros((per_block, n_fft), dtype=rows.dtype)
     spec = spectrum_buffer(buf)
-    _keep_scratch_on_heap(16 * n_fft * rows.itemsize)
+    _keep_scratch_on_heap(2 * _SIMD_BYTES * n_fft)  # room for 32-byte SIMD builds too
     in_place = np.shares_memory(out_rows, rows)
     for block in _progress(blocks, verbose):
         sel = _as_index(block)
@@ -376,9 +376,9 @@ def convolve_rows(buf: np.ndarray, response: np.ndarray, workers: int = 1, spec=
     ``spec`` is an optional reusable complex array of shape
     ``(rows, n_fft // 2 + 1)``. With it, the transforms write into ``spec``
     and ``buf`` through scipy.fft's own pocketfft binding (``scipy.fft.rfft``
-    has no ``out`` argument): fresh temporaries for every block would be
-    mapped anew by the operating system, which cost more than the FFTs on
-    the benchmark machine (183,000 page faults for 64 channels x 10 min).
+    has no ``out`` argument): fresh temporaries for every block are mapped
+    anew by the operating system, which cost about as much as the FFTs on
+    the benchmark machine (see benchmarks/README.md).
 
     Examples
     --------
@@ -401,7 +401,7 @@ def convolve_rows(buf: np.ndarray, response: np.ndarray, workers: int = 1, spec=
 
 def _keep_scratch_on_heap(nbytes: int) -> None:
     """Allocate and free ``nbytes`` once, so that glibc keeps pocketfft's
-    per-transform scratch (up to 4 rows x n_fft complex values) on its heap.
+    per-transform scratch (one SIMD register's rows x n_fft) on its heap.
 
     glibc maps each allocation above its mmap threshold afresh, and raises
     the threshold to the size of a freed mapped block (mallopt(3)); without
