@@ -71,8 +71,13 @@ def test_times_centered_for_zero_phase_and_causal_for_minimum():
     [(gs.lowpass(30.0), "low-pass"), (gs.highpass(1.0), "high-pass"),
      (gs.bandpass(1.0, 30.0), "band-pass"), (gs.bandstop(20.0, 40.0), "band-stop"),
      (gs.notch(50.0), "notch"), (gs.bandpass(1.0, 40.0) * gs.notch(50.0), "band-pass + notch"),
-     (gs.highpass(1.0) * gs.notch(50.0), "high-pass + notch")],
-    ids=["lp", "hp", "bp", "bs", "notch", "bp-notch", "hp-notch"],
+     (gs.highpass(1.0) * gs.notch(50.0), "high-pass + notch"),
+     (gs.lowpass(20.0, rolloff=12.0) * gs.notch(50.0), "low-pass + notch"),
+     # drawn edges that reach zero gain: the ripple at their foot is no notch
+     (gs.GainCurve.from_points([0.1, 0.5, 1, 30, 45, 60], [0, 0.5, 1, 1, 0.5, 0], freq_scale="log"),
+      "band-pass")],
+    ids=["lp", "hp", "bp", "bs", "notch", "bp-notch", "hp-notch", "lp-notch-in-stopband",
+         "drawn-bp"],
 )
 def test_kind_derived_from_realized_gain(curve, kind):
     assert gs.design(curve, SFREQ).characteristics.kind == kind

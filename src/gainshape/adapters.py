@@ -259,7 +259,7 @@ def _apply_array(data, filt, sfreq, picks, pad, phase, length, tolerance, nan,
     _require_sfreq(sfreq)
     filt = _realize(filt, sfreq, phase, length, tolerance)
     n_ch = data.shape[-2] if data.ndim >= 2 else 1
-    channels = np.arange(n_ch) if picks is None else np.arange(n_ch)[picks]
+    channels = np.arange(n_ch) if picks is None else _array_picks(picks, n_ch)
     n_lead = int(np.prod(data.shape[:-2])) if data.ndim >= 2 else 1
     rows = (np.arange(n_lead)[:, None] * n_ch + np.atleast_1d(channels)[None, :]).ravel()
     flat = data.reshape(-1, data.shape[-1])
@@ -301,10 +301,33 @@ def _mne_kind(inst) -> str:
     )
 
 
+def _array_picks(picks, n_ch) -> np.ndarray:
+    """Row indices (second-to-last axis) of an array from integer picks or a slice."""
+    try:
+        return np.arange(n_ch)[picks]
+    except (IndexError, TypeError):
+        raise ValueError(
+            f"The 'picks' parameter must index the array's {n_ch} rows along its "
+            f"second-to-last axis (integers, a slice or a boolean mask), but got {picks!r}."
+        ) from None
+
+
 def _pick_indices(inst, picks) -> np.ndarray:
     from mne._fiff.pick import _picks_to_idx
 
-    idx = _picks_to_idx(inst.info, picks, none="data", exclude=())
+    try:
+        idx = _picks_to_idx(inst.info, picks, none="data", exclude=())
+    except ValueError as err:
+        unknown = _unknown_channel_names(inst, picks)
+        if not unknown:
+            raise
+        names = inst.ch_names
+        raise ValueError(
+            f"The 'picks' parameter names channel(s) not in the data: {', '.join(unknown)}. "
+            f"The data have {len(names)} channels ({', '.join(names[:6])}"
+            f"{', ...' if len(names) > 6 else ''}); channel types such as 'eeg' "
+            "or 'data' are also accepted."
+        ) from err
     types = inst.get_channel_types(picks=idx)
     blocked = [i for i, t in zip(idx, types) if t in _NEVER_FILTERED]
     if blocked and not (isinstance(picks, str) and picks == "all"):
@@ -314,6 +337,17 @@ def _pick_indices(inst, picks) -> np.ndarray:
             "channels are never filtered. Pick data channels instead."
         )
     return np.array([i for i in idx if i not in blocked], dtype=int)
+
+
+def _unknown_channel_names(inst, picks) -> list[str]:
+    """The strings in ``picks`` that are neither channel names nor type words."""
+    from mne._fiff.pick import get_channel_type_constants
+
+    names = [picks] if isinstance(picks, str) else picks
+    if not isinstance(names, (list, tuple)):
+        return []
+    words = set(get_channel_type_constants()) | {"all", "data", "data_or_ica", "meg", "fnirs"}
+    return [str(n) for n in names if isinstance(n, str) and n not in inst.ch_names and n not in words]
 
 
 def _row_names(names, kind, n_rows):

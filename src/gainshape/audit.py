@@ -122,8 +122,8 @@ def _design(filt, sfreq, waveform):
 def _components(filt, sfreq, waveform):
     """name -> (waveform name, isolated component on a common time axis)."""
     if waveform is None:
-        span = max(4.0, 1.5 * filt.support / sfreq + 1.0)
-        times = np.arange(-span, span, 1.0 / sfreq)
+        n_side = int(np.ceil(max(4.0, 1.5 * filt.support / sfreq + 1.0) * sfreq))
+        times = np.arange(-n_side, n_side) / sfreq  # sample 0 exactly at 0 s
         out = {
             "step": ("step", ((times >= 0) & (times < _STEP_SECONDS)).astype(float)),
             "pulse": ("pulse", np.exp(-0.5 * (times / 0.005) ** 2)),

@@ -662,15 +662,17 @@ def _outer_edges(edges) -> set:
 
 
 def _hidden_notches(freqs, gain, edges, floor) -> int:
-    """Count narrow nulls in stop bands: 20 dB below the largest gain within
-    10 % of their frequency, where that gain stands above ``floor``."""
+    """Count narrow nulls in stop bands: 20 dB below the largest gain on each
+    side within 10 % of their frequency, where the gain 10 % away stands
+    above ``floor`` on both sides (so the ripple at the foot of a steep edge
+    is not one)."""
     inner = np.flatnonzero((gain[1:-1] < gain[:-2]) & (gain[1:-1] <= gain[2:]) & (gain[1:-1] < 0.5)) + 1
-    lo = np.searchsorted(freqs, 0.9 * freqs[inner])
+    lo = np.minimum(np.searchsorted(freqs, 0.9 * freqs[inner]), inner - 1)
     hi = np.minimum(np.searchsorted(freqs, 1.1 * freqs[inner], side="right"), freqs.size - 1)
-    keep = np.maximum(gain[lo], gain[hi]) > floor  # cheap test before the full window
+    keep = np.minimum(gain[lo], gain[hi]) > floor
     count = 0
     for i, a, b in zip(inner[keep], lo[keep], hi[keep]):
-        f, top = freqs[i], gain[a : b + 1].max()
+        f, top = freqs[i], min(gain[a:i].max(), gain[i + 1 : b + 1].max())
         inside_pair = any(x < f < y for x, y in zip(edges[:-1], edges[1:]) if x.direction == "falling")
         if gain[i] < 0.1 * top and not inside_pair:
             count += 1
