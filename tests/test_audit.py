@@ -69,6 +69,29 @@ def test_user_array_and_evoked():
     assert ds.attrs["units"] == "V"
 
 
+def test_short_user_waveform_is_embedded_in_zeros_for_the_kernels_reach():
+    # a 1 s evoked and a 14 s high-pass kernel: the waveform is treated as
+    # isolated (zero before and after), nothing the filter spreads is cut off,
+    # and no "shorter than the kernel" warning is raised
+    t = np.arange(-0.2, 0.8, 1 / SFREQ)
+    wave = 5e-6 * np.exp(-0.5 * ((t - 0.4) / 0.1) ** 2)
+    filt = gs.design(gs.highpass(0.1), SFREQ)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", gs.GainshapeWarning)
+        ds = gs.audit(filt, waveform=wave)
+    support = filt.support / SFREQ
+    assert float(ds.time[0]) == pytest.approx(-support) and float(ds.time[-1]) == pytest.approx(1.0 - 1 / SFREQ + support)
+    original = ds.original.sel(waveform="waveform")
+    assert float(np.abs(original.sel(time=slice(None, -0.01))).max()) == 0.0
+    # the zero-phase high-pass spreads an opposite (negative) deflection
+    # outside the 1 s waveform; linearity (NumPy reference): it equals the
+    # filter applied to the zero-embedded waveform
+    expected = gs.apply(original.values, filt)
+    np.testing.assert_allclose(ds.filtered.sel(waveform="waveform"), expected, atol=1e-18)
+    outside = ds.filtered.sel(waveform="waveform").where((ds.time < 0) | (ds.time >= 1.0))
+    assert float(outside.min()) < -0.01 * 5e-6
+
+
 def test_design_rate_mismatch():
     with pytest.raises(ValueError, match="'sfreq'"):
         gs.audit(gs.design(gs.lowpass(30.0), 250.0), 500.0)

@@ -38,9 +38,31 @@ def test_history_steps_between(pair):
 def test_epochs_have_epoch_dim(raw):
     events = mne.make_fixed_length_events(raw, duration=4.0)
     epochs = mne.Epochs(raw, events, tmin=0.0, tmax=3.996, baseline=None, preload=True)
-    ds = gs.band_change(epochs, gs.apply(epochs, gs.lowpass(20.0)))
+    with pytest.warns(gs.GainshapeWarning, match=r"4 s segments.*band\(s\) slow:"):
+        ds = gs.band_change(epochs, gs.apply(epochs, gs.lowpass(20.0)))
     assert ds.change_db.dims == ("epoch", "channel", "band")
     assert ds.sizes["epoch"] == len(epochs)
+
+
+def test_bands_finer_than_short_epochs_resolve_are_nan_with_a_warning(raw):
+    # 1 s epochs give ~1 Hz bins and a Blackman-Harris main lobe of +-4 bins
+    # (Harris 1978, Proc. IEEE 66:51-83): bands below 4 Hz, or narrower than
+    # the main lobe, cannot be told from their neighbours or from 0 Hz
+    raw.info["line_freq"] = 50.0
+    events = mne.make_fixed_length_events(raw, duration=1.0)
+    epochs = mne.Epochs(raw, events, tmin=0.0, tmax=0.996, baseline=None, preload=True)
+    with pytest.warns(gs.GainshapeWarning, match=r"1 s segments.*band\(s\) slow, delta, line:"):
+        ds = gs.band_change(epochs, gs.apply(epochs, gs.lowpass(20.0)))
+    resolved = ds.band_resolved.to_series().to_dict()
+    assert resolved == {"slow": False, "delta": False, "theta": True, "alpha": True,
+                        "beta": True, "gamma": True, "line": False}
+    assert ds.change_db.sel(band=["slow", "delta", "line"]).isnull().all()
+    assert ds.change_db.sel(band=["theta", "alpha", "beta", "gamma"]).notnull().all()
+
+
+def test_continuous_recording_resolves_every_default_band(pair):
+    ds = gs.band_change(*pair)
+    assert bool(ds.band_resolved.all())
 
 
 def test_custom_bands_and_arrays(rng):

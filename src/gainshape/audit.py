@@ -44,7 +44,9 @@ def audit(filt, sfreq: float | None = None, waveform=None) -> xr.Dataset:
         a high-pass can be measured), a 10 ms pulse, and a simulated ERP with
         an early sharp negativity (100 ms) and a late slow positivity (450 ms). An Evoked:
         its channel with the largest absolute peak. A 1-D array: one waveform
-        with t = 0 at its first sample.
+        with t = 0 at its first sample. A given waveform is treated as
+        isolated: it is extended with zeros by the kernel's reach on both
+        sides, so the time axis shows what the filter spreads outside it.
 
     Returns
     -------
@@ -136,7 +138,10 @@ def _components(filt, sfreq, waveform):
         raise ValueError("The 'waveform' parameter must be an Evoked or a 1-D array.")
     row = int(np.argmax(np.abs(signals.data).max(axis=-1)))
     name = signals.ch_names[row] if signals.kind != "array" else "waveform"
-    return {name: (name, signals.data[row].astype(float))}, signals.times, signals.unit
+    reach = filt.support  # isolated: zero for the kernel's reach on both sides
+    wave = np.pad(signals.data[row].astype(float), reach)
+    times = signals.times[0] + (np.arange(wave.size) - reach) / sfreq
+    return {name: (name, wave)}, times, signals.unit
 
 
 def _metrics(t, x, y, sfreq) -> dict:

@@ -30,7 +30,7 @@ def simulate_workshop_recording(seconds: float = 180.0, sfreq: float = 500.0, se
     """Simulate the workshop session as an ``mne.io.RawArray`` (volts).
 
     Returns 32 EEG channels (10-20 montage), one EOG and one stim channel
-    whose events (code 1) mark tone onsets.
+    whose events (code 1) mark tone onsets; ``info["line_freq"]`` is 50 Hz.
 
     Examples
     --------
@@ -77,7 +77,9 @@ def simulate_workshop_recording(seconds: float = 180.0, sfreq: float = 500.0, se
         eog += 150e-6 * np.exp(-0.5 * ((t - blink) / 0.05) ** 2)
     eeg += np.outer(0.3 * front**2, eog)
 
-    return mne.io.RawArray(np.vstack([eeg, eog, stim]), info, verbose=False)
+    raw = mne.io.RawArray(np.vstack([eeg, eog, stim]), info, verbose=False)
+    raw.info["line_freq"] = 50.0  # the workshop's mains
+    return raw
 
 
 def _pink_noise(rng, n_ch, n):
@@ -145,7 +147,6 @@ def main(argv=None) -> int:
     start = time.perf_counter()
 
     raw = simulate_workshop_recording()
-    raw.info["line_freq"] = 50.0
     print(f"Simulated {len(raw.ch_names)} channels, {raw.times[-1]:.0f} s at "
           f"{raw.info['sfreq']:g} Hz (workshop tone session).")
     curve = demo_curve()

@@ -12,6 +12,7 @@ import numpy as np
 import xarray as xr
 from scipy.signal import csd, welch
 
+from ._checks import warn
 from .adapters import as_arrays
 
 __all__ = ["band_change", "observed_gain", "DEFAULT_BANDS", "spectral_settings"]
@@ -29,7 +30,7 @@ DEFAULT_BANDS = {
 _LINE_HALF_WIDTH = 1.0  # Hz either side of info["line_freq"]
 _WINDOW_SECONDS = 16.0
 _WINDOW = "blackmanharris"  # -92 dB side lobes: EEG spectra span > 60 dB (drift vs bands)
-_MAIN_LOBE_BINS = 4  # half-width of the Blackman-Harris main lobe, in bins
+_MAIN_LOBE_BINS = 4  # half-width of the 4-term Blackman-Harris main lobe, in bins (Harris 1978)
 _UNMEASURABLE = 1e-8  # input PSD below this fraction of its channel median
 
 
@@ -68,7 +69,10 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
     xarray.Dataset
         Dims ``(channel, band)`` (``(epoch, channel, band)`` for Epochs);
         ``power_before``, ``power_after``, ``change_db``, ``retained``;
-        coords ``band_low``, ``band_high`` (Hz) and ``ch_type``; attrs with the
+        coords ``band_low``, ``band_high`` (Hz), ``band_resolved`` and
+        ``ch_type``. A band is resolved when it reaches at least the window's
+        main-lobe width (4 bins) above the main lobe around 0 Hz; the others
+        are NaN, with a warning (short epochs cannot resolve slow bands). Attrs with the
         sampling rate, Welch settings and the ids (comma-separated) of the
         history steps in ``after`` that ``before`` lacks.
 
@@ -90,8 +94,11 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
     lows = np.array([lo for lo, _ in bands.values()])
     highs = np.array([hi for _, hi in bands.values()])
     masks = [(freqs >= lo) & (freqs < hi) for lo, hi in zip(lows, highs)]
+    resolved = _resolved(bands, df, settings["nperseg"] / a.sfreq)
     power_b = np.stack([p_before[..., m].sum(axis=-1) * df for m in masks], axis=-1)
     power_a = np.stack([p_after[..., m].sum(axis=-1) * df for m in masks], axis=-1)
+    power_b[..., ~resolved] = np.nan
+    power_a[..., ~resolved] = np.nan
     with np.errstate(divide="ignore", invalid="ignore"):
         retained = power_a / power_b
     dims = ("epoch", "channel", "band") if a.data.ndim == 3 else ("channel", "band")
@@ -108,6 +115,7 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
             "band": list(bands),
             "band_low": ("band", lows, {"units": "Hz"}),
             "band_high": ("band", highs, {"units": "Hz"}),
+            "band_resolved": ("band", resolved, {"long_name": "band resolved by the spectra"}),
             "ch_type": ("channel", a.ch_types),
         },
         attrs=_attrs(a, b, settings, "Welch PSD integrated over each band"),
@@ -191,6 +199,24 @@ def _bands(bands, signals) -> dict:
             )
         checked[str(name)] = (low, high)
     return checked
+
+
+def _resolved(bands, df, seconds) -> np.ndarray:
+    """Which bands the spectra can tell apart from 0 Hz and from their
+    neighbours: at least a main lobe's width above the main lobe around 0 Hz.
+    Warns, naming the others and the fix."""
+    lobe = _MAIN_LOBE_BINS * df
+    resolved = np.array([hi - max(lo, lobe) >= lobe for lo, hi in bands.values()])
+    if not resolved.all():
+        names = ", ".join(n for n, ok in zip(bands, resolved) if not ok)
+        warn(
+            f"Spectra of {seconds:.3g} s segments (bins of {df:.3g} Hz, window main "
+            f"lobe +-{lobe:.3g} Hz) cannot resolve the band(s) {names}: their power and "
+            "change are NaN. Compare longer epochs or the continuous recording, or use "
+            "wider bands.",
+            stacklevel=4,
+        )
+    return resolved
 
 
 def _attrs(a, b, settings, method) -> dict:

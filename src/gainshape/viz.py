@@ -175,15 +175,18 @@ def plot_band_change(ds, *, show=True):
     fig.colorbar(image, ax=ax_map, label="power change (dB)",
                  extend="both" if np.nanmax(np.abs(change)) > lim else "neither")
 
-    median = np.nanmedian(change, axis=0)
-    low, high = np.nanmin(change, axis=0), np.nanmax(change, axis=0)
+    resolved = ~np.isnan(change).all(axis=0)  # unresolved bands are NaN throughout
+    median, low, high = np.full((3, n_band), np.nan)
+    for stat, fn in ((median, np.nanmedian), (low, np.nanmin), (high, np.nanmax)):
+        stat[resolved] = fn(change[:, resolved], axis=0)
     y = np.arange(n_band)
     ax_sum.barh(y, median, color=["C3" if m > 0 else "C0" for m in median], alpha=0.8,
                 label="median over channels")
     ax_sum.hlines(y, low, high, color="0.2", linewidth=1.5, label="range")
     ax_sum.axvline(0.0, color="0.5", linewidth=0.8)
-    ax_sum.set_yticks(y, [f"{b} ({lo:g}-{hi:g} Hz)" for b, lo, hi in
-                          zip(ds.band.values, ds.band_low.values, ds.band_high.values)])
+    ax_sum.set_yticks(y, [f"{b} ({lo:g}-{hi:g} Hz){'' if ok else ', not resolved'}"
+                          for b, lo, hi, ok in zip(ds.band.values, ds.band_low.values,
+                                                   ds.band_high.values, resolved)])
     ax_sum.invert_yaxis()
     ax_sum.set_xlabel("power change (dB)")
     ax_sum.legend(loc="best", fontsize="small")
