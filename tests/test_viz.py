@@ -64,15 +64,16 @@ def test_observed_gain_plot_equals_data(rng):
     f = gs.design(gs.lowpass(30.0), 250.0)
     da = gs.observed_gain(x, gs.apply(x, f), sfreq=250.0)
     fig = gs.plot_observed_gain(da, f, show=False)
-    ax = fig.axes[0]
-    median = _line(ax, "observed (median)")
-    realized = _line(ax, "realized")
-    freqs = median.get_xdata()
     measured = np.isfinite(da.values).any(axis=0)
-    expected = np.full(da.sizes["frequency"], np.nan)
-    expected[measured] = np.nanmedian(20 * np.log10(da.values[:, measured]), axis=0)
-    np.testing.assert_allclose(median.get_ydata(), expected[da.frequency.values > 0])
-    np.testing.assert_allclose(realized.get_ydata(), 20 * np.log10(f.realized_gain(freqs)))
+    for ax, to_y in zip(fig.axes, (np.asarray, lambda g: 20 * np.log10(g))):
+        median = _line(ax, "observed (median)")
+        realized = _line(ax, "realized")
+        freqs = median.get_xdata()
+        expected = np.full(da.sizes["frequency"], np.nan)
+        expected[measured] = np.nanmedian(to_y(da.values[:, measured]), axis=0)
+        np.testing.assert_allclose(median.get_ydata(), expected[da.frequency.values > 0])
+        np.testing.assert_allclose(realized.get_ydata(), to_y(f.realized_gain(freqs)))
+    assert [ax.get_ylabel() for ax in fig.axes] == ["gain", "gain (dB)"]
     plt.close(fig)
 
 

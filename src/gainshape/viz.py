@@ -206,7 +206,8 @@ def band_change_map(ds) -> np.ndarray:
 
 
 def plot_observed_gain(da, design=None, *, show=True):
-    """Observed gain per channel (thin), its median (thick) and the realized gain (dashed), in dB.
+    """Observed gain per channel (thin), its median (thick) and the realized
+    gain (dashed): linear on the left, in dB on the right.
 
     Examples
     --------
@@ -215,27 +216,32 @@ def plot_observed_gain(da, design=None, *, show=True):
     >>> f = gs.design(gs.lowpass(30.0), 250.0)
     >>> da = gs.observed_gain(x, gs.apply(x, f), sfreq=250.0)
     >>> fig = plot_observed_gain(da, f, show=False)
-    >>> fig.axes[0].get_xscale()
-    'log'
+    >>> [ax.get_ylabel() for ax in fig.axes], fig.axes[0].get_xscale()
+    (['gain', 'gain (dB)'], 'log')
     """
     import matplotlib.pyplot as plt
 
     freqs = da.frequency.values
     keep = freqs > 0
-    gain_db = _to_db(da.values[:, keep])
-    fig, ax = plt.subplots(figsize=(8, 4.5), layout="constrained")
-    for row in gain_db:
-        ax.semilogx(freqs[keep], row, color="0.7", linewidth=0.6)
-    median = _median_over_channels(gain_db)
-    ax.semilogx(freqs[keep], median, color="C0", linewidth=1.8, label="observed (median)")
-    if design is not None:
-        ax.semilogx(freqs[keep], _to_db(design.realized_gain(freqs[keep])), color="C3",
-                    linestyle="--", linewidth=1.4, label="realized")
-    ax.set_xlabel("frequency (Hz)")
-    ax.set_ylabel("gain (dB)")
-    ax.set_ylim(max(-80.0, np.nanmin(median) - 5 if np.isfinite(median).any() else -80.0), 5)
-    ax.grid(True, which="both", alpha=0.3)
-    ax.legend(loc="best", fontsize="small")
+    gains = da.values[:, keep]
+    realized = design.realized_gain(freqs[keep]) if design is not None else None
+    fig, (ax_lin, ax_db) = plt.subplots(1, 2, figsize=(11, 4.2), layout="constrained")
+    for ax, to_y in ((ax_lin, np.asarray), (ax_db, _to_db)):
+        values = to_y(gains)
+        for row in values:
+            ax.semilogx(freqs[keep], row, color="0.7", linewidth=0.6)
+        median = _median_over_channels(values)
+        ax.semilogx(freqs[keep], median, color="C0", linewidth=1.8, label="observed (median)")
+        if realized is not None:
+            ax.semilogx(freqs[keep], to_y(realized), color="C3", linestyle="--", linewidth=1.4,
+                        label="realized")
+        ax.set_xlabel("frequency (Hz)")
+        ax.grid(True, which="both", alpha=0.3)
+    ax_lin.set_ylabel("gain")
+    ax_lin.set_ylim(-0.05, 1.1)
+    ax_lin.legend(loc="best", fontsize="small")
+    ax_db.set_ylabel("gain (dB)")
+    ax_db.set_ylim(max(-80.0, np.nanmin(median) - 5 if np.isfinite(median).any() else -80.0), 5)
     if show:
         plt.show()
     return fig
