@@ -126,3 +126,23 @@ def test_jump_in_request_is_explained():
     with pytest.warns(gs.GainshapeWarning, match="no kernel length meets it"):
         f = gs.design(brickwall, 250.0, length=1.0)
     assert f.characteristics.max_deviation > 0.1
+
+
+def test_explicit_length_longer_than_needed_is_honoured():
+    # common practice (no source): a requested kernel length is the length used
+    f = gs.design(gs.lowpass(30.0), 500.0, length=40.0)
+    assert f.kernel.size in (20000, 20001)
+    assert f.characteristics.length == pytest.approx(40.0, abs=2 / 500.0)
+    assert f.characteristics.max_deviation <= 0.001
+
+
+def test_explicit_length_beyond_the_design_grid_is_refused():
+    with pytest.raises(ValueError, match=r"'length'.*at most"):
+        gs.design(gs.lowpass(30.0), 500.0, length=1e5)
+
+
+def test_describe_names_edges_or_says_there_are_none():
+    assert "half-amplitude 30 Hz; roll-off 12.0 dB/octave" in gs.design(gs.lowpass(30.0), SFREQ).describe()
+    with pytest.warns(gs.GainshapeWarning, match="tolerance"):
+        too_short = gs.design(gs.highpass(0.1), SFREQ, length=2.0)  # cannot reach 0.5 gain
+    assert "no half-amplitude point" in too_short.describe()

@@ -219,12 +219,13 @@ class FilterDesign:
     def describe(self) -> str:
         """One line: the kind, cutoffs, roll-off, phase and length."""
         c = self.characteristics
-        edges = ", ".join(f"{float(e):.3g}" for e in c.half_amplitude) or "none"
-        slopes = ", ".join(f"{r:.1f}" for r in c.rolloff) or "-"
-        return (
-            f"{c.kind}; half-amplitude {edges} Hz; roll-off {slopes} dB/octave; "
-            f"{self.phase} phase; {c.length:.3g} s at {self.sfreq:g} Hz"
-        )
+        if c.half_amplitude:
+            edges = ", ".join(f"{float(e):.3g}" for e in c.half_amplitude)
+            slopes = ", ".join(f"{r:.1f}" for r in c.rolloff)
+            shape = f"half-amplitude {edges} Hz; roll-off {slopes} dB/octave"
+        else:
+            shape = "no half-amplitude point"
+        return f"{c.kind}; {shape}; {self.phase} phase; {c.length:.3g} s at {self.sfreq:g} Hz"
 
     def summary(self) -> list[tuple[str, str]]:
         """The characteristics as (label, value) rows of text, for tables.
@@ -332,11 +333,12 @@ def design(
         length = check_positive("length", length)
     curve, notes = curve.below_nyquist(sfreq / 2.0)
 
-    realizer = _Realizer(curve, sfreq, phase, tolerance)
-    if length == "auto" or exact:
+    n_taps = None if length == "auto" or exact else _requested_taps(length, sfreq)
+    realizer = _Realizer(curve, sfreq, phase, tolerance, min_n=2 * (n_taps or 0))
+    if n_taps is None:
         kernel, offset = realizer.shortest()
     else:
-        kernel, offset = realizer.of_length(int(round(length * sfreq)))
+        kernel, offset = realizer.of_length(n_taps)
     chars = _characterize(curve, kernel, offset, sfreq, phase, tolerance, exact)
     while length == "auto" and chars.max_deviation > tolerance and kernel.size < realizer.n // 2:
         # the search grid missed a peak the finer check found: lengthen a little
@@ -358,12 +360,24 @@ def design(
 
 
 # -- kernel realization -------------------------------------------------------
-class _Realizer:
-    """Ideal response on a dense grid, and truncations of it."""
+def _requested_taps(length: float, sfreq: float) -> int:
+    """Kernel samples for a length in seconds, within what the design grid holds."""
+    n_taps = max(1, int(round(length * sfreq)))
+    if n_taps > _MAX_DENSE // 2:
+        raise ValueError(
+            f"The 'length' parameter must be at most {_MAX_DENSE // 2 / sfreq:.6g} s at "
+            f"{sfreq:g} Hz, but got {length:g} s; use length='auto' for the shortest "
+            "kernel within tolerance."
+        )
+    return n_taps
 
-    def __init__(self, curve, sfreq, phase, tolerance):
+
+class _Realizer:
+    """Ideal response on a dense grid (at least ``min_n`` points), and truncations of it."""
+
+    def __init__(self, curve, sfreq, phase, tolerance, min_n=0):
         self.sfreq, self.phase, self.tol = sfreq, phase, tolerance
-        n = _MIN_DENSE
+        n = max(_MIN_DENSE, 1 << int(np.ceil(np.log2(max(min_n, 1)))))
         while True:  # grid fine enough for the zero-phase response to decay
             gain = _validated_gain(curve, sfft.rfftfreq(n, 1.0 / sfreq))
             ideal = sfft.irfft(gain, n)
