@@ -301,6 +301,17 @@ def _mne_kind(inst) -> str:
     )
 
 
+def _check_steps(steps) -> None:
+    if not isinstance(steps, (list, tuple)) or not all(
+        isinstance(s, dict) and {"design", "application"} <= set(s) for s in steps
+    ):
+        raise TypeError(
+            "The 'steps' parameter must be a list of recorded steps, e.g. "
+            f"gs.history(filtered), but got {type(steps).__name__}; call "
+            "replay(steps, unfiltered_data)."
+        )
+
+
 def _array_picks(picks, n_ch) -> np.ndarray:
     """Row indices (second-to-last axis) of an array from integer picks or a slice."""
     try:
@@ -437,6 +448,7 @@ def replay(steps, inst, *, n_jobs: int = 1, verbose=None):
     >>> np.array_equal(gs.replay([step], x), y)
     True
     """
+    _check_steps(steps)
     out = inst
     for number, step in enumerate(steps, start=1):
         curve_record, d, a = step.get("curve", {}), step["design"], step["application"]

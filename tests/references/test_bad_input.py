@@ -101,6 +101,8 @@ CASES = [
      lambda a: gs.apply(a, "lowpass", sfreq=250.0), TypeError, "'filt'"),
     ("list instead of data", lambda mk: [[0.0, 1.0]],
      lambda a: gs.apply(a, gs.lowpass(30.0), sfreq=250.0), TypeError, "'inst'"),
+    ("replay arguments swapped", lambda mk: mk(),
+     lambda a: gs.replay(a, gs.apply(a, gs.lowpass(30.0))), TypeError, "'steps'"),
     ("n_jobs zero", lambda mk: _array(),
      lambda a: gs.apply(a, gs.lowpass(30.0), sfreq=250.0, n_jobs=0), ValueError, "'n_jobs'"),
 ]
