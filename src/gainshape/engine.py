@@ -236,7 +236,7 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ve
     and, for long segments, in overlapping blocks of time (overlap-save)."""
     n_seg = stop - start
     n_fft, step = block_plan(n_seg, design.support, whole=getattr(design, "exact", False))
-    per_block = _rows_per_block(rows, n_fft, group.size)
+    per_block = _rows_per_block(rows, n_fft, group.size, workers)
     blocks = [group[i : i + per_block] for i in range(0, group.size, per_block)]
     buf = np.zeros((per_block, n_fft), dtype=rows.dtype)
     spec = spectrum_buffer(buf)
@@ -287,19 +287,29 @@ def block_plan(n_seg: int, n_pad: int, whole: bool = False, compact: bool = Fals
     return sfft.next_fast_len(step + 2 * n_pad, real=True), step
 
 
-def _rows_per_block(rows, n_fft, n_rows) -> int:
+def _rows_per_block(rows, n_fft, n_rows, workers=1) -> int:
     """Rows per block so that the input/output and spectrum buffers fit the budget.
 
     Rounded down to a multiple of the rows one SIMD register holds (16 bytes:
-    4 float32, 2 float64) when possible: pocketfft transforms that many rows
-    at once, and a leftover row runs scalar (5 float32 rows take 1.4x as long
-    per sample as 4, measured with scipy.fft 1.17).
+    4 float32, 2 float64) times ``workers`` when possible: pocketfft
+    transforms that many rows at once, one group per thread, and a leftover
+    row runs scalar (5 float32 rows take 1.4x as long per sample as 4,
+    measured with scipy.fft 1.17). Each worker gets the minimum budget.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> rows = np.zeros((64, 600_000), dtype=np.float32)
+    >>> _rows_per_block(rows, 245_760, 64), _rows_per_block(rows, 245_760, 64, workers=2)
+    (4, 8)
     """
-    budget = max(_MIN_BLOCK_BYTES, _BLOCK_FRACTION * rows.nbytes)
+    budget = max(_MIN_BLOCK_BYTES * workers, _BLOCK_FRACTION * rows.nbytes)
     fits = int(max(1, budget // (2 * n_fft * rows.itemsize)))
     lanes = _SIMD_BYTES // rows.itemsize
-    if fits >= lanes:
-        fits -= fits % lanes
+    for group in (lanes * workers, lanes):
+        if fits >= group:
+            fits -= fits % group
+            break
     return min(fits, n_rows)
 
 
