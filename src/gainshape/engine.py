@@ -294,16 +294,19 @@ def _rows_per_block(rows, n_fft, n_rows, workers=1) -> int:
     4 float32, 2 float64) times ``workers`` when possible: pocketfft
     transforms that many rows at once, one group per thread, and a leftover
     row runs scalar (5 float32 rows take 1.4x as long per sample as 4,
-    measured with scipy.fft 1.17). Each worker gets the minimum budget.
+    measured with scipy.fft 1.17). The budget does not grow with
+    ``workers``: the memory bound holds for any ``n_jobs``.
 
     Examples
     --------
     >>> import numpy as np
-    >>> rows = np.zeros((64, 600_000), dtype=np.float32)
+    >>> rows = np.zeros((64, 800_000), dtype=np.float32)
     >>> _rows_per_block(rows, 245_760, 64), _rows_per_block(rows, 245_760, 64, workers=2)
-    (4, 8)
+    (8, 8)
+    >>> _rows_per_block(rows, 245_760, 64, workers=4)  # no room for 16: groups of 4
+    8
     """
-    budget = max(_MIN_BLOCK_BYTES * workers, _BLOCK_FRACTION * rows.nbytes)
+    budget = max(_MIN_BLOCK_BYTES, _BLOCK_FRACTION * rows.nbytes)
     fits = int(max(1, budget // (2 * n_fft * rows.itemsize)))
     lanes = _SIMD_BYTES // rows.itemsize
     for group in (lanes * workers, lanes):
