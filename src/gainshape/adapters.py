@@ -476,18 +476,19 @@ def _check_lazy(filt, length, pad, nan, copy):
     """What a Raw that is not loaded cannot do, said before any work."""
     exact = filt.exact if isinstance(filt, FilterDesign) else length is None
     problems = [
-        (exact, "'length' None applies the gain on the whole record's grid, which "
-                "needs the record in memory; use length='auto'"),
-        (pad not in LOCAL_PAD_MODES, f"'pad' must be one of "
+        (exact, "the 'length' parameter is None, which applies the gain on the whole "
+                "record's grid and needs the record in memory; use length='auto'"),
+        (pad not in LOCAL_PAD_MODES, f"the 'pad' parameter must be one of "
                                      f"{', '.join(repr(m) for m in LOCAL_PAD_MODES)}, "
-                                     f"not {pad!r}"),
-        (nan != "raise", "'nan' must be 'raise'"),
-        (not copy, "'copy' False cannot filter a file in place"),
+                                     f"but got {pad!r}"),
+        (nan != "raise", f"the 'nan' parameter must be 'raise', but got {nan!r}"),
+        (not copy, "the 'copy' parameter is False, but a file cannot be filtered in "
+                   "place; leave copy=True"),
     ]
     for failed, message in problems:
         if failed:
             raise ValueError(
-                f"The Raw is not loaded, so it is filtered lazily as it is read: "
+                f"This Raw is not loaded, so gainshape filters it lazily as it is read: "
                 f"{message}. Or call raw.load_data() first."
             )
 

@@ -30,6 +30,18 @@ def _raw_with_nan(make_raw):
     return raw
 
 
+def _lazy_raw(make_raw):
+    """A Raw read from a FIF file without loading its data."""
+    import tempfile
+    from pathlib import Path
+
+    import mne
+
+    fname = Path(tempfile.mkdtemp()) / "lazy_raw.fif"
+    make_raw().save(fname)
+    return mne.io.read_raw_fif(fname, preload=False)
+
+
 # (id, builds the input, calls with the input, exception type, message fragment)
 CASES = [
     ("negative gain", lambda mk: [[1.0, 2.0], [0.5, -0.1]],
@@ -103,6 +115,14 @@ CASES = [
      lambda a: gs.apply(a, gs.lowpass(30.0), sfreq=250.0), TypeError, "'inst'"),
     ("replay arguments swapped", lambda mk: mk(),
      lambda a: gs.replay(a, gs.apply(a, gs.lowpass(30.0))), TypeError, "'steps'"),
+    ("file not loaded, copy=False", _lazy_raw,
+     lambda a: gs.apply(a, gs.lowpass(30.0), copy=False), ValueError, r"'copy'.*load_data"),
+    ("file not loaded, global pad mode", _lazy_raw,
+     lambda a: gs.apply(a, gs.lowpass(30.0), pad="wrap"), ValueError, r"'pad'.*'wrap'"),
+    ("file not loaded, nan split", _lazy_raw,
+     lambda a: gs.apply(a, gs.lowpass(30.0), nan="split"), ValueError, r"'nan'.*'split'"),
+    ("file not loaded, exact length", _lazy_raw,
+     lambda a: gs.apply(a, gs.lowpass(30.0), length=None), ValueError, r"'length'.*in memory"),
     ("n_jobs zero", lambda mk: _array(),
      lambda a: gs.apply(a, gs.lowpass(30.0), sfreq=250.0, n_jobs=0), ValueError, "'n_jobs'"),
 ]
