@@ -98,34 +98,6 @@ def test_concatenated_raws_split_at_boundary(make_raw):
     np.testing.assert_allclose(out[:, : a.n_times], gs.apply(a, CURVE).get_data(), atol=1e-15)
 
 
-def test_unloaded_raw_is_filtered_lazily(tmp_path, raw):
-    fname = tmp_path / "sim_raw.fif"
-    raw.save(fname)
-    unloaded = mne.io.read_raw_fif(fname, preload=False)
-    out = gs.apply(unloaded, CURVE)
-    assert not unloaded.preload and not out.preload
-    expected = gs.apply(mne.io.read_raw_fif(fname, preload=True), CURVE)
-    np.testing.assert_allclose(out.get_data(), expected.get_data(), rtol=0, atol=1e-15)
-    np.testing.assert_allclose(out.get_data(start=1234, stop=2345),
-                               expected.get_data(start=1234, stop=2345), rtol=0, atol=1e-15)
-    assert out.info["highpass"] == pytest.approx(expected.info["highpass"])
-    step = gs.history(out)[0]
-    assert step["application"]["lazy"] is True and step["fingerprint_after"] is None
-
-
-@pytest.mark.parametrize(
-    ("kwargs", "fragment"),
-    [({"copy": False}, "'copy' False"), ({"pad": "mean"}, "'pad' must be"),
-     ({"nan": "split"}, "'nan' must be"), ({"length": None}, "'length' None")],
-    ids=["copy", "pad", "nan", "length"],
-)
-def test_unloaded_raw_limits_said_before_work(tmp_path, raw, kwargs, fragment):
-    raw.save(tmp_path / "sim_raw.fif")
-    unloaded = mne.io.read_raw_fif(tmp_path / "sim_raw.fif", preload=False)
-    with pytest.raises(ValueError, match=fragment):
-        gs.apply(unloaded, CURVE, **kwargs)
-
-
 def test_epochs_loaded_and_filtered_like_arrays(raw):
     events = mne.make_fixed_length_events(raw, duration=4.0)
     epochs = mne.Epochs(raw, events, tmin=0.0, tmax=3.996, baseline=None, preload=False)

@@ -1,0 +1,135 @@
+"""Recordings larger than memory: a Raw filtered block by block as it is read.
+
+A layer on top of ``engine`` for ``gainshape.apply`` on a Raw read with
+``preload=False``: the result is an ``mne.io.BaseRaw`` whose reader filters
+each requested block (overlap-save, reading the kernel's support around it),
+so MNE's ``get_data`` and ``save`` stream it with memory bounded by the
+block, not the recording.
+"""
+
+from __future__ import annotations
+
+import os
+
+import numpy as np
+
+from .design import FilterDesign
+from .engine import (LOCAL_PAD_MODES, block_plan, check_finite, edge_pads, filter_span,
+                     spectrum_buffer)
+
+__all__ = ["check_request", "filtered_raw"]
+
+
+def check_request(filt, length, pad, nan, copy):
+    """What a Raw that is not loaded cannot do, said before any work."""
+    exact = filt.exact if isinstance(filt, FilterDesign) else length is None
+    problems = [
+        (exact, "the 'length' parameter is None, which applies the gain on the whole "
+                "record's grid and needs the record in memory; use length='auto'"),
+        (pad not in LOCAL_PAD_MODES, f"the 'pad' parameter must be one of "
+                                     f"{', '.join(repr(m) for m in LOCAL_PAD_MODES)}, "
+                                     f"but got {pad!r}"),
+        (nan != "raise", f"the 'nan' parameter must be 'raise', but got {nan!r}"),
+        (not copy, "the 'copy' parameter is False, but a file cannot be filtered in "
+                   "place; leave copy=True"),
+    ]
+    for failed, message in problems:
+        if failed:
+            raise ValueError(
+                f"This Raw is not loaded, so gainshape filters it lazily as it is read: "
+                f"{message}. Or call raw.load_data() first."
+            )
+
+
+def filtered_raw(raw, filt, idx, pad, n_jobs, segments):
+    """A Raw that filters channels ``idx`` of ``raw`` (not loaded) block by
+    block as it is read; ``segments`` are the (start, stop) sample runs
+    filtered independently (between discontinuities)."""
+    from mne.io import BaseRaw
+
+    info = raw.info.copy()
+    with info._unlock():
+        for ch in info["chs"]:  # the reader returns calibrated data already
+            ch["cal"], ch["range"] = 1.0, 1.0
+
+    class _FilteredRaw(BaseRaw):
+        def _read_segment_file(self, data, idx, fi, start, stop, cals, mult):
+            from mne._fiff.utils import _mult_cal_one
+
+            reader = self._raw_extras[fi]["gainshape_reader"]
+            _mult_cal_one(data, reader.read(start, stop), idx, cals, mult)
+
+    reader = _BlockReader(raw, filt, idx, pad, n_jobs, segments)
+    out = _FilteredRaw(
+        info, preload=False, first_samps=(raw.first_samp,), last_samps=(raw.last_samp,),
+        filenames=(None,), raw_extras=({"gainshape_reader": reader},),
+        orig_format="double", dtype=np.float64, verbose=False,
+    )
+    out.set_annotations(raw.annotations)
+    return out
+
+
+class _BlockReader:
+    """Filtered samples of a source Raw, computed one block at a time.
+
+    Each request is served from the last block when it lies inside it;
+    otherwise a new block starting at the request is filtered (overlap-save
+    with the kernel's support read around it). Memory is bounded by the
+    block length, independent of the recording's length.
+    """
+
+    def __init__(self, raw, filt, rows, pad, n_jobs, segments):
+        self.raw, self.filt, self.rows, self.pad = raw, filt, rows, pad
+        self.workers = n_jobs if n_jobs != -1 else (os.cpu_count() or 1)
+        self.segments = segments
+        self.names = [raw.ch_names[i] for i in rows]
+        self.cache = (0, 0, None)
+        self.edges = {}
+
+    def read(self, start, stop):
+        """All channels, samples [start, stop) in the source's file samples."""
+        start, stop = start - self.raw.first_samp, stop - self.raw.first_samp
+        c_start, c_stop, block = self.cache
+        if not (c_start <= start and stop <= c_stop):
+            _, step = self._plan((0, self.raw.n_times))
+            c_start, c_stop = start, min(self.raw.n_times, max(stop, start + step))
+            block = self._filtered(c_start, c_stop)
+            self.cache = (c_start, c_stop, block)
+        return block[:, start - c_start : stop - c_start]
+
+    def _plan(self, segment):
+        s, e = segment
+        return block_plan(e - s, self.filt.support, compact=True)
+
+    def _filtered(self, start, stop):
+        out = self.raw.get_data(start=start, stop=stop)
+        for s, e in self.segments:
+            a, b = max(start, s), min(stop, e)
+            if a >= b:
+                continue
+            view = _SegmentView(self.raw, self.rows, s, e, self.names)
+            if (s, e) not in self.edges:
+                self.edges = {(s, e): edge_pads(view, self.filt.support, self.pad)}
+            n_fft, step = self._plan((s, e))
+            buf = np.zeros((len(self.rows), n_fft))
+            spec = spectrum_buffer(buf)
+            for lo in range(a - s, b - s, step):
+                hi = min(lo + step, b - s)
+                out[self.rows, s + lo - start : s + hi - start] = filter_span(
+                    view, self.edges[(s, e)], lo, hi, self.filt, n_fft, self.workers, buf, spec=spec)
+        return out
+
+
+class _SegmentView:
+    """``view[:, lo:hi]`` reads rows of a Raw segment from disk, checking for NaN."""
+
+    def __init__(self, raw, rows, start, stop, names):
+        self.raw, self.rows, self.start, self.names = raw, rows, start, names
+        self.shape = (len(rows), stop - start)
+
+    def __getitem__(self, key):
+        _, sl = key
+        lo, hi, _ = sl.indices(self.shape[1])
+        data = self.raw.get_data(picks=self.rows, start=self.start + lo, stop=self.start + hi)
+        check_finite(data, self.names)
+        return data
