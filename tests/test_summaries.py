@@ -11,7 +11,8 @@ SFREQ = 250.0
 
 
 @pytest.fixture
-def pair(raw):
+def pair(make_raw):
+    raw = make_raw(seconds=90.0)  # long enough for the slow band's 80 s window
     raw.info["line_freq"] = 50.0
     return raw, gs.apply(raw, gs.notch(50.0))
 
@@ -38,31 +39,40 @@ def test_history_steps_between(pair):
 def test_epochs_have_epoch_dim(raw):
     events = mne.make_fixed_length_events(raw, duration=4.0)
     epochs = mne.Epochs(raw, events, tmin=0.0, tmax=3.996, baseline=None, preload=True)
-    with pytest.warns(gs.GainshapeWarning, match=r"4 s segments.*band\(s\) slow:"):
+    with pytest.warns(gs.GainshapeWarning, match=r"band\(s\) slow \(4 s, main lobe \+-1 Hz\), delta \(4 s"):
         ds = gs.band_change(epochs, gs.apply(epochs, gs.lowpass(20.0)))
     assert ds.change_db.dims == ("epoch", "channel", "band")
     assert ds.sizes["epoch"] == len(epochs)
 
 
 def test_bands_finer_than_short_epochs_resolve_are_nan_with_a_warning(raw):
-    # 1 s epochs give ~1 Hz bins and a Blackman-Harris main lobe of +-4 bins
-    # (Harris 1978, Proc. IEEE 66:51-83): bands below 4 Hz, or narrower than
-    # the main lobe, cannot be told from their neighbours or from 0 Hz
+    # 1 s epochs give 1 Hz bins and a Blackman-Harris main lobe of +-4 bins
+    # (Harris 1978, Proc. IEEE 66:51-83, from memory): a band needs the lobe
+    # within half its low edge and within its width, so only alpha and above
+    # are measured
     raw.info["line_freq"] = 50.0
     events = mne.make_fixed_length_events(raw, duration=1.0)
     epochs = mne.Epochs(raw, events, tmin=0.0, tmax=0.996, baseline=None, preload=True)
-    with pytest.warns(gs.GainshapeWarning, match=r"1 s segments.*band\(s\) slow, delta, line:"):
+    with pytest.warns(gs.GainshapeWarning, match=r"slow \(1 s.*delta.*theta.*line \(1 s"):
         ds = gs.band_change(epochs, gs.apply(epochs, gs.lowpass(20.0)))
     resolved = ds.band_resolved.to_series().to_dict()
-    assert resolved == {"slow": False, "delta": False, "theta": True, "alpha": True,
+    assert resolved == {"slow": False, "delta": False, "theta": False, "alpha": True,
                         "beta": True, "gamma": True, "line": False}
-    assert ds.change_db.sel(band=["slow", "delta", "line"]).isnull().all()
-    assert ds.change_db.sel(band=["theta", "alpha", "beta", "gamma"]).notnull().all()
+    assert ds.change_db.sel(band=["slow", "delta", "theta", "line"]).isnull().all()
+    assert ds.change_db.sel(band=["alpha", "beta", "gamma"]).notnull().all()
 
 
-def test_continuous_recording_resolves_every_default_band(pair):
-    ds = gs.band_change(*pair)
+def test_slow_band_gets_a_long_window_and_needs_the_data_for_it(make_raw):
+    # main lobe 4 / T at most half of 0.1 Hz: T >= 80 s; other bands 16 s
+    long = make_raw(seconds=90.0)
+    ds = gs.band_change(long, gs.apply(long, gs.lowpass(40.0)))
     assert bool(ds.band_resolved.all())
+    assert ds.window_s.to_series().to_dict() == {"slow": 80.0, "delta": 16.0, "theta": 16.0,
+                                                 "alpha": 16.0, "beta": 16.0, "gamma": 16.0}
+    short = make_raw(seconds=40.0)
+    with pytest.warns(gs.GainshapeWarning, match=r"slow \(40 s, main lobe \+-0.1 Hz\)"):
+        ds = gs.band_change(short, gs.apply(short, gs.lowpass(40.0)))
+    assert not bool(ds.band_resolved.sel(band="slow")) and bool(ds.band_resolved[1:].all())
 
 
 def test_custom_bands_and_arrays(rng):

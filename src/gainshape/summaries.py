@@ -34,19 +34,20 @@ _MAIN_LOBE_BINS = 4  # half-width of the 4-term Blackman-Harris main lobe, in bi
 _UNMEASURABLE = 1e-8  # input PSD below this fraction of its channel median
 
 
-def spectral_settings(n_times: int, sfreq: float) -> dict:
+def spectral_settings(n_times: int, sfreq: float, seconds: float = _WINDOW_SECONDS) -> dict:
     """Welch settings used by the summaries.
 
-    Blackman-Harris windows of up to 16 s with 50 % overlap: their low side
-    lobes keep the strong slow drift of raw EEG from leaking into the bands
-    above it (a Hann window's -31 dB side lobes do not).
+    Blackman-Harris windows of ``seconds`` (at most the data's length) with
+    50 % overlap: their low side lobes keep the strong slow drift of raw EEG
+    from leaking into the bands above it (a Hann window's -31 dB side lobes
+    do not).
 
     Examples
     --------
     >>> spectral_settings(100000, 250.0)["nperseg"]
     4000
     """
-    nperseg = int(min(n_times, round(_WINDOW_SECONDS * sfreq)))
+    nperseg = int(min(n_times, round(seconds * sfreq)))
     return {"window": _WINDOW, "nperseg": nperseg, "noverlap": nperseg // 2,
             "detrend": "constant", "scaling": "density", "average": "mean"}
 
@@ -69,11 +70,14 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
     xarray.Dataset
         Dims ``(channel, band)`` (``(epoch, channel, band)`` for Epochs);
         ``power_before``, ``power_after``, ``change_db``, ``retained``;
-        coords ``band_low``, ``band_high`` (Hz), ``band_resolved`` and
-        ``ch_type``. A band is resolved when it reaches at least the window's
-        main-lobe width (4 bins) above the main lobe around 0 Hz; the others
-        are NaN, with a warning (short epochs cannot resolve slow bands). Attrs with the
-        sampling rate, Welch settings and the ids (comma-separated) of the
+        coords ``band_low``, ``band_high`` (Hz), ``window_s`` (the Welch
+        window used for the band), ``band_resolved`` and ``ch_type``. Each
+        band gets Blackman-Harris windows of 16 s, or longer so that their
+        main lobe (+-4 bins) is at most half the band's low edge (80 s for
+        0.1 Hz): the strong drift of raw EEG then cannot leak into a slow
+        band. Bands whose window does not fit the data (or whose main lobe
+        is wider than the band) are NaN, with a warning. Attrs with the
+        sampling rate, window and the ids (comma-separated) of the
         history steps in ``after`` that ``before`` lacks.
 
     Examples
@@ -87,18 +91,22 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
     """
     a, b = _matched(before, after, sfreq)
     bands = _bands(bands, a)
-    settings = spectral_settings(a.data.shape[-1], a.sfreq)
-    freqs, p_before = welch(a.data, fs=a.sfreq, **settings)
-    _, p_after = welch(b.data, fs=a.sfreq, **settings)
-    df = freqs[1] - freqs[0]
     lows = np.array([lo for lo, _ in bands.values()])
     highs = np.array([hi for _, hi in bands.values()])
-    masks = [(freqs >= lo) & (freqs < hi) for lo, hi in zip(lows, highs)]
-    resolved = _resolved(bands, df, settings["nperseg"] / a.sfreq)
-    power_b = np.stack([p_before[..., m].sum(axis=-1) * df for m in masks], axis=-1)
-    power_a = np.stack([p_after[..., m].sum(axis=-1) * df for m in masks], axis=-1)
-    power_b[..., ~resolved] = np.nan
-    power_a[..., ~resolved] = np.nan
+    windows = [spectral_settings(a.data.shape[-1], a.sfreq, _window_seconds(lo)) for lo in lows]
+    resolved = _resolved(bands, [w["nperseg"] / a.sfreq for w in windows])
+    spectra = {}  # nperseg -> (freqs, psd before, psd after): one Welch per window length
+    for w in windows:
+        if w["nperseg"] not in spectra:
+            freqs, p_before = welch(a.data, fs=a.sfreq, **w)
+            spectra[w["nperseg"]] = (freqs, p_before, welch(b.data, fs=a.sfreq, **w)[1])
+    power_b, power_a = np.full((2, *a.data.shape[:-1], len(bands)), np.nan)
+    for i, (lo, hi, w) in enumerate(zip(lows, highs, windows)):
+        freqs, p_before, p_after = spectra[w["nperseg"]]
+        in_band = (freqs >= lo) & (freqs < hi)
+        if resolved[i]:
+            power_b[..., i] = p_before[..., in_band].sum(axis=-1) * freqs[1]
+            power_a[..., i] = p_after[..., in_band].sum(axis=-1) * freqs[1]
     with np.errstate(divide="ignore", invalid="ignore"):
         retained = power_a / power_b
     dims = ("epoch", "channel", "band") if a.data.ndim == 3 else ("channel", "band")
@@ -116,9 +124,11 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
             "band_low": ("band", lows, {"units": "Hz"}),
             "band_high": ("band", highs, {"units": "Hz"}),
             "band_resolved": ("band", resolved, {"long_name": "band resolved by the spectra"}),
+            "window_s": ("band", [w["nperseg"] / a.sfreq for w in windows],
+                         {"units": "s", "long_name": "Welch window length"}),
             "ch_type": ("channel", a.ch_types),
         },
-        attrs=_attrs(a, b, settings, "Welch PSD integrated over each band"),
+        attrs=_attrs(a, b, "Welch PSD integrated over each band; window lengths in window_s"),
     )
     return ds
 
@@ -156,7 +166,7 @@ def observed_gain(before, after, *, sfreq=None) -> xr.DataArray:
                 "ch_type": ("channel", a.ch_types)},
         name="observed_gain",
         attrs={"units": "1", "long_name": "observed amplitude gain |Pxy/Pxx|",
-               **_attrs(a, b, settings, "cross-spectral transfer estimate")},
+               **_attrs(a, b, "cross-spectral transfer estimate", settings)},
     )
 
 
@@ -201,35 +211,49 @@ def _bands(bands, signals) -> dict:
     return checked
 
 
-def _resolved(bands, df, seconds) -> np.ndarray:
-    """Which bands the spectra can tell apart from 0 Hz and from their
-    neighbours: at least a main lobe's width above the main lobe around 0 Hz.
-    Warns, naming the others and the fix."""
-    lobe = _MAIN_LOBE_BINS * df
-    resolved = np.array([hi - max(lo, lobe) >= lobe for lo, hi in bands.values()])
+def _window_seconds(low: float) -> float:
+    """Welch window for a band starting at ``low`` Hz: 16 s, or longer so that
+    the main lobe (4 bins) is at most half of ``low``. Raw EEG drift below a
+    slow band is far stronger than the band; a wider lobe leaks it in (a 16 s
+    window made a 0.1-1 Hz band look 7 dB weaker after a 0.1 Hz high-pass
+    that took 0.6 dB of it)."""
+    return max(_WINDOW_SECONDS, 2 * _MAIN_LOBE_BINS / low) if low > 0 else _WINDOW_SECONDS
+
+
+def _resolved(bands, seconds) -> np.ndarray:
+    """Which bands the spectra can tell apart from lower frequencies and from
+    their neighbours: the main lobe is at most half the low edge and at most
+    the band's width. Warns, naming the others and the fix."""
+    lobes = [_MAIN_LOBE_BINS / t for t in seconds]
+    resolved = np.array([lobe <= hi - lo and (lo == 0 or lobe <= lo / 2)
+                         for (lo, hi), lobe in zip(bands.values(), lobes)])
     if not resolved.all():
-        names = ", ".join(n for n, ok in zip(bands, resolved) if not ok)
+        bad = [(n, t, lobe) for n, t, lobe, ok in zip(bands, seconds, lobes, resolved) if not ok]
+        listed = ", ".join(f"{n} ({t:.3g} s, main lobe +-{lobe:.3g} Hz)" for n, t, lobe in bad)
         warn(
-            f"Spectra of {seconds:.3g} s segments (bins of {df:.3g} Hz, window main "
-            f"lobe +-{lobe:.3g} Hz) cannot resolve the band(s) {names}: their power and "
-            "change are NaN. Compare longer epochs or the continuous recording, or use "
-            "wider bands.",
+            f"The data are too short to resolve the band(s) {listed}: their power "
+            "and change are NaN. A band needs a Welch window whose main lobe is at most "
+            "half its low edge and at most its width; compare longer epochs or the "
+            "continuous recording, or use wider bands.",
             stacklevel=4,
         )
     return resolved
 
 
-def _attrs(a, b, settings, method) -> dict:
+def _attrs(a, b, method, settings=None) -> dict:
+    """Dataset attributes; ``settings`` (one Welch window for all) adds its length."""
     between = [i for i in b.history_ids if i not in a.history_ids]
-    return {
+    attrs = {
         "sfreq": a.sfreq,
         "spectral_method": f"scipy.signal.welch ({method})",
-        "window": settings["window"],
-        "nperseg": settings["nperseg"],
-        "noverlap": settings["noverlap"],
-        "frequency_resolution_hz": a.sfreq / settings["nperseg"],
+        "window": _WINDOW,
+        "overlap": 0.5,
         "history_steps_between": ", ".join(between),
     }
+    if settings is not None:
+        attrs["nperseg"] = settings["nperseg"]
+        attrs["frequency_resolution_hz"] = a.sfreq / settings["nperseg"]
+    return attrs
 
 
 def _as_channels(data):
