@@ -83,7 +83,7 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
     Examples
     --------
     >>> import numpy as np, gainshape as gs
-    >>> x = np.random.default_rng(0).standard_normal((2, 5000))
+    >>> x = np.random.default_rng(0).standard_normal((2, 25000))  # 100 s at 250 Hz
     >>> y = gs.apply(x, gs.lowpass(20.0), sfreq=250.0)
     >>> ds = band_change(x, y, sfreq=250.0)
     >>> bool(ds.change_db.sel(band="gamma").max() < -10)

@@ -151,7 +151,7 @@ def plot_band_change(ds, *, show=True):
     Examples
     --------
     >>> import numpy as np, gainshape as gs
-    >>> x = np.random.default_rng(0).standard_normal((3, 5000))
+    >>> x = np.random.default_rng(0).standard_normal((3, 25000))  # 100 s at 250 Hz
     >>> ds = gs.band_change(x, gs.apply(x, gs.lowpass(20.0), sfreq=250.0), sfreq=250.0)
     >>> fig = plot_band_change(ds, show=False)
     >>> fig.axes[0].get_xlabel()
