@@ -329,7 +329,10 @@ def design(
     exact = length is None
     if not exact and length != "auto":
         if isinstance(length, str):
-            check_option("length", length, ("auto",))
+            raise ValueError(
+                "The 'length' parameter must be 'auto', None or a kernel length in "
+                f"seconds (a number), but got {length!r}."
+            )
         length = check_positive("length", length)
     curve, notes = curve.below_nyquist(sfreq / 2.0)
 
