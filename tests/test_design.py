@@ -146,3 +146,24 @@ def test_describe_names_edges_or_says_there_are_none():
     with pytest.warns(gs.GainshapeWarning, match="tolerance"):
         too_short = gs.design(gs.highpass(0.1), SFREQ, length=2.0)  # cannot reach 0.5 gain
     assert "no half-amplitude point" in too_short.describe()
+
+
+def test_notch_is_described_by_its_stop_bands_not_by_side_slopes():
+    # common practice (no source): pass-band edges are reported with a
+    # roll-off, notches and band-stops by their stop band
+    f = gs.design(gs.highpass(1.0) * gs.notch(50.0, harmonics=2), SFREQ * 2)
+    line = f.describe()
+    assert "half-amplitude 1 Hz; roll-off 12.2 dB/octave; stop bands 49-51, 99-101 Hz" in line
+    rows = dict(f.summary())
+    assert rows["roll-off"] == "12.2 dB/octave (high-pass edge)"
+    assert rows["stop bands (-6 dB)"] == "49-51 Hz, 99-101 Hz"
+
+
+def test_edge_groups_split_passband_edges_and_stop_bands():
+    from gainshape.design import edge_groups
+
+    c = gs.design(gs.bandpass(1.0, 40.0) * gs.notch(30.0), SFREQ).characteristics
+    passband, stops = edge_groups(c.half_amplitude, [e.direction for e in c.half_amplitude],
+                                  c.half_power, c.rolloff)
+    assert [(name, round(hz)) for name, hz, _, _ in passband] == [("high-pass", 1), ("low-pass", 40)]
+    assert [(round(lo), round(hi)) for lo, hi in stops] == [(29, 31)]

@@ -219,13 +219,23 @@ class FilterDesign:
     def describe(self) -> str:
         """One line: the kind, cutoffs, roll-off, phase and length."""
         c = self.characteristics
-        if c.half_amplitude:
-            edges = ", ".join(f"{float(e):.3g}" for e in c.half_amplitude)
-            slopes = ", ".join(f"{r:.1f}" for r in c.rolloff)
-            shape = f"half-amplitude {edges} Hz; roll-off {slopes} dB/octave"
-        else:
-            shape = "no half-amplitude point"
-        return f"{c.kind}; {shape}; {self.phase} phase; {c.length:.3g} s at {self.sfreq:g} Hz"
+        passband, stops = self._edge_groups()
+        parts = [c.kind]
+        if passband:
+            parts.append("half-amplitude " + ", ".join(f"{float(hz):.3g}" for _, hz, _, _ in passband)
+                         + " Hz")
+            parts.append("roll-off " + ", ".join(f"{r:.1f}" for _, _, _, r in passband) + " dB/octave")
+        if stops:
+            parts.append("stop bands " + ", ".join(f"{float(a):.3g}-{float(b):.3g}" for a, b in stops)
+                         + " Hz")
+        if not c.half_amplitude:
+            parts.append("no half-amplitude point")
+        return "; ".join(parts + [f"{self.phase} phase", f"{c.length:.3g} s at {self.sfreq:g} Hz"])
+
+    def _edge_groups(self):
+        c = self.characteristics
+        return edge_groups(c.half_amplitude, [e.direction for e in c.half_amplitude],
+                           c.half_power, c.rolloff)
 
     def summary(self) -> list[tuple[str, str]]:
         """The characteristics as (label, value) rows of text, for tables.
@@ -247,11 +257,16 @@ class FilterDesign:
             truncation = "shortest kernel within tolerance"
         else:
             truncation = f"fixed at {self.length_request:g} s by request"
+        passband, stops = self._edge_groups()
+        slopes = ", ".join(f"{r:.1f} dB/octave ({name} edge)" for name, _, _, r in passband)
+        stop_rows = [("stop bands (-6 dB)", ", ".join(
+            f"{float(a):.4g}-{float(b):.4g} Hz" for a, b in stops))] if stops else []
         return [
             ("kind", c.kind),
             ("half-amplitude (-6 dB)", edges(c.half_amplitude)),
             ("half-power (-3 dB)", edges(c.half_power)),
-            ("roll-off", ", ".join(f"{r:.1f} dB/octave" for r in c.rolloff) or "none"),
+            ("roll-off", slopes or "none (no pass-band edge)"),
+            *stop_rows,
             ("passband ripple", f"{c.passband_ripple_db:.3g} dB"),
             ("stopband attenuation", f"{c.stopband_attenuation_db:.1f} dB"),
             ("largest gain deviation", f"{c.max_deviation:.2g} (tolerance {self.tolerance:g})"),
@@ -670,12 +685,42 @@ def _upper_hull(x, y) -> list:
 
 def _outer_edges(edges) -> set:
     """The leading rising edge and the trailing falling edge, where present."""
-    out = set()
-    if edges and edges[0].direction == "rising":
-        out.add(edges[0])
-    if edges and edges[-1].direction == "falling":
-        out.add(edges[-1])
+    return {edges[i] for i in _outer_indices([e.direction for e in edges])}
+
+
+def _outer_indices(directions) -> dict:
+    """Index -> "high-pass"/"low-pass" for the pass band's outer edges."""
+    out = {}
+    if directions and directions[0] == "rising":
+        out[0] = "high-pass"
+    if directions and directions[-1] == "falling":
+        out[len(directions) - 1] = "low-pass"
     return out
+
+
+def edge_groups(edges, directions, half_power, rolloff):
+    """Split half-amplitude edges into pass-band edges and stop bands.
+
+    Returns ``[(name, hz, half-power hz or None, roll-off or None)]`` for the
+    leading rising ("high-pass") and trailing falling ("low-pass") edges, and
+    ``[(low, high)]`` for the pairs between them (notches, band-stops).
+    Takes plain lists, so that recorded steps can use it too.
+
+    Examples
+    --------
+    >>> edge_groups([1.0, 49.0, 51.0], ["rising", "falling", "rising"], [1.3, 48.7, 51.3], [12.0, 900.0, 900.0])
+    ([('high-pass', 1.0, 1.3, 12.0)], [(49.0, 51.0)])
+    """
+    edges, half_power, rolloff = list(edges), list(half_power), list(rolloff)
+    outer = _outer_indices(list(directions))
+    passband = [
+        (name, edges[i], half_power[i] if len(half_power) == len(edges) else None,
+         rolloff[i] if i < len(rolloff) else None)
+        for i, name in outer.items()
+    ]
+    inner = [i for i in range(len(edges)) if i not in outer]
+    stops = [(edges[i], edges[j]) for i, j in zip(inner[::2], inner[1::2])]
+    return passband, stops
 
 
 def _hidden_notches(freqs, gain, edges, floor) -> int:

@@ -20,6 +20,7 @@ import numpy as np
 import xxhash
 
 from ._checks import warn
+from .design import edge_groups
 
 __all__ = [
     "History",
@@ -319,24 +320,9 @@ def _step_sentences(step) -> str:
 
 
 def _edge_groups(r):
-    """Pass-band edges [(name, hz, half-power hz or None, roll-off or None)]
-    and stop bands [(low, high)] of a step's realized characteristics."""
-    edges = list(zip(r.get("half_amplitude", []), r.get("half_amplitude_direction", [])))
-    power = list(r.get("half_power", []))
-    slopes = list(r.get("rolloff", []))
-    outer = []
-    if edges and edges[0][1] == "rising":
-        outer.append((0, "high-pass"))
-    if edges and edges[-1][1] == "falling" and (not outer or len(edges) > 1):
-        outer.append((len(edges) - 1, "low-pass"))
-    passband = [
-        (name, edges[i][0], power[i] if len(power) == len(edges) else None,
-         slopes[i] if i < len(slopes) else None)
-        for i, name in outer
-    ]
-    inner = [i for i in range(len(edges)) if i not in [j for j, _ in outer]]
-    stops = [(edges[i][0], edges[j][0]) for i, j in zip(inner[::2], inner[1::2])]
-    return passband, stops
+    """Pass-band edges and stop bands of a step's recorded characteristics."""
+    return edge_groups(r.get("half_amplitude", []), r.get("half_amplitude_direction", []),
+                       r.get("half_power", []), r.get("rolloff", []))
 
 
 def _edge_sentence(r) -> str:
