@@ -110,6 +110,7 @@ def test_history_of_array_explains_return_step():
 def test_history_html_table(filtered):
     html = gs.history(filtered)._repr_html_()
     assert html.count("<tr>") == 3 and "band-pass" in html and "notch" in html
+    assert "<td>49-51, 99-101</td>" in html  # the notch step's stop bands (125 Hz Nyquist)
 
 
 def test_methods_text_reports_every_step_with_realized_numbers(filtered):

@@ -54,18 +54,20 @@ class History(list):
 
     def _repr_html_(self):
         head = "".join(f"<th>{h}</th>" for h in
-                       ("#", "time (UTC)", "filter", "half-amplitude (Hz)", "roll-off (dB/oct)",
-                        "phase", "channels"))
+                       ("#", "time (UTC)", "filter", "cutoffs, -6 dB (Hz)", "roll-off (dB/oct)",
+                        "stop bands, -6 dB (Hz)", "phase", "channels"))
         rows = []
         for i, step in enumerate(self):
             r = step.get("realized", {})
             chans = step.get("channels", [])
+            passband, stops = _edge_groups(r)
             cells = (
                 str(i + 1),
                 step.get("time", "?")[:19].replace("T", " "),
                 r.get("kind", "?"),
-                ", ".join(f"{v:.3g}" for v in r.get("half_amplitude", [])),
-                ", ".join(f"{v:.1f}" for v in r.get("rolloff", [])),
+                ", ".join(f"{hz:.3g}" for _, hz, _, _ in passband),
+                ", ".join(f"{slope:.1f}" for _, _, _, slope in passband if slope is not None),
+                ", ".join(f"{lo:.3g}-{hi:.3g}" for lo, hi in stops),
                 step.get("design", {}).get("phase", "?"),
                 f"{len(chans)} ({', '.join(chans[:3])}{', ...' if len(chans) > 3 else ''})",
             )
@@ -277,7 +279,9 @@ def _split_description(description):
 
 def _one_line(step) -> str:
     r = step.get("realized", {})
-    cut = ", ".join(f"{v:.3g}" for v in r.get("half_amplitude", []))
+    passband, stops = _edge_groups(r)
+    cut = ", ".join([f"{hz:.3g}" for _, hz, _, _ in passband]
+                    + [f"{lo:.3g}-{hi:.3g}" for lo, hi in stops])
     return (f"{step.get('time', '?')} {r.get('kind', '?')} ({cut} Hz), "
             f"{step.get('design', {}).get('phase', '?')} phase, "
             f"{len(step.get('channels', []))} channels")
