@@ -17,7 +17,7 @@ import numpy as np
 from ._checks import check_option, warn
 from .curves import GainCurve
 from .design import FilterDesign, design
-from .engine import PAD_MODES, check_finite, filter_array
+from .engine import PAD_MODES, check_finite, fft_workers, filter_array
 from .provenance import fingerprint, history, make_step, store_step
 
 __all__ = ["apply", "replay", "as_arrays", "Signals"]
@@ -109,6 +109,7 @@ def apply(
         )
     check_option("nan", nan, ("raise", "split"))
     check_option("pad", pad, PAD_MODES)
+    fft_workers(n_jobs)  # checked before the design is made
     if isinstance(inst, np.ndarray):
         out, step = _apply_array(inst, filt, sfreq, picks, pad, phase, length, tolerance,
                                  nan, n_jobs, copy, verbose)

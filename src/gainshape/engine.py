@@ -17,7 +17,8 @@ import scipy.fft as sfft
 
 from ._checks import check_int, check_option, warn
 
-__all__ = ["filter_array", "check_finite", "filter_span", "edge_pads", "block_plan", "PAD_MODES"]
+__all__ = ["filter_array", "check_finite", "filter_span", "edge_pads", "block_plan", "PAD_MODES",
+           "convolve_rows", "spectrum_buffer", "fft_workers"]
 
 LOCAL_PAD_MODES = ("reflect", "symmetric", "edge", "constant")  # need only the ends
 PAD_MODES = (
@@ -103,7 +104,7 @@ def filter_array(
     data = _check_data(data)
     pad = check_option("pad", pad, PAD_MODES)
     nan = check_option("nan", nan, ("raise", "split"))
-    workers = _workers(n_jobs)
+    workers = fft_workers(n_jobs)
     all_rows = data.reshape(-1, data.shape[-1])
     picked = np.arange(all_rows.shape[0]) if rows is None else np.asarray(rows, dtype=int)
     segments = _check_segments(segments, data.shape[-1])
@@ -175,7 +176,12 @@ def _check_data(data) -> np.ndarray:
     return data
 
 
-def _workers(n_jobs) -> int:
+def fft_workers(n_jobs) -> int:
+    """FFT threads for ``n_jobs`` (-1: all cores), checked.
+
+    >>> fft_workers(2)
+    2
+    """
     if n_jobs == -1:
         return os.cpu_count() or 1
     return check_int("n_jobs", n_jobs, minimum=1)

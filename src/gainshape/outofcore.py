@@ -9,13 +9,11 @@ block, not the recording.
 
 from __future__ import annotations
 
-import os
-
 import numpy as np
 
 from .design import FilterDesign
-from .engine import (LOCAL_PAD_MODES, block_plan, check_finite, edge_pads, filter_span,
-                     spectrum_buffer)
+from .engine import (LOCAL_PAD_MODES, block_plan, check_finite, edge_pads, fft_workers,
+                     filter_span, spectrum_buffer)
 
 __all__ = ["check_request", "filtered_raw"]
 
@@ -80,7 +78,7 @@ class _BlockReader:
 
     def __init__(self, raw, filt, rows, pad, n_jobs, segments):
         self.raw, self.filt, self.rows, self.pad = raw, filt, rows, pad
-        self.workers = n_jobs if n_jobs != -1 else (os.cpu_count() or 1)
+        self.workers = fft_workers(n_jobs)
         self.segments = segments
         self.names = [raw.ch_names[i] for i in rows]
         self.cache = (0, 0, None)

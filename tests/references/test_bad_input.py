@@ -123,6 +123,8 @@ CASES = [
      lambda a: gs.apply(a, gs.lowpass(30.0), nan="split"), ValueError, r"'nan'.*'split'"),
     ("file not loaded, exact length", _lazy_raw,
      lambda a: gs.apply(a, gs.lowpass(30.0), length=None), ValueError, r"'length'.*in memory"),
+    ("file not loaded, n_jobs zero", _lazy_raw,
+     lambda a: gs.apply(a, gs.lowpass(30.0), n_jobs=0), ValueError, "'n_jobs'"),
     ("n_jobs zero", lambda mk: _array(),
      lambda a: gs.apply(a, gs.lowpass(30.0), sfreq=250.0, n_jobs=0), ValueError, "'n_jobs'"),
 ]
