@@ -94,19 +94,20 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
     lows = np.array([lo for lo, _ in bands.values()])
     highs = np.array([hi for _, hi in bands.values()])
     windows = [spectral_settings(a.data.shape[-1], a.sfreq, _window_seconds(lo)) for lo in lows]
-    resolved = _resolved(bands, [w["nperseg"] / a.sfreq for w in windows])
+    seconds = [w["nperseg"] / a.sfreq for w in windows]
+    resolved = _resolved(bands, seconds)
     spectra = {}  # nperseg -> (freqs, psd before, psd after): one Welch per window length
-    for w in windows:
+    power_b, power_a = np.full((2, *a.data.shape[:-1], len(bands)), np.nan)
+    for i, (lo, hi, w) in enumerate(zip(lows, highs, windows)):
+        if not resolved[i]:
+            continue
         if w["nperseg"] not in spectra:
             freqs, p_before = welch(a.data, fs=a.sfreq, **w)
             spectra[w["nperseg"]] = (freqs, p_before, welch(b.data, fs=a.sfreq, **w)[1])
-    power_b, power_a = np.full((2, *a.data.shape[:-1], len(bands)), np.nan)
-    for i, (lo, hi, w) in enumerate(zip(lows, highs, windows)):
         freqs, p_before, p_after = spectra[w["nperseg"]]
         in_band = (freqs >= lo) & (freqs < hi)
-        if resolved[i]:
-            power_b[..., i] = p_before[..., in_band].sum(axis=-1) * freqs[1]
-            power_a[..., i] = p_after[..., in_band].sum(axis=-1) * freqs[1]
+        power_b[..., i] = p_before[..., in_band].sum(axis=-1) * freqs[1]
+        power_a[..., i] = p_after[..., in_band].sum(axis=-1) * freqs[1]
     with np.errstate(divide="ignore", invalid="ignore"):
         retained = power_a / power_b
     dims = ("epoch", "channel", "band") if a.data.ndim == 3 else ("channel", "band")
@@ -124,7 +125,7 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
             "band_low": ("band", lows, {"units": "Hz"}),
             "band_high": ("band", highs, {"units": "Hz"}),
             "band_resolved": ("band", resolved, {"long_name": "band resolved by the spectra"}),
-            "window_s": ("band", [w["nperseg"] / a.sfreq for w in windows],
+            "window_s": ("band", seconds,
                          {"units": "s", "long_name": "Welch window length"}),
             "ch_type": ("channel", a.ch_types),
         },
