@@ -114,5 +114,5 @@ def test_observed_gain_shape_and_mask(rng):
     da = gs.observed_gain(x, y, sfreq=SFREQ)
     assert da.dims == ("channel", "frequency")
     assert np.isnan(da.values[2]).all()
-    assert np.isnan(da.values[:2, :4]).all()  # main lobe of the window around 0 Hz
-    assert np.isfinite(da.values[:2, 4:]).all()
+    assert np.isnan(da.values[:2, :8]).all()  # main lobe reaching below f / 2
+    assert np.isfinite(da.values[:2, 8:]).all()
