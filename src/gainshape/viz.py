@@ -224,7 +224,9 @@ def plot_observed_gain(da, design=None, *, show=True):
     freqs = da.frequency.values
     keep = freqs > 0
     gains = da.values[:, keep]
-    realized = design.realized_gain(freqs[keep]) if design is not None else None
+    # the realized gain on the spectra's grid and a log grid (smooth below 1 Hz)
+    dense = np.union1d(freqs[keep], np.geomspace(freqs[keep][0], freqs[-1], 2000))
+    realized = design.realized_gain(dense) if design is not None else None
     fig, (ax_lin, ax_db) = plt.subplots(1, 2, figsize=(11, 4.2), layout="constrained")
     for ax, to_y in ((ax_lin, np.asarray), (ax_db, _to_db)):
         values = to_y(gains)
@@ -233,7 +235,7 @@ def plot_observed_gain(da, design=None, *, show=True):
         median = _median_over_channels(values)
         ax.semilogx(freqs[keep], median, color="C0", linewidth=1.8, label="observed (median)")
         if realized is not None:
-            ax.semilogx(freqs[keep], to_y(realized), color="C3", linestyle="--", linewidth=1.4,
+            ax.semilogx(dense, to_y(realized), color="C3", linestyle="--", linewidth=1.4,
                         label="realized")
         ax.set_xlabel("frequency (Hz)")
         ax.grid(True, which="both", alpha=0.3)
