@@ -116,3 +116,13 @@ def test_observed_gain_shape_and_mask(rng):
     assert np.isnan(da.values[2]).all()
     assert np.isnan(da.values[:2, :8]).all()  # main lobe reaching below f / 2
     assert np.isfinite(da.values[:2, 8:]).all()
+
+
+def test_default_bands_above_nyquist_are_left_out_with_a_warning(rng):
+    # common practice (no source): nothing above Nyquist can be measured
+    x = rng.standard_normal((2, 100 * 80))  # 100 s at 80 Hz: Nyquist 40 Hz
+    with pytest.warns(gs.GainshapeWarning, match=r"gamma \(30-45 Hz\).*Nyquist frequency \(40 Hz\)"):
+        ds = gs.band_change(x, x, sfreq=80.0)
+    assert list(ds.band.values) == ["slow", "delta", "theta", "alpha", "beta"]
+    with pytest.raises(ValueError, match="Nyquist"):  # bands the user names still must fit
+        gs.band_change(x, x, bands={"high": (30.0, 45.0)}, sfreq=80.0)

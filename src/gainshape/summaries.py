@@ -190,10 +190,7 @@ def _matched(before, after, sfreq):
 
 def _bands(bands, signals) -> dict:
     if bands is None:
-        bands = dict(DEFAULT_BANDS)
-        if signals.line_freq:
-            f = float(signals.line_freq)
-            bands["line"] = (f - _LINE_HALF_WIDTH, f + _LINE_HALF_WIDTH)
+        bands = _default_bands(signals)
     if not isinstance(bands, dict) or not bands:
         raise TypeError(
             "The 'bands' parameter must be a dict of name -> (low, high) in Hz, "
@@ -244,6 +241,21 @@ def _resolved(bands, seconds) -> np.ndarray:
             stacklevel=4,
         )
     return resolved
+
+
+def _default_bands(signals) -> dict:
+    """DEFAULT_BANDS plus the line band, without those reaching above Nyquist (warned)."""
+    bands = dict(DEFAULT_BANDS)
+    if signals.line_freq:
+        f = float(signals.line_freq)
+        bands["line"] = (f - _LINE_HALF_WIDTH, f + _LINE_HALF_WIDTH)
+    nyquist = signals.sfreq / 2.0
+    above = {n: b for n, b in bands.items() if b[1] > nyquist}
+    if above:
+        listed = ", ".join(f"{n} ({lo:g}-{hi:g} Hz)" for n, (lo, hi) in above.items())
+        warn(f"Default band(s) {listed} reach above the Nyquist frequency "
+             f"({nyquist:g} Hz) and are left out.", stacklevel=5)
+    return {n: b for n, b in bands.items() if n not in above}
 
 
 def _attrs(a, b, method, settings=None) -> dict:
