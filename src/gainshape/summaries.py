@@ -64,7 +64,8 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
         (channels, times) and need ``sfreq``.
     bands : dict of str -> (low, high) | None
         Bands in Hz. Default: :data:`DEFAULT_BANDS` plus a "line" band of
-        +-1 Hz around ``info["line_freq"]`` when it is set.
+        +-1 Hz around ``info["line_freq"]`` when it is set, leaving out (with
+        a warning) those reaching above the Nyquist frequency.
 
     Returns
     -------
