@@ -17,6 +17,8 @@ from .engine import (LOCAL_PAD_MODES, block_plan, check_finite, edge_pads, fft_w
 
 __all__ = ["check_request", "filtered_raw"]
 
+_ROWS_PER_FFT = 8  # rows transformed together: small buffers, whole SIMD groups
+
 
 def check_request(filt, length, pad, nan, copy):
     """What a Raw that is not loaded cannot do, said before any work."""
@@ -108,26 +110,45 @@ class _BlockReader:
             view = _SegmentView(self.raw, self.rows, s, e, self.names)
             if (s, e) not in self.edges:
                 self.edges = {(s, e): edge_pads(view, self.filt.support, self.pad)}
+            left, right = self.edges[(s, e)]
             n_fft, step = self._plan((s, e))
-            buf = np.zeros((len(self.rows), n_fft))
+            buf = np.zeros((min(_ROWS_PER_FFT, len(self.rows)), n_fft))
             spec = spectrum_buffer(buf)
             for lo in range(a - s, b - s, step):
                 hi = min(lo + step, b - s)
-                out[self.rows, s + lo - start : s + hi - start] = filter_span(
-                    view, self.edges[(s, e)], lo, hi, self.filt, n_fft, self.workers, buf, spec=spec)
+                for g in range(0, len(self.rows), _ROWS_PER_FFT):  # all rows read once
+                    group = slice(g, g + _ROWS_PER_FFT)
+                    k = len(self.rows[group])
+                    out[self.rows[group], s + lo - start : s + hi - start] = filter_span(
+                        _RowGroup(view, group, k), (left[group], right[group]), lo, hi,
+                        self.filt, n_fft, self.workers, buf[:k], spec=spec[:k])
         return out
 
 
 class _SegmentView:
-    """``view[:, lo:hi]`` reads rows of a Raw segment from disk, checking for NaN."""
+    """``view[:, lo:hi]`` reads rows of a Raw segment from disk, checking for
+    NaN; the last read is kept, so that groups of rows share one read."""
 
     def __init__(self, raw, rows, start, stop, names):
         self.raw, self.rows, self.start, self.names = raw, rows, start, names
         self.shape = (len(rows), stop - start)
+        self._last = (None, None, None)
 
     def __getitem__(self, key):
         _, sl = key
         lo, hi, _ = sl.indices(self.shape[1])
-        data = self.raw.get_data(picks=self.rows, start=self.start + lo, stop=self.start + hi)
-        check_finite(data, self.names)
-        return data
+        if self._last[:2] != (lo, hi):
+            data = self.raw.get_data(picks=self.rows, start=self.start + lo, stop=self.start + hi)
+            check_finite(data, self.names)
+            self._last = (lo, hi, data)
+        return self._last[2]
+
+
+class _RowGroup:
+    """Rows ``group`` (a slice) of a :class:`_SegmentView`, ``k`` of them."""
+
+    def __init__(self, view, group, k):
+        self.view, self.group, self.shape = view, group, (k, view.shape[1])
+
+    def __getitem__(self, key):
+        return self.view[key][self.group]
