@@ -43,7 +43,8 @@ def audit(filt, sfreq: float | None = None, waveform=None) -> xr.Dataset:
         None: a step (up at 0 s, back down at 1 s, so its undershoot after
         a high-pass can be measured), a 10 ms pulse, and a simulated ERP with
         an early sharp negativity (100 ms) and a late slow positivity (450 ms). An Evoked:
-        its channel with the largest absolute peak. A 1-D array: one waveform
+        its channel with the largest absolute peak (to choose one, pass
+        ``evoked.copy().pick(["Cz"])``). A 1-D array: one waveform
         with t = 0 at its first sample. A given waveform is treated as
         isolated: it is extended with zeros by the kernel's reach on both
         sides, so the time axis shows what the filter spreads outside it.
