@@ -131,18 +131,20 @@ def test_progress_bar_shown_when_verbose(capsys, rng):
     assert "filtering" in capsys.readouterr().err
 
 
+@pytest.mark.parametrize("n_fft", [4096, 1215])  # next_fast_len sizes can be odd
 @pytest.mark.parametrize("dtype", [np.float32, np.float64])
-def test_convolve_rows_matches_scipy_fft(dtype, rng):
+def test_convolve_rows_matches_scipy_fft(dtype, n_fft, rng):
     # scipy.fft reference: irfft(rfft(x) * H), for real and complex responses
     import scipy.fft as sfft
 
     from gainshape.engine import convolve_rows, spectrum_buffer
 
-    x = rng.standard_normal((5, 4096)).astype(dtype)
-    for response in (rng.uniform(size=2049), np.exp(1j * rng.uniform(0, 6, 2049))):
+    x = rng.standard_normal((5, n_fft)).astype(dtype)
+    n_bins = n_fft // 2 + 1
+    for response in (rng.uniform(size=n_bins), np.exp(1j * rng.uniform(0, 6, n_bins))):
         if dtype == np.float32:  # the engine passes responses in the data's precision
             response = response.astype(np.complex64 if np.iscomplexobj(response) else np.float32)
-        expected = sfft.irfft(sfft.rfft(x) * response, 4096)
+        expected = sfft.irfft(sfft.rfft(x) * response, n_fft)
         buf = x.copy()
         convolve_rows(buf, response, 1, spectrum_buffer(buf))
         assert buf.dtype == dtype
