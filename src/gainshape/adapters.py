@@ -118,11 +118,11 @@ def apply(
     _check_sfreq(inst, sfreq)
     idx = _pick_indices(inst, picks)
     if kind == "raw" and not inst.preload:
-        from . import outofcore  # the layer for recordings not in memory
+        from .outofcore import check_request  # the layer for recordings not in memory
 
-        outofcore.check_request(filt, length, pad, nan, copy)
+        check_request(filt, length, pad, nan, copy)
         filt = _realize(filt, inst.info["sfreq"], phase, length, tolerance)
-        out, step = _apply_lazy(inst, filt, idx, pad, nan, n_jobs, outofcore)
+        out, step = _apply_lazy(inst, filt, idx, pad, nan, n_jobs)
     else:
         filt = _realize(filt, inst.info["sfreq"], phase, length, tolerance)
         out, step = _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose)
@@ -162,10 +162,12 @@ def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
     return out, step
 
 
-def _apply_lazy(raw, filt, idx, pad, nan, n_jobs, outofcore):
+def _apply_lazy(raw, filt, idx, pad, nan, n_jobs):
     """A lazily filtered Raw for one that is not loaded, and its step."""
+    from .outofcore import filtered_raw
+
     segments = _raw_segments(raw)
-    out = outofcore.filtered_raw(raw, filt, idx, pad, n_jobs, segments)
+    out = filtered_raw(raw, filt, idx, pad, n_jobs, segments)
     seconds = [[a / filt.sfreq, b / filt.sfreq] for a, b in segments]
     step = make_step(filt, channels=[raw.ch_names[i] for i in idx], pad=pad, nan=nan,
                      segments=seconds, dtype="float64", before=None, after=None)

@@ -175,10 +175,7 @@ def plot_band_change(ds, *, show=True):
     fig.colorbar(image, ax=ax_map, label="power change (dB)",
                  extend="both" if np.nanmax(np.abs(change)) > lim else "neither")
 
-    resolved = ~np.isnan(change).all(axis=0)  # unresolved bands are NaN throughout
-    median, low, high = np.full((3, n_band), np.nan)
-    for stat, fn in ((median, np.nanmedian), (low, np.nanmin), (high, np.nanmax)):
-        stat[resolved] = fn(change[:, resolved], axis=0)
+    median, low, high = (_over_channels(change, fn) for fn in (np.nanmedian, np.nanmin, np.nanmax))
     y = np.arange(n_band)
     ax_sum.barh(y, median, color=["C3" if m > 0 else "C0" for m in median], alpha=0.8,
                 label="median over channels")
@@ -186,7 +183,7 @@ def plot_band_change(ds, *, show=True):
     ax_sum.axvline(0.0, color="0.5", linewidth=0.8)
     ax_sum.set_yticks(y, [f"{b} ({lo:g}-{hi:g} Hz){'' if ok else ', not resolved'}"
                           for b, lo, hi, ok in zip(ds.band.values, ds.band_low.values,
-                                                   ds.band_high.values, resolved)])
+                                                   ds.band_high.values, ds.band_resolved.values)])
     ax_sum.invert_yaxis()
     ax_sum.set_xlabel("power change (dB)")
     ax_sum.legend(loc="best", fontsize="small")
@@ -232,7 +229,7 @@ def plot_observed_gain(da, design=None, *, show=True):
         values = to_y(gains)
         for row in values:
             ax.semilogx(freqs[keep], row, color="0.7", linewidth=0.6)
-        median = _median_over_channels(values)
+        median = _over_channels(values)
         ax.semilogx(freqs[keep], median, color="C0", linewidth=1.8, label="observed (median)")
         if realized is not None:
             ax.semilogx(dense, to_y(realized), color="C3", linestyle="--", linewidth=1.4,
@@ -249,11 +246,11 @@ def plot_observed_gain(da, design=None, *, show=True):
     return fig
 
 
-def _median_over_channels(gain_db) -> np.ndarray:
-    """Median over channels (rows) of gains in dB, NaN where none was measured."""
-    measured = np.isfinite(gain_db).any(axis=0)
-    out = np.full(gain_db.shape[-1], np.nan)
-    out[measured] = np.nanmedian(gain_db[:, measured], axis=0)
+def _over_channels(values, statistic=np.nanmedian) -> np.ndarray:
+    """``statistic`` over channels (rows) of each column, NaN where none was measured."""
+    measured = np.isfinite(values).any(axis=0)
+    out = np.full(values.shape[-1], np.nan)
+    out[measured] = statistic(values[:, measured], axis=0)
     return out
 
 
