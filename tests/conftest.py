@@ -17,7 +17,7 @@ def simulated_raw(sfreq=250.0, seconds=40.0, seed=0, with_stim=True):
     data = 1e-6 * rng.standard_normal((len(names), n))
     data[:4] += 5e-6 * np.sin(2 * np.pi * 10.0 * t) + 3e-6 * np.sin(2 * np.pi * 50.0 * t)
     if with_stim:
-        names.append("STI 014")
+        names.append("Trigger")
         types.append("stim")
         stim = np.zeros((1, n))
         stim[0, int(sfreq)::int(2 * sfreq)] = 1.0

@@ -11,17 +11,17 @@ import gainshape as gs
 SFREQ = 500.0
 
 
-def test_auto_length_is_shortest_within_tolerance():
+def test_shortest_kernel_is_shortest_within_tolerance():
     curve = gs.highpass(0.5)
     f = gs.design(curve, SFREQ)
     assert f.characteristics.max_deviation <= f.tolerance
-    shorter = gs.design(curve, SFREQ, length=0.8 * f.characteristics.length, tolerance=0.5)
+    shorter = gs.design(curve, SFREQ, kernel=0.8 * f.characteristics.length, tolerance=0.5)
     assert shorter.characteristics.max_deviation > f.tolerance
 
 
 def test_explicit_length_honoured_and_shortfall_warned():
-    with pytest.warns(gs.GainshapeWarning, match="length='auto'"):
-        f = gs.design(gs.highpass(0.5), SFREQ, length=1.0)
+    with pytest.warns(gs.GainshapeWarning, match="kernel='shortest'"):
+        f = gs.design(gs.highpass(0.5), SFREQ, kernel=1.0)
     assert f.kernel.size == 501
     assert f.characteristics.max_deviation > f.tolerance
 
@@ -34,7 +34,7 @@ def test_tighter_tolerance_needs_longer_kernel():
 
 
 def test_exact_mode_applies_request_on_record_grid():
-    f = gs.design(gs.lowpass(30.0), SFREQ, length=None)
+    f = gs.design(gs.lowpass(30.0), SFREQ, kernel="exact")
     spec = f.spectrum(1000)
     np.testing.assert_array_equal(spec, gs.lowpass(30.0)(np.fft.rfftfreq(1000, 1 / SFREQ)))
     assert f.characteristics.max_deviation == 0.0
@@ -62,7 +62,7 @@ def test_kernel_is_read_only_and_design_frozen():
 def test_times_centered_for_zero_phase_and_causal_for_minimum():
     zero = gs.design(gs.lowpass(30.0), SFREQ)
     assert zero.times[zero.offset] == 0.0 and zero.times[0] == -zero.times[-1]
-    minimum = gs.design(gs.lowpass(30.0), SFREQ, phase="minimum")
+    minimum = gs.design(gs.lowpass(30.0), SFREQ, causal=True)
     assert minimum.times[0] == 0.0
 
 
@@ -92,7 +92,7 @@ def test_notch_harmonics_above_nyquist_dropped_with_note():
 
 
 def test_characteristics_to_dict_is_json():
-    c = gs.design(gs.bandpass(1.0, 30.0), SFREQ, phase="minimum").characteristics
+    c = gs.design(gs.bandpass(1.0, 30.0), SFREQ, causal=True).characteristics
     d = json.loads(json.dumps(c.to_dict()))
     assert d["half_amplitude_direction"] == ["rising", "falling"]
     assert d["group_delay"] > 0
@@ -108,7 +108,7 @@ def test_repr_and_html():
     f = gs.design(gs.lowpass(30.0), 1000.0)
     assert repr(f) == (
         "FilterDesign(low-pass; half-amplitude 30 Hz; roll-off 12.0 dB/octave; "
-        "zero phase; 0.135 s at 1000 Hz)"
+        "zero-phase; 0.135 s at 1000 Hz)"
     )
     html = f._repr_html_()
     assert "<table>" in html and "half-amplitude" in html
@@ -124,27 +124,27 @@ def test_jump_in_request_is_explained():
     with pytest.raises(ValueError, match="jump, a kink"):
         gs.design(brickwall, 250.0)
     with pytest.warns(gs.GainshapeWarning, match="no kernel length meets it"):
-        f = gs.design(brickwall, 250.0, length=1.0)
+        f = gs.design(brickwall, 250.0, kernel=1.0)
     assert f.characteristics.max_deviation > 0.1
 
 
 def test_explicit_length_longer_than_needed_is_honoured():
     # common practice (no source): a requested kernel length is the length used
-    f = gs.design(gs.lowpass(30.0), 500.0, length=40.0)
+    f = gs.design(gs.lowpass(30.0), 500.0, kernel=40.0)
     assert f.kernel.size in (20000, 20001)
     assert f.characteristics.length == pytest.approx(40.0, abs=2 / 500.0)
     assert f.characteristics.max_deviation <= 0.001
 
 
 def test_explicit_length_beyond_the_design_grid_is_refused():
-    with pytest.raises(ValueError, match=r"'length'.*at most"):
-        gs.design(gs.lowpass(30.0), 500.0, length=1e5)
+    with pytest.raises(ValueError, match=r"'kernel'.*at most"):
+        gs.design(gs.lowpass(30.0), 500.0, kernel=1e5)
 
 
 def test_describe_names_edges_or_says_there_are_none():
     assert "half-amplitude 30 Hz; roll-off 12.0 dB/octave" in gs.design(gs.lowpass(30.0), SFREQ).describe()
     with pytest.warns(gs.GainshapeWarning, match="tolerance"):
-        too_short = gs.design(gs.highpass(0.1), SFREQ, length=2.0)  # cannot reach 0.5 gain
+        too_short = gs.design(gs.highpass(0.1), SFREQ, kernel=2.0)  # cannot reach 0.5 gain
     assert "no half-amplitude point" in too_short.describe()
 
 

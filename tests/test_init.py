@@ -55,3 +55,58 @@ def test_modules_import_only_lower_layers_and_mne_stays_in_adapters():
         assert local <= set(LAYERS[:rank]), (name, local - set(LAYERS[:rank]))
         _, external = _package_imports(src / f"{name}.py", top_level_only=False)
         assert ("mne" in external or "mne_bids" in external) <= (name in MNE_AWARE), name
+
+
+# Names and sentences of another filtering program's interface that must not
+# come back (our own words rule; the list is from the project's review).
+BORROWED_PARAMETERS = {"phase", "filter_length", "l_freq", "h_freq", "trans_bandwidth",
+                       "l_trans_bandwidth", "h_trans_bandwidth", "fir_window", "fir_design",
+                       "iir_params"}
+BORROWED_STRINGS = ("zero-double", "Invalid value for the", "Allowed values are",
+                    "firwin", "length='auto'", 'length="auto"')
+
+
+def _public_callables():
+    import inspect
+
+    for name in gs.__all__:
+        obj = getattr(gs, name)
+        yield name, obj
+        if inspect.isclass(obj):
+            for attr, member in vars(obj).items():
+                if callable(member) and not attr.startswith("_"):
+                    yield f"{name}.{attr}", member
+
+
+def test_public_signatures_use_no_borrowed_parameter_names():
+    import inspect
+
+    checked = 0
+    for name, obj in _public_callables():
+        try:
+            params = set(inspect.signature(obj).parameters)
+        except (TypeError, ValueError):
+            continue
+        checked += 1
+        assert not params & BORROWED_PARAMETERS, (name, params & BORROWED_PARAMETERS)
+    assert checked >= len(gs.__all__)  # the scan saw every public function and class
+
+
+def test_source_strings_hold_no_borrowed_option_or_message():
+    import ast
+    from pathlib import Path
+
+    src = Path(gs.__file__).parent
+    strings = [node.value for path in src.glob("*.py") for node in ast.walk(ast.parse(path.read_text()))
+               if isinstance(node, ast.Constant) and isinstance(node.value, str)]
+    assert len(strings) > 100
+    for text in strings:
+        for borrowed in BORROWED_STRINGS:
+            assert borrowed not in text, (borrowed, text[:80])
+
+
+def test_auto_is_not_a_kernel_option():
+    import pytest
+
+    with pytest.raises(ValueError, match="not a choice for 'kernel'"):
+        gs.design(gs.lowpass(30.0), 250.0, kernel="auto")

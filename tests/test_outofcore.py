@@ -18,7 +18,7 @@ CURVE = gs.bandpass(0.5, 30.0)
 def _write_recording(path, seconds, n_channels=16, sfreq=250.0):
     rng = np.random.default_rng(5)
     n = int(seconds * sfreq)
-    names = [f"EEG{i:02d}" for i in range(n_channels)] + ["STI 014"]
+    names = [f"EEG{i:02d}" for i in range(n_channels)] + ["Trigger"]
     info = mne.create_info(names, sfreq, ["eeg"] * n_channels + ["stim"])
     data = np.vstack([1e-5 * rng.standard_normal((n_channels, n)), np.zeros((1, n))])
     raw = mne.io.RawArray(data, info)

@@ -120,14 +120,14 @@ def test_methods_text_reports_every_step_with_realized_numbers(filtered):
     assert "in 2 steps" in text and text.index("band-pass") < text.index("notch")
     assert f"{bp['half_amplitude'][0]:.3g} Hz" in text and f"{bp['half_amplitude'][1]:.3g} Hz" in text
     assert f"{bp['rolloff'][0]:.1f} dB/octave" in text
-    assert "zero-phase" in text and "stop bands" in text and "reflect" in text
+    assert "zero-phase (symmetric kernel, no delay)" in text and "stop bands" in text and "reflect" in text
     assert f"MNE-Python {mne.__version__}" in text
 
 
 def test_methods_text_minimum_phase_reports_delay(raw):
-    out = gs.apply(raw, gs.lowpass(20.0), phase="minimum")
+    out = gs.apply(raw, gs.lowpass(20.0), causal=True)
     delay = gs.history(out)[0]["realized"]["group_delay"]
-    assert f"delayed the passband by {1000 * delay:.3g} ms" in gs.methods_text(out)
+    assert f"minimum-phase (causal kernel, delay {1000 * delay:.3g} ms)" in gs.methods_text(out)
 
 
 def test_bids_filters_shape(filtered):
@@ -150,7 +150,7 @@ def test_bids_filters_na_without_steps(raw):
 @pytest.mark.filterwarnings("ignore:No events found:RuntimeWarning")
 def test_write_bids_filters_updates_sidecar(raw, filtered, tmp_path):
     mne_bids = pytest.importorskip("mne_bids")
-    raw = raw.copy().pick(["Fz", "Cz", "Pz", "Oz", "EOG1", "STI 014"])
+    raw = raw.copy().pick(["Fz", "Cz", "Pz", "Oz", "EOG1", "Trigger"])
     raw.info["line_freq"] = 50.0
     path = mne_bids.BIDSPath(subject="01", task="tones", datatype="eeg", root=tmp_path)
     mne_bids.write_raw_bids(raw, path, format="BrainVision", allow_preload=True, verbose=False)

@@ -20,30 +20,62 @@ def _line(ax, label):
     return next(line for line in ax.get_lines() if line.get_label() == label)
 
 
-def test_gain_panels_show_realized_and_requested(design):
+def test_gain_panels_show_request_area_and_realized_line(design):
     fig = design.plot(show=False)
     ax_lin, ax_db = fig.axes[:2]
     realized = _line(ax_lin, "realized")
     f = realized.get_xdata()
     np.testing.assert_allclose(realized.get_ydata(), design.realized_gain(f))
-    np.testing.assert_allclose(_line(ax_lin, "requested").get_ydata(), design.requested_gain(f))
+    # the request is a filled area whose upper boundary is the requested gain
+    top = ax_lin.collections[0].get_paths()[0].vertices
+    upper = top[1 : f.size + 1]  # fill_between: start point, then the upper curve
+    np.testing.assert_allclose(upper[:, 0], f)
+    np.testing.assert_allclose(upper[:, 1], design.requested_gain(f))
     db = _line(ax_db, "realized").get_ydata()
     np.testing.assert_allclose(db, 20 * np.log10(np.maximum(design.realized_gain(f), 1e-12)))
     assert ax_lin.get_xscale() == "log"
     plt.close(fig)
 
 
-def test_time_panels_show_kernel_and_step(design):
+def test_deviation_panel_shows_realized_minus_requested(design):
     fig = design.plot(show=False)
-    ax_imp, ax_step = fig.axes[2:4]
+    ax_dev = fig.axes[2]
+    line = _line(ax_dev, "deviation")
+    f = line.get_xdata()
+    np.testing.assert_allclose(line.get_ydata(), design.realized_gain(f) - design.requested_gain(f))
+    fig.canvas.draw()
+    span = ax_dev.patches[0].get_window_extent().transformed(ax_dev.transData.inverted())
+    assert (span.y0, span.y1) == pytest.approx((-design.tolerance, design.tolerance), rel=1e-3)
+    worst = next(ln for ln in ax_dev.get_lines() if ln.get_label().startswith("largest"))
+    assert abs(worst.get_ydata()[0]) == pytest.approx(np.abs(line.get_ydata()).max())
+    plt.close(fig)
+
+
+def test_time_panels_show_whole_kernel_and_step(design):
+    fig = design.plot(show=False)
+    ax_imp, ax_env, ax_step = fig.axes[3:6]
     np.testing.assert_array_equal(ax_imp.get_lines()[0].get_ydata(), design.kernel)
     np.testing.assert_allclose(ax_step.get_lines()[0].get_ydata(), np.cumsum(design.kernel))
+    assert ax_imp.get_xlim() == (design.times[0], design.times[-1])  # the whole support
+    envelope = _line(ax_env, "envelope").get_ydata()
+    assert envelope.max() == 0.0 and np.all(np.diff(envelope[design.offset:]) <= 0)
     plt.close(fig)
+
+
+def test_energy_span_holds_99_percent():
+    # Parseval (NumPy only): energy is the sum of squared samples
+    from gainshape.viz import energy_span
+
+    f = gs.design(gs.bandpass(0.5, 30.0), 250.0)
+    start, stop = energy_span(f.times, f.kernel)
+    inside = (f.times >= start) & (f.times <= stop)
+    share = np.sum(f.kernel[inside] ** 2) / np.sum(f.kernel**2)
+    assert 0.99 <= share < 0.995
 
 
 def test_title_states_the_design(design):
     fig = design.plot(show=False)
-    assert fig._suptitle.get_text() == design.describe()
+    assert fig.get_suptitle() == design.describe()
     plt.close(fig)
 
 

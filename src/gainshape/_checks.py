@@ -25,16 +25,31 @@ def warn(message: str, stacklevel: int = 3) -> None:
 def check_option(name: str, value, allowed) -> str:
     """Return ``value`` if it is one of ``allowed``, else raise ValueError.
 
-    >>> check_option("phase", "zero", ("zero", "minimum"))
-    'zero'
+    >>> check_option("nan", "split", ("raise", "split"))
+    'split'
+    >>> check_option("nan", "skip", ("raise", "split"))
+    Traceback (most recent call last):
+    ...
+    ValueError: 'skip' is not a choice for 'nan': use one of 'raise', 'split'.
     """
     if not isinstance(value, str) or value not in allowed:
         listed = ", ".join(repr(a) for a in allowed)
-        raise ValueError(
-            f"Invalid value for the '{name}' parameter. Allowed values are "
-            f"{listed}, but got {value!r} instead."
-        )
+        raise ValueError(f"{value!r} is not a choice for '{name}': use one of {listed}.")
     return value
+
+
+def check_bool(name: str, value) -> bool:
+    """Return ``value`` if it is True or False (NumPy booleans too), else raise TypeError.
+
+    >>> check_bool("causal", True)
+    True
+    """
+    if not isinstance(value, (bool, np.bool_)):
+        raise TypeError(
+            f"The '{name}' parameter is a yes/no switch: pass True or False, not "
+            f"{type(value).__name__} ({value!r})."
+        )
+    return bool(value)
 
 
 def check_positive(name: str, value, *, below: float | None = None) -> float:

@@ -14,9 +14,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ._checks import check_option, warn
+from ._checks import check_bool, check_option, check_positive, warn
 from .curves import GainCurve
-from .design import FilterDesign, design
+from .design import FilterDesign, check_kernel_request, design
 from .engine import PAD_MODES, check_finite, fft_workers, filter_array
 from .provenance import fingerprint, history, make_step, store_step
 
@@ -24,6 +24,7 @@ __all__ = ["apply", "replay", "as_arrays", "Signals"]
 
 _BOUNDARY_PREFIXES = ("edge", "bad_acq_skip")
 _NEVER_FILTERED = ("stim",)
+_APPLY_DEFAULTS = {"causal": False, "kernel": "shortest", "tolerance": 0.001}
 _EPOCH_HINT = (
     "Filter the continuous recording before epoching, or use a gentler "
     "high-pass (a higher cutoff needs a shorter kernel)."
@@ -37,8 +38,8 @@ def apply(
     sfreq: float | None = None,
     picks=None,
     pad: str = "reflect",
-    phase: str = "zero",
-    length="auto",
+    causal: bool = False,
+    kernel="shortest",
     tolerance: float = 0.001,
     nan: str = "raise",
     n_jobs: int = 1,
@@ -54,7 +55,8 @@ def apply(
         Data to filter; arrays are filtered along their last axis.
     filt : GainCurve | FilterDesign
         What to apply. A curve is realized with :func:`gainshape.design`
-        using ``phase``, ``length`` and ``tolerance`` (ignored for a design).
+        using ``causal``, ``kernel`` and ``tolerance``; a ready design
+        carries its own (asking for others is an error).
     sfreq : float | None
         Sampling rate in Hz; required for arrays (unless ``filt`` is a
         design, whose rate is used), checked against ``info["sfreq"]``
@@ -77,7 +79,7 @@ def apply(
         filter in place and return ``inst`` itself. A Raw that is not loaded
         is never read whole: the result is a Raw that filters block by block
         as its data are read or saved (memory bounded by the block, not the
-        recording; ``pad`` must then be a local mode, ``length`` not None,
+        recording; ``pad`` must then be a local mode, ``kernel`` not "exact",
         ``copy`` True; its history step carries no fingerprints).
     return_step : bool
         Also return the step record (a dict). MNE objects keep it in their
@@ -109,10 +111,12 @@ def apply(
         )
     check_option("nan", nan, ("raise", "split"))
     check_option("pad", pad, PAD_MODES)
+    copy = check_bool("copy", copy)
+    options = _design_options(filt, causal, kernel, tolerance)
     fft_workers(n_jobs)  # checked before the design is made
     if isinstance(inst, np.ndarray):
-        out, step = _apply_array(inst, filt, sfreq, picks, pad, phase, length, tolerance,
-                                 nan, n_jobs, copy, verbose)
+        out, step = _apply_array(inst, filt, sfreq, picks, pad, options, nan, n_jobs, copy,
+                                 verbose)
         return (out, step) if return_step else out
     kind = _mne_kind(inst)
     _check_sfreq(inst, sfreq)
@@ -120,11 +124,11 @@ def apply(
     if kind == "raw" and not inst.preload:
         from .outofcore import check_request  # the layer for recordings not in memory
 
-        check_request(filt, length, pad, nan, copy)
-        filt = _realize(filt, inst.info["sfreq"], phase, length, tolerance)
+        check_request(filt, kernel, pad, nan, copy)
+        filt = _realize(filt, inst.info["sfreq"], options)
         out, step = _apply_lazy(inst, filt, idx, pad, nan, n_jobs)
     else:
-        filt = _realize(filt, inst.info["sfreq"], phase, length, tolerance)
+        filt = _realize(filt, inst.info["sfreq"], options)
         out, step = _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose)
     _update_info(out, idx, filt)
     store_step(out.info, step)
@@ -257,12 +261,11 @@ def as_arrays(inst, *, sfreq=None) -> Signals:
                    ids, inst.times)
 
 
-def _apply_array(data, filt, sfreq, picks, pad, phase, length, tolerance, nan,
-                 n_jobs, copy, verbose):
+def _apply_array(data, filt, sfreq, picks, pad, options, nan, n_jobs, copy, verbose):
     if sfreq is None and isinstance(filt, FilterDesign):
         sfreq = filt.sfreq
     _require_sfreq(sfreq)
-    filt = _realize(filt, sfreq, phase, length, tolerance)
+    filt = _realize(filt, sfreq, options)
     n_ch = data.shape[-2] if data.ndim >= 2 else 1
     channels = np.arange(n_ch) if picks is None else _array_picks(picks, n_ch)
     n_lead = int(np.prod(data.shape[:-2])) if data.ndim >= 2 else 1
@@ -280,7 +283,24 @@ def _apply_array(data, filt, sfreq, picks, pad, phase, length, tolerance, nan,
     return out, step
 
 
-def _realize(filt, sfreq, phase, length, tolerance) -> FilterDesign:
+def _design_options(filt, causal, kernel, tolerance) -> dict:
+    """The options for :func:`design`; for a ready design, a check that none
+    asks for something the design is not."""
+    options = {"causal": check_bool("causal", causal), "kernel": check_kernel_request(kernel),
+               "tolerance": check_positive("tolerance", tolerance, below=1.0)}
+    if isinstance(filt, FilterDesign):
+        own = {"causal": filt.causal, "kernel": filt.kernel_request, "tolerance": filt.tolerance}
+        for name, value in options.items():
+            if value != own[name] and value != _APPLY_DEFAULTS[name]:
+                raise ValueError(
+                    f"The 'filt' parameter is a ready design made with {name}={own[name]!r}, "
+                    f"so {name}={value!r} cannot apply to it; leave '{name}' out, or pass "
+                    f"the curve (filt.curve) to design it with {name}={value!r}."
+                )
+    return options
+
+
+def _realize(filt, sfreq, options) -> FilterDesign:
     if isinstance(filt, FilterDesign):
         if filt.sfreq != float(sfreq):
             raise ValueError(
@@ -288,7 +308,7 @@ def _realize(filt, sfreq, phase, length, tolerance) -> FilterDesign:
                 f"sampled at {float(sfreq):g} Hz; design the curve again at this rate."
             )
         return filt
-    return design(filt, sfreq, phase=phase, length=length, tolerance=tolerance)
+    return design(filt, sfreq, **options)
 
 
 def _mne_kind(inst) -> str:
@@ -467,7 +487,7 @@ def replay(steps, inst, *, n_jobs: int = 1, verbose=None):
         picks = a.get("rows") if is_array else step["channels"]
         out, new = apply(
             out, curve, sfreq=d["sfreq"] if is_array else None, picks=picks, pad=a["pad"],
-            phase=d["phase"], length=d["length"], tolerance=d["tolerance"], nan=a["nan"],
+            causal=d["causal"], kernel=d["kernel"], tolerance=d["tolerance"], nan=a["nan"],
             n_jobs=n_jobs, copy=True, return_step=True, verbose=verbose,
         )
         for key, what in (("fingerprint_before", "input"), ("fingerprint_after", "result")):

@@ -16,7 +16,7 @@ from pathlib import Path
 
 import numpy as np
 
-__all__ = ["simulate_workshop_recording", "main"]
+__all__ = ["simulate_workshop_recording", "main", "TONE_CHANNEL"]
 
 _CHANNELS = [
     "Fp1", "Fp2", "F7", "F3", "Fz", "F4", "F8", "FC5", "FC1", "FC2", "FC6",
@@ -24,6 +24,7 @@ _CHANNELS = [
     "P4", "P8", "PO9", "O1", "Oz", "O2", "PO10", "TP9", "TP10",
 ]
 _TONE_ID = 1
+TONE_CHANNEL = "Tones"  # the stim channel marking tone onsets (code 1)
 
 
 def simulate_workshop_recording(seconds: float = 180.0, sfreq: float = 500.0, seed: int = 7):
@@ -43,7 +44,7 @@ def simulate_workshop_recording(seconds: float = 180.0, sfreq: float = 500.0, se
     rng = np.random.default_rng(seed)
     n = int(seconds * sfreq)
     t = np.arange(n) / sfreq
-    info = mne.create_info(_CHANNELS + ["EOG1", "STI 014"], sfreq,
+    info = mne.create_info(_CHANNELS + ["EOG1", TONE_CHANNEL], sfreq,
                            ["eeg"] * len(_CHANNELS) + ["eog", "stim"])
     builtin = mne.channels.get_builtin_montages()
     info.set_montage("colin27_1020" if "colin27_1020" in builtin else "standard_1020")
@@ -165,7 +166,7 @@ def main(argv=None) -> int:
     freqs, before, after = _mean_spectra(raw, filtered)
     plot_spectrum_pair(freqs, before, after, show=False).savefig(
         out / "spectra_before_after.png", dpi=110)
-    events = mne.find_events(raw, stim_channel="STI 014")
+    events = mne.find_events(raw, stim_channel=TONE_CHANNEL)
     evokeds = [
         mne.Epochs(r, events, tmin=-0.2, tmax=0.8, baseline=(-0.2, 0.0), picks="eeg").average()
         for r in (raw, filtered)

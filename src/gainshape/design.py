@@ -18,7 +18,7 @@ import numpy as np
 import scipy.fft as sfft
 from scipy.optimize import brentq, minimize_scalar
 
-from ._checks import check_option, check_positive, warn
+from ._checks import check_bool, check_positive, warn
 from .curves import GainCurve
 
 __all__ = ["design", "FilterDesign", "Characteristics", "EdgeFrequency"]
@@ -27,6 +27,7 @@ _HALF_POWER = 1.0 / np.sqrt(2.0)
 _TAPER_FRACTION = 0.125  # outer eighth of each side of the kernel is tapered
 _MIN_DENSE = 2**14
 _MAX_DENSE = 2**22
+KERNEL_WORDS = ("shortest", "exact")  # the words design's ``kernel`` accepts besides seconds
 _RINGING_LEVEL = 0.01  # ringing lasts while |h| exceeds 1% (-40 dB) of its peak
 
 
@@ -138,15 +139,24 @@ class FilterDesign:
 
     curve: GainCurve
     sfreq: float
-    phase: str
-    length_request: object
+    causal: bool
+    kernel_request: object
     tolerance: float
     kernel: np.ndarray
     offset: int
-    exact: bool
     characteristics: Characteristics
     notes: tuple = ()
     _spectra: dict = field(default_factory=dict, repr=False, compare=False)
+
+    @property
+    def exact(self) -> bool:
+        """True when the request is applied on each record's own grid (``kernel="exact"``)."""
+        return self.kernel_request == "exact"
+
+    @property
+    def phase_words(self) -> str:
+        """The phase response in words, e.g. "zero-phase (symmetric kernel, no delay)"."""
+        return phase_words(self.causal, self.characteristics.group_delay)
 
     @property
     def times(self) -> np.ndarray:
@@ -165,7 +175,7 @@ class FilterDesign:
     def realized_gain(self, freqs) -> np.ndarray:
         """Magnitude of the response that runs, at ``freqs`` (Hz).
 
-        With ``length=None`` the request is applied on each record's own
+        With ``kernel="exact"`` the request is applied on each record's own
         frequency grid, so the realized gain is the request.
 
         Examples
@@ -196,14 +206,14 @@ class FilterDesign:
     def _compute_spectrum(self, n_fft: int) -> np.ndarray:
         if self.exact:
             gain = _validated_gain(self.curve, sfft.rfftfreq(n_fft, 1.0 / self.sfreq))
-            if self.phase == "zero":
+            if not self.causal:
                 return gain
             return _minimum_phase_spectrum(self.curve, gain, n_fft, self.sfreq, self.tolerance)
-        return _kernel_spectrum(self.kernel, self.offset, n_fft, self.phase)
+        return _kernel_spectrum(self.kernel, self.offset, n_fft, self.causal)
 
     def _response(self, freqs: np.ndarray) -> np.ndarray:
         """Complex DTFT of the kernel at ``freqs`` (real for zero phase)."""
-        return _dtft(self.kernel, self.offset, self.sfreq, freqs, self.phase)
+        return _dtft(self.kernel, self.offset, self.sfreq, freqs, self.causal)
 
     def plot(self, *, fmin=None, show=True):
         """Requested and realized gain (linear and dB), impulse and step response.
@@ -217,7 +227,7 @@ class FilterDesign:
         return plot_design(self, fmin=fmin, show=show)
 
     def describe(self) -> str:
-        """One line: the kind, cutoffs, roll-off, phase and length."""
+        """One line: the kind, cutoffs, roll-off, phase response and length."""
         c = self.characteristics
         passband, stops = self._edge_groups()
         parts = [c.kind]
@@ -230,7 +240,8 @@ class FilterDesign:
                          + " Hz")
         if not c.half_amplitude:
             parts.append("no half-amplitude point")
-        return "; ".join(parts + [f"{self.phase} phase", f"{c.length:.3g} s at {self.sfreq:g} Hz"])
+        kind = "minimum-phase" if self.causal else "zero-phase"
+        return "; ".join(parts + [kind, f"{c.length:.3g} s at {self.sfreq:g} Hz"])
 
     def _edge_groups(self):
         c = self.characteristics
@@ -253,10 +264,10 @@ class FilterDesign:
 
         if self.exact:
             truncation = "none: the request is applied on each record's own grid"
-        elif self.length_request == "auto":
+        elif self.kernel_request == "shortest":
             truncation = "shortest kernel within tolerance"
         else:
-            truncation = f"fixed at {self.length_request:g} s by request"
+            truncation = f"fixed at {self.kernel_request:g} s by request"
         passband, stops = self._edge_groups()
         slopes = ", ".join(f"{r:.1f} dB/octave ({name} edge)" for name, _, _, r in passband)
         stop_rows = [("stop bands (-6 dB)", ", ".join(
@@ -271,7 +282,7 @@ class FilterDesign:
             ("stopband attenuation", f"{c.stopband_attenuation_db:.1f} dB"),
             ("largest gain deviation", f"{c.max_deviation:.2g} (tolerance {self.tolerance:g})"),
             ("ringing (to -40 dB)", f"{c.ringing * 1000:.0f} ms"),
-            ("phase", f"{self.phase} (group delay {c.group_delay * 1000:.3g} ms)"),
+            ("phase response", self.phase_words),
             ("kernel length", f"{c.length:.4g} s ({self.kernel.size} samples)"),
             ("truncation", truncation),
             ("sampling rate", f"{self.sfreq:g} Hz"),
@@ -296,8 +307,8 @@ def design(
     curve: GainCurve,
     sfreq: float,
     *,
-    phase: str = "zero",
-    length="auto",
+    causal: bool = False,
+    kernel="shortest",
     tolerance: float = 0.001,
 ) -> FilterDesign:
     """Realize ``curve`` at ``sfreq`` as a finite kernel and characterize it.
@@ -308,16 +319,18 @@ def design(
         The requested gain.
     sfreq : float
         Sampling rate in Hz.
-    phase : {"zero", "minimum"}
-        "zero": a real, symmetric (non-causal) kernel with no delay.
-        "minimum": a causal kernel with the same magnitude (cepstral method)
-        and the smallest possible delay; its group delay is reported.
-    length : "auto" | float | None
-        "auto": the shortest kernel (to 1 % in length) whose realized gain
-        is within ``tolerance`` of the request. A number: the kernel length in seconds
-        (honoured; a warning says if it misses the tolerance). None: no
-        truncation; the request is applied exactly on each record's own
-        frequency grid, padded by the decay of the ideal impulse response.
+    causal : bool
+        False: a real, symmetric kernel centred on t = 0 (zero-phase, no
+        delay). True: a kernel that is zero before t = 0, with the same
+        magnitude (cepstral method) and the smallest possible delay
+        (minimum-phase); its group delay is reported.
+    kernel : "shortest" | float | "exact"
+        "shortest": the shortest kernel (to 1 % in length) whose realized
+        gain is within ``tolerance`` of the request. A number: the kernel
+        length in seconds (honoured; a warning says if it misses the
+        tolerance). "exact": no truncation; the request is applied exactly
+        on each record's own frequency grid, padded by the decay of the
+        ideal impulse response.
     tolerance : float
         Largest accepted absolute gain difference (0.001 is -60 dB in the
         stopband and 0.1 % in the passband).
@@ -339,52 +352,75 @@ def design(
             f"GainCurve.from_points), but got {type(curve).__name__} instead."
         )
     sfreq = check_positive("sfreq", sfreq)
-    phase = check_option("phase", phase, ("zero", "minimum"))
+    causal = check_bool("causal", causal)
     tolerance = check_positive("tolerance", tolerance, below=1.0)
-    exact = length is None
-    if not exact and length != "auto":
-        if isinstance(length, str):
-            raise ValueError(
-                "The 'length' parameter must be 'auto', None or a kernel length in "
-                f"seconds (a number), but got {length!r}."
-            )
-        length = check_positive("length", length)
+    kernel_request = check_kernel_request(kernel)
+    exact = kernel_request == "exact"
     curve, notes = curve.below_nyquist(sfreq / 2.0)
 
-    n_taps = None if length == "auto" or exact else _requested_taps(length, sfreq)
-    realizer = _Realizer(curve, sfreq, phase, tolerance, min_n=2 * (n_taps or 0))
+    fixed = not isinstance(kernel_request, str)
+    n_taps = _requested_taps(kernel_request, sfreq) if fixed else None
+    realizer = _Realizer(curve, sfreq, causal, tolerance, min_n=2 * (n_taps or 0))
     if n_taps is None:
-        kernel, offset = realizer.shortest()
+        taps, offset = realizer.shortest()
     else:
-        kernel, offset = realizer.of_length(n_taps)
-    chars = _characterize(curve, kernel, offset, sfreq, phase, tolerance, exact)
-    while length == "auto" and chars.max_deviation > tolerance and kernel.size < realizer.n // 2:
+        taps, offset = realizer.of_length(n_taps)
+    chars = _characterize(curve, taps, offset, sfreq, causal, tolerance, exact)
+    while not fixed and chars.max_deviation > tolerance and taps.size < realizer.n // 2:
         # the search grid missed a peak the finer check found: lengthen a little
-        kernel, offset = realizer.of_length(int(kernel.size * 1.05) + 2)
-        chars = _characterize(curve, kernel, offset, sfreq, phase, tolerance, exact)
-    kernel.setflags(write=False)
-    if not exact and length != "auto" and chars.max_deviation > tolerance:
+        taps, offset = realizer.of_length(int(taps.size * 1.05) + 2)
+        chars = _characterize(curve, taps, offset, sfreq, causal, tolerance, exact)
+    taps.setflags(write=False)
+    if fixed and chars.max_deviation > tolerance:
         try:
-            fix = f"use length='auto' ({realizer.shortest()[0].size / sfreq:.3g} s) to meet it."
+            fix = (f"use kernel='shortest' ({realizer.shortest()[0].size / sfreq:.3g} s) "
+                   "to meet it.")
         except ValueError:
             fix = "no kernel length meets it: the request has a jump or a kink."
         warn(
-            f"A kernel of {kernel.size / sfreq:.3g} s realizes the request only to "
+            f"A kernel of {taps.size / sfreq:.3g} s realizes the request only to "
             f"within {chars.max_deviation:.3g} (tolerance {tolerance:g}); {fix}"
         )
-    return FilterDesign(
-        curve, sfreq, phase, length, tolerance, kernel, offset, exact, chars, notes
-    )
+    return FilterDesign(curve, sfreq, causal, kernel_request, tolerance, taps, offset, chars, notes)
+
+
+def check_kernel_request(kernel):
+    """The ``kernel`` option of :func:`design` checked: "shortest", "exact" or seconds > 0.
+
+    >>> check_kernel_request("exact"), check_kernel_request(2)
+    ('exact', 2.0)
+    """
+    if isinstance(kernel, str) and kernel in KERNEL_WORDS:
+        return kernel
+    if kernel is None or isinstance(kernel, str):
+        raise ValueError(
+            f"{kernel!r} is not a choice for 'kernel': use 'shortest' (the shortest "
+            "kernel within tolerance), 'exact' (no truncation) or a length in seconds."
+        )
+    return check_positive("kernel", kernel)
+
+
+def phase_words(causal: bool, group_delay: float) -> str:
+    """The phase response in the words of the methods text and the tables.
+
+    >>> phase_words(False, 0.0)
+    'zero-phase (symmetric kernel, no delay)'
+    >>> phase_words(True, 0.0123)
+    'minimum-phase (causal kernel, delay 12.3 ms)'
+    """
+    if not causal:
+        return "zero-phase (symmetric kernel, no delay)"
+    return f"minimum-phase (causal kernel, delay {1000 * group_delay:.3g} ms)"
 
 
 # -- kernel realization -------------------------------------------------------
-def _requested_taps(length: float, sfreq: float) -> int:
+def _requested_taps(seconds: float, sfreq: float) -> int:
     """Kernel samples for a length in seconds, within what the design grid holds."""
-    n_taps = max(1, int(round(length * sfreq)))
+    n_taps = max(1, int(round(seconds * sfreq)))
     if n_taps > _MAX_DENSE // 2:
         raise ValueError(
-            f"The 'length' parameter must be at most {_MAX_DENSE // 2 / sfreq:.6g} s at "
-            f"{sfreq:g} Hz, but got {length:g} s; use length='auto' for the shortest "
+            f"The 'kernel' parameter must be at most {_MAX_DENSE // 2 / sfreq:.6g} s at "
+            f"{sfreq:g} Hz, but got {seconds:g} s; use kernel='shortest' for the shortest "
             "kernel within tolerance."
         )
     return n_taps
@@ -393,8 +429,8 @@ def _requested_taps(length: float, sfreq: float) -> int:
 class _Realizer:
     """Ideal response on a dense grid (at least ``min_n`` points), and truncations of it."""
 
-    def __init__(self, curve, sfreq, phase, tolerance, min_n=0):
-        self.sfreq, self.phase, self.tol = sfreq, phase, tolerance
+    def __init__(self, curve, sfreq, causal, tolerance, min_n=0):
+        self.sfreq, self.causal, self.tol = sfreq, causal, tolerance
         n = max(_MIN_DENSE, 1 << int(np.ceil(np.log2(max(min_n, 1)))))
         while True:  # grid fine enough for the zero-phase response to decay
             gain = _validated_gain(curve, sfft.rfftfreq(n, 1.0 / sfreq))
@@ -402,7 +438,7 @@ class _Realizer:
             if np.abs(ideal[n // 4 : 3 * n // 4]).sum() < tolerance / 4 or n >= _MAX_DENSE:
                 break
             n *= 2
-        if phase == "minimum":  # room for the longer causal response
+        if causal:  # room for the longer causal response
             n = min(4 * n, _MAX_DENSE)
             gain = _validated_gain(curve, sfft.rfftfreq(n, 1.0 / sfreq))
             ideal = sfft.irfft(_minimum_phase_spectrum(curve, gain, n, sfreq, tolerance), n)
@@ -411,7 +447,7 @@ class _Realizer:
     def of_length(self, n_taps: int):
         """Tapered truncation to about ``n_taps`` samples; returns kernel, offset."""
         n_taps = max(1, min(n_taps, self.n - 1))
-        if self.phase == "zero":
+        if not self.causal:
             half = n_taps // 2
             w = _taper(2 * half + 1)
             kernel = np.concatenate([self.ideal[-half:] if half else [], self.ideal[: half + 1]])
@@ -421,8 +457,8 @@ class _Realizer:
         return self.ideal[:n_taps] * w, 0
 
     def deviation(self, kernel, offset) -> float:
-        spec = _kernel_spectrum(kernel, offset, self.n, self.phase)
-        return float(np.max(np.abs(np.abs(spec) - self.gain) if self.phase == "minimum"
+        spec = _kernel_spectrum(kernel, offset, self.n, self.causal)
+        return float(np.max(np.abs(np.abs(spec) - self.gain) if self.causal
                             else np.abs(spec - self.gain)))
 
     def shortest(self):
@@ -443,8 +479,8 @@ class _Realizer:
                     f"{self.tol:g} by any kernel up to {self.n / 2 / self.sfreq:.4g} s "
                     f"at {self.sfreq:g} Hz (best: {best:.3g}): it has a jump, a kink "
                     "or an extremely steep or narrow feature. Use a gentler "
-                    "roll-off, a wider notch, a larger 'tolerance', or an explicit "
-                    "'length'."
+                    "roll-off, a wider notch, a larger 'tolerance', or a kernel "
+                    "length in seconds."
                 )
             hi = min(2 * hi, self.n // 2)
         lo = max(2, hi // 4)
@@ -459,9 +495,9 @@ class _Realizer:
         """Taps beyond which the ideal response's L1 tail is below tolerance."""
         half = self.n // 2
         mag = np.abs(self.ideal[: half + 1])
-        tail = np.cumsum(mag[::-1])[::-1] * (2 if self.phase == "zero" else 1)
+        tail = np.cumsum(mag[::-1])[::-1] * (1 if self.causal else 2)
         k = int(np.argmax(tail <= self.tol)) if (tail <= self.tol).any() else half
-        return max(8, 2 * k + 1 if self.phase == "zero" else k)
+        return max(8, k if self.causal else 2 * k + 1)
 
 
 def _taper(n: int) -> np.ndarray:
@@ -511,17 +547,17 @@ def _minimum_phase_spectrum(curve, gain, n: int, sfreq: float, tolerance: float)
     return np.exp(sfft.rfft(cep))
 
 
-def _kernel_spectrum(kernel, offset, n_fft, phase) -> np.ndarray:
+def _kernel_spectrum(kernel, offset, n_fft, causal) -> np.ndarray:
     """Response of ``kernel`` (t = 0 at ``offset``) on an rfft grid of n_fft."""
     buf = np.zeros(n_fft)
     buf[: kernel.size - offset] = kernel[offset:]  # t >= 0 at the start,
     if offset:
         buf[n_fft - offset :] = kernel[:offset]  # t < 0 wrapped to the end
     spec = sfft.rfft(buf)
-    return np.ascontiguousarray(spec.real) if phase == "zero" else spec
+    return spec if causal else np.ascontiguousarray(spec.real)
 
 
-def _dtft(kernel, offset, sfreq, freqs, phase, chunk_elems=2**22) -> np.ndarray:
+def _dtft(kernel, offset, sfreq, freqs, causal, chunk_elems=2**22) -> np.ndarray:
     """Exact response of the kernel at arbitrary frequencies (chunked).
 
     Real for zero phase (the symmetric kernel's sine terms cancel).
@@ -529,18 +565,18 @@ def _dtft(kernel, offset, sfreq, freqs, phase, chunk_elems=2**22) -> np.ndarray:
     shape = np.shape(freqs)
     f = np.atleast_1d(np.asarray(freqs, dtype=float)).ravel()
     k = np.arange(kernel.size) - offset
-    out = np.empty(f.size, dtype=float if phase == "zero" else complex)
+    out = np.empty(f.size, dtype=complex if causal else float)
     step = max(1, chunk_elems // max(kernel.size, 1))
     for i in range(0, f.size, step):
         w = np.outer(2 * np.pi * f[i : i + step] / sfreq, k)
         out[i : i + step] = np.cos(w) @ kernel
-        if phase != "zero":
+        if causal:
             out[i : i + step] -= 1j * (np.sin(w) @ kernel)
     return out.reshape(shape)
 
 
 # -- characterization -----------------------------------------------------------
-def _characterize(curve, kernel, offset, sfreq, phase, tol, exact) -> Characteristics:
+def _characterize(curve, kernel, offset, sfreq, causal, tol, exact) -> Characteristics:
     """Characteristics from the realized gain on an FFT grid at least 8 times
     denser than the kernel (exact values there), with crossings and the
     largest deviations refined on the exact response."""
@@ -552,18 +588,18 @@ def _characterize(curve, kernel, offset, sfreq, phase, tol, exact) -> Characteri
         point_fn, signed = curve, requested
     else:
         def point_fn(f):
-            return np.abs(_dtft(kernel, offset, sfreq, np.asarray(f, float), phase))
+            return np.abs(_dtft(kernel, offset, sfreq, np.asarray(f, float), causal))
 
-        spec = _kernel_spectrum(kernel, offset, n_fft, phase)
-        signed = spec if phase == "zero" else np.abs(spec)
+        spec = _kernel_spectrum(kernel, offset, n_fft, causal)
+        signed = np.abs(spec) if causal else spec
     # the lowest 64 grid steps hold too few points for slopes: add 32 exact
     # points per step there (zoom FFT)
     low = np.linspace(0.0, freqs[64], 2048)[1:]
-    low_signed = curve(low) if exact else _zoom_response(kernel, offset, sfreq, freqs[64], phase)
+    low_signed = curve(low) if exact else _zoom_response(kernel, offset, sfreq, freqs[64], causal)
     order = np.argsort(np.concatenate([freqs, low]), kind="stable")
     freqs = np.concatenate([freqs, low])[order]
     requested = np.concatenate([requested, curve(low)])[order]
-    signed = np.concatenate([signed, low_signed if phase == "zero" else np.abs(low_signed)])[order]
+    signed = np.concatenate([signed, np.abs(low_signed) if causal else low_signed])[order]
     realized = np.abs(signed)
 
     def grid_fn(f):
@@ -593,19 +629,19 @@ def _characterize(curve, kernel, offset, sfreq, phase, tol, exact) -> Characteri
         stopband_attenuation_db=atten,
         max_deviation=_max_deviation(freqs, signed, requested, curve, None if exact else point_fn),
         ringing=_ringing(kernel, sfreq),
-        group_delay=_group_delay(kernel, offset, sfreq, phase, n_fft),
+        group_delay=_group_delay(kernel, offset, sfreq, causal, n_fft),
         length=kernel.size / sfreq,
     )
 
 
-def _zoom_response(kernel, offset, sfreq, fmax, phase, m=2048) -> np.ndarray:
+def _zoom_response(kernel, offset, sfreq, fmax, causal, m=2048) -> np.ndarray:
     """Exact response at ``m - 1`` points evenly spaced in (0, fmax] (zoom FFT)."""
     from scipy.signal import ZoomFFT
 
     freqs = np.linspace(0.0, fmax, m)
     spec = ZoomFFT(kernel.size, [0.0, fmax], m=m, fs=sfreq, endpoint=True)(kernel)
     spec = spec * np.exp(2j * np.pi * freqs * offset / sfreq)  # t = 0 at the offset
-    return (spec.real if phase == "zero" else spec)[1:]
+    return (spec if causal else spec.real)[1:]
 
 
 def _max_deviation(freqs, realized, requested, curve, point_fn, n_peaks=3) -> float:
@@ -775,8 +811,8 @@ def _ringing(kernel, sfreq) -> float:
     return float((loud[-1] - peak) / sfreq)
 
 
-def _group_delay(kernel, offset, sfreq, phase, n_fft) -> float:
-    if phase == "zero":
+def _group_delay(kernel, offset, sfreq, causal, n_fft) -> float:
+    if not causal:
         return 0.0
     t = (np.arange(kernel.size) - offset).astype(float)
     h = sfft.rfft(kernel, n_fft)

@@ -20,12 +20,12 @@ __all__ = ["check_request", "filtered_raw"]
 _ROWS_PER_FFT = 8  # rows transformed together: small buffers, whole SIMD groups
 
 
-def check_request(filt, length, pad, nan, copy):
+def check_request(filt, kernel, pad, nan, copy):
     """What a Raw that is not loaded cannot do, said before any work."""
-    exact = filt.exact if isinstance(filt, FilterDesign) else length is None
+    exact = filt.exact if isinstance(filt, FilterDesign) else kernel == "exact"
     problems = [
-        (exact, "the 'length' parameter is None, which applies the gain on the whole "
-                "record's grid and needs the record in memory; use length='auto'"),
+        (exact, "kernel='exact' applies the gain on the whole record's grid and needs "
+                "the record in memory; use kernel='shortest' or a length in seconds"),
         (pad not in LOCAL_PAD_MODES, f"the 'pad' parameter must be one of "
                                      f"{', '.join(repr(m) for m in LOCAL_PAD_MODES)}, "
                                      f"but got {pad!r}"),

@@ -20,7 +20,7 @@ import numpy as np
 import xxhash
 
 from ._checks import warn
-from .design import edge_groups
+from .design import edge_groups, phase_words
 
 __all__ = [
     "History",
@@ -55,7 +55,7 @@ class History(list):
     def _repr_html_(self):
         head = "".join(f"<th>{h}</th>" for h in
                        ("#", "time (UTC)", "filter", "cutoffs, -6 dB (Hz)", "roll-off (dB/oct)",
-                        "stop bands, -6 dB (Hz)", "phase", "channels"))
+                        "stop bands, -6 dB (Hz)", "kernel", "channels"))
         rows = []
         for i, step in enumerate(self):
             r = step.get("realized", {})
@@ -68,7 +68,7 @@ class History(list):
                 ", ".join(f"{hz:.3g}" for _, hz, _, _ in passband),
                 ", ".join(f"{slope:.1f}" for _, _, _, slope in passband if slope is not None),
                 ", ".join(f"{lo:.3g}-{hi:.3g}" for lo, hi in stops),
-                step.get("design", {}).get("phase", "?"),
+                _kernel_words(step),
                 f"{len(chans)} ({', '.join(chans[:3])}{', ...' if len(chans) > 3 else ''})",
             )
             rows.append("<tr>" + "".join(f"<td>{html.escape(c)}</td>" for c in cells) + "</tr>")
@@ -106,8 +106,8 @@ def make_step(design, *, channels, pad, nan, segments, dtype, before, after) -> 
         "curve": curve_record,
         "design": {
             "sfreq": design.sfreq,
-            "phase": design.phase,
-            "length": design.length_request,
+            "causal": design.causal,
+            "kernel": design.kernel_request,
             "tolerance": design.tolerance,
             "kernel_samples": int(design.kernel.size),
             "notes": list(design.notes),
@@ -238,7 +238,7 @@ def bids_filters(inst) -> dict | str:
             **edges,
             "passband ripple (dB)": _round_sig(r.get("passband_ripple_db"), 3),
             "stopband attenuation (dB)": _round_sig(r.get("stopband_attenuation_db"), 3),
-            "phase": d.get("phase", "n/a"),
+            "phase response": _phase_words(step),
             "group delay (s)": _round_sig(r.get("group_delay"), 3),
             "kernel length (s)": _round_sig(r.get("length"), 4),
             "sampling frequency (Hz)": d.get("sfreq", "n/a"),
@@ -283,14 +283,12 @@ def _one_line(step) -> str:
     cut = ", ".join([f"{hz:.3g}" for _, hz, _, _ in passband]
                     + [f"{lo:.3g}-{hi:.3g}" for lo, hi in stops])
     return (f"{step.get('time', '?')} {r.get('kind', '?')} ({cut} Hz), "
-            f"{step.get('design', {}).get('phase', '?')} phase, "
+            f"{_kernel_words(step)}, "
             f"{len(step.get('channels', []))} channels")
 
 
 def _step_sentences(step) -> str:
     r, d, a = step.get("realized", {}), step.get("design", {}), step.get("application", {})
-    phase = d.get("phase", "zero")
-    family = "zero-phase (non-causal)" if phase == "zero" else "minimum-phase (causal)"
     channels = step.get("channels", [])
     curve = step.get("curve", {})
     request = (
@@ -298,7 +296,8 @@ def _step_sentences(step) -> str:
         else f"requested as the gain curve '{_curve_words(curve.get('curve', {}))}'"
     )
     text = [
-        f"A {family} {r.get('kind', 'custom-shape')} FIR filter, {request}, was applied to "
+        f"A {r.get('kind', 'custom-shape')} FIR filter, {_phase_words(step)}, {request}, "
+        "was applied to "
         f"{len(channels)} channel{'s' if len(channels) != 1 else ''} by multiplying the "
         "Fourier transform of the padded data by the filter's frequency response.",
         _edge_sentence(r),
@@ -311,16 +310,25 @@ def _step_sentences(step) -> str:
     length = (
         "The filter was applied exactly on each record's frequency grid (no kernel "
         f"truncation; impulse response support {r.get('length', 0):.3g} s)"
-        if d.get("length", "auto") is None else
+        if d.get("kernel") == "exact" else
         f"The kernel was {r.get('length', 0):.3g} s long ({d.get('kernel_samples', 0)} "
         f"samples at {d.get('sfreq', float('nan')):g} Hz)"
     )
-    delay = ("introduced no delay" if phase == "zero" else
-             f"delayed the passband by {1000 * r.get('group_delay', 0):.3g} ms on average")
-    text.append(f"{length} and {delay}.")
+    text.append(f"{length}.")
     text.append(f"Each continuous segment was padded at both ends ({a.get('pad', 'reflect')} "
                 "mode of numpy.pad) by at least the kernel's half-length.")
     return " ".join(text)
+
+
+def _phase_words(step) -> str:
+    """The step's phase response in words (see :func:`gainshape.design.phase_words`)."""
+    return phase_words(bool(step.get("design", {}).get("causal")),
+                       step.get("realized", {}).get("group_delay", 0.0))
+
+
+def _kernel_words(step) -> str:
+    """Short label of the kernel for tables: zero-phase or minimum-phase."""
+    return "minimum-phase" if step.get("design", {}).get("causal") else "zero-phase"
 
 
 def _edge_groups(r):

@@ -1,8 +1,7 @@
 """Bad input: a clear error naming the parameter, raised before any work, input unchanged.
 
-Reference for the message shape: MNE's _check_option/_validate_type
-convention ("Invalid value for the 'pad' parameter. Allowed values are ...");
-the rules themselves are common practice (no source).
+The rules (name the parameter, show the value, say what is accepted, before
+any work, input untouched) are common practice (no source).
 """
 
 import copy
@@ -78,12 +77,14 @@ CASES = [
      lambda a: GainCurve(5), TypeError, "'func'"),
     ("cutoff at Nyquist", lambda mk: None,
      lambda a: gs.design(gs.lowpass(125.0), 250.0), ValueError, "Nyquist"),
-    ("unknown phase", lambda mk: None,
-     lambda a: gs.design(gs.lowpass(30.0), 250.0, phase="linear"), ValueError, "'phase'"),
+    ("causal not a switch", lambda mk: None,
+     lambda a: gs.design(gs.lowpass(30.0), 250.0, causal="minimum"), TypeError, "'causal'"),
+    ("kernel None", lambda mk: None,
+     lambda a: gs.design(gs.lowpass(30.0), 250.0, kernel=None), ValueError, "'exact'"),
     ("tolerance of 1", lambda mk: None,
      lambda a: gs.design(gs.lowpass(30.0), 250.0, tolerance=1.0), ValueError, "'tolerance'"),
     ("unknown length word", lambda mk: None,
-     lambda a: gs.design(gs.lowpass(30.0), 250.0, length="long"), ValueError, "'length'"),
+     lambda a: gs.design(gs.lowpass(30.0), 250.0, kernel="long"), ValueError, "'kernel'"),
     ("curve returns negative gain", lambda mk: None,
      lambda a: gs.design(GainCurve(lambda f: -np.ones_like(f)), 250.0), ValueError, "finite and >= 0"),
     ("nan in array", lambda mk: _nan_array(),
@@ -95,7 +96,7 @@ CASES = [
     ("unknown nan mode", lambda mk: _array(),
      lambda a: gs.apply(a, gs.lowpass(30.0), sfreq=250.0, nan="drop"), ValueError, "'nan'"),
     ("stim channel picked", lambda mk: mk(),
-     lambda a: gs.apply(a, gs.lowpass(30.0), picks=["Fz", "STI 014"]), ValueError, "stim"),
+     lambda a: gs.apply(a, gs.lowpass(30.0), picks=["Fz", "Trigger"]), ValueError, "stim"),
     ("unknown channel name", lambda mk: mk(),
      lambda a: gs.apply(a, gs.lowpass(30.0), picks=["Fz", "Fzz"]), ValueError, r"'picks'.*Fzz"),
     ("array row out of range", lambda mk: _array(),
@@ -122,7 +123,7 @@ CASES = [
     ("file not loaded, nan split", _lazy_raw,
      lambda a: gs.apply(a, gs.lowpass(30.0), nan="split"), ValueError, r"'nan'.*'split'"),
     ("file not loaded, exact length", _lazy_raw,
-     lambda a: gs.apply(a, gs.lowpass(30.0), length=None), ValueError, r"'length'.*in memory"),
+     lambda a: gs.apply(a, gs.lowpass(30.0), kernel="exact"), ValueError, r"kernel='exact'.*in memory"),
     ("file not loaded, n_jobs zero", _lazy_raw,
      lambda a: gs.apply(a, gs.lowpass(30.0), n_jobs=0), ValueError, "'n_jobs'"),
     ("n_jobs zero", lambda mk: _array(),

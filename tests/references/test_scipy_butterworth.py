@@ -31,17 +31,17 @@ def relative_rms(a, b):
 
 
 @pytest.mark.parametrize(("order", "btype", "cutoff"), CASES, ids=[f"{b}{o}-{c:g}Hz" for o, b, c in CASES])
-def test_exact_length_matches_sosfiltfilt(order, btype, cutoff):
+def test_exact_kernel_matches_sosfiltfilt(order, btype, cutoff):
     x = np.random.default_rng(order).standard_normal((2, int(120 * SFREQ)))
     sos, curve = squared_butterworth(order, btype, cutoff)
     expected = ss.sosfiltfilt(sos, x)
-    got = gs.apply(x, curve, sfreq=SFREQ, length=None)
+    got = gs.apply(x, curve, sfreq=SFREQ, kernel="exact")
     middle = slice(int(30 * SFREQ), int(90 * SFREQ))
     assert relative_rms(got[:, middle], expected[:, middle]) < 1e-6
 
 
 @pytest.mark.parametrize(("order", "btype", "cutoff"), CASES, ids=[f"{b}{o}-{c:g}Hz" for o, b, c in CASES])
-def test_auto_length_close_to_sosfiltfilt(order, btype, cutoff):
+def test_shortest_kernel_close_to_sosfiltfilt(order, btype, cutoff):
     x = np.random.default_rng(order).standard_normal((2, int(120 * SFREQ)))
     sos, curve = squared_butterworth(order, btype, cutoff)
     expected = ss.sosfiltfilt(sos, x)
