@@ -136,3 +136,56 @@ def test_nan_split_on_raw(raw):
 def test_design_reused(raw):
     design = gs.design(CURVE, raw.info["sfreq"])
     np.testing.assert_array_equal(gs.apply(raw, design).get_data(), gs.apply(raw, CURVE).get_data())
+
+
+def test_concurrent_copies_of_one_object_are_safe_and_equal(raw):
+    # common practice (no source): copy=True never touches the caller's object
+    import threading
+
+    epochs = mne.Epochs(raw, mne.make_fixed_length_events(raw, duration=2.0), tmin=0.0,
+                        tmax=1.5, baseline=None, preload=True, verbose=False)
+    design = gs.design(gs.lowpass(30.0), raw.info["sfreq"])
+    for inst in (raw, epochs, epochs.average()):
+        before = inst.get_data().copy() if hasattr(inst, "get_data") else inst.data.copy()
+        results, errors = [None] * 8, []
+
+        def run(i, inst=inst):
+            try:
+                results[i] = gs.apply(inst, design).get_data()
+            except Exception as err:  # noqa: BLE001 - collected and asserted below
+                errors.append(err)
+
+        threads = [threading.Thread(target=run, args=(i,)) for i in range(8)]
+        for t in threads:
+            t.start()
+        for t in threads:
+            t.join()
+        assert errors == []
+        for result in results[1:]:
+            np.testing.assert_array_equal(result, results[0])
+        np.testing.assert_array_equal(inst.get_data(), before)
+
+
+def test_interrupted_in_place_run_is_marked_in_history(make_raw, monkeypatch):
+    from gainshape import engine
+
+    raw = make_raw()
+    raw.set_annotations(mne.Annotations([20.0], [0.0], ["EDGE boundary"]))  # two segments
+    calls = []
+
+    def interrupt_second(*args, **kwargs):
+        calls.append(1)
+        if len(calls) == 2:
+            raise KeyboardInterrupt
+        return real(*args, **kwargs)
+
+    real = engine._filter_segment
+    monkeypatch.setattr(engine, "_filter_segment", interrupt_second)
+    with pytest.raises(KeyboardInterrupt):
+        gs.apply(raw, gs.lowpass(30.0), copy=False)
+    [step] = gs.history(raw)
+    assert step["application"]["interrupted"] is True
+    assert "interrupted: the data are partly filtered" in gs.methods_text(raw)
+    assert list(gs.bids_filters(raw).values())[0]["status"] == "interrupted: data partly filtered"
+    with pytest.raises(ValueError, match="interrupted"):
+        gs.replay(gs.history(raw), make_raw())

@@ -54,8 +54,65 @@ def test_lazy_nan_is_reported_with_channel(tmp_path):
     raw._data[1, 5000] = np.nan
     raw.save(src, overwrite=True, fmt="double")
     lazy = gs.apply(mne.io.read_raw_fif(src, preload=False), gs.lowpass(30.0))
-    with pytest.raises(ValueError, match="EEG01"):
+    # the position is the recording's own (5000 samples at 250 Hz), not the block's
+    with pytest.raises(ValueError, match=r"EEG01 \(first at 20.000 s, sample 5000\)"):
         lazy.get_data()
+
+
+def _lazy_recording(tmp_path, nan_at=None):
+    src = tmp_path / "src_raw.fif"
+    _write_recording(src, seconds=240.0, n_channels=4)
+    if nan_at is not None:
+        raw = mne.io.read_raw_fif(src, preload=True)
+        raw._data[1, nan_at] = np.nan
+        raw.save(src, overwrite=True, fmt="double")
+    return gs.apply(mne.io.read_raw_fif(src, preload=False), gs.lowpass(30.0))
+
+
+class _FailAfter:
+    """Wraps a function; raises ``error`` on its call number ``k`` (a fault injector)."""
+
+    def __init__(self, func, k, error):
+        self.func, self.k, self.error, self.calls = func, k, error, 0
+
+    def __call__(self, *args, **kwargs):
+        self.calls += 1
+        if self.calls >= self.k:
+            raise self.error
+        return self.func(*args, **kwargs)
+
+
+@pytest.mark.parametrize("error", [OSError(28, "No space left on device"), KeyboardInterrupt()],
+                         ids=["disk-full", "ctrl-c"])
+def test_interrupted_save_leaves_nothing_under_the_final_name(tmp_path, monkeypatch, error):
+    # common practice (no source): write under a temporary name, rename when complete
+    from gainshape import outofcore
+
+    lazy = _lazy_recording(tmp_path)
+    dst = tmp_path / "out_raw.fif"
+    monkeypatch.setattr(outofcore, "filter_span", _FailAfter(outofcore.filter_span, 3, error))
+    with pytest.raises(type(error)):
+        lazy.save(dst)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["src_raw.fif"]
+
+
+def test_nan_met_mid_file_leaves_nothing_and_says_where(tmp_path):
+    lazy = _lazy_recording(tmp_path, nan_at=30000)  # 120 s at 250 Hz
+    with pytest.raises(ValueError, match=r"EEG01 \(first at 120.000 s, sample 30000\)"):
+        lazy.save(tmp_path / "out_raw.fif")
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["src_raw.fif"]
+
+
+def test_complete_save_and_refused_overwrite(tmp_path):
+    lazy = _lazy_recording(tmp_path)
+    dst = tmp_path / "out_raw.fif"
+    lazy.save(dst)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["out_raw.fif", "src_raw.fif"]
+    with pytest.raises(FileExistsError, match="overwrite=True"):
+        lazy.save(dst)
+    expected = lazy.get_data()  # saved as float32 (MNE's default fmt="single")
+    np.testing.assert_allclose(mne.io.read_raw_fif(dst).get_data(), expected, rtol=0,
+                               atol=1e-6 * np.abs(expected).max())
 
 
 def test_unloaded_raw_is_filtered_lazily(tmp_path, raw):

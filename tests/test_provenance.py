@@ -102,6 +102,51 @@ def test_damaged_record_warns_and_keeps_readable_steps(filtered):
     assert [s["realized"]["kind"] for s in steps] == ["notch"]
 
 
+def test_quoted_marker_in_user_text_stays_the_users(raw):
+    from gainshape.provenance import _BEGIN
+
+    raw = raw.copy()
+    raw.info["description"] = f"Pilot session. Our notes quote the line {_BEGIN} here."
+    out = gs.apply(gs.apply(raw, gs.lowpass(30.0)), gs.highpass(0.5))
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", gs.GainshapeWarning)
+        assert _kinds(out) == ["low-pass", "high-pass"]
+    assert out.info["description"].startswith("Pilot session. Our notes quote the line")
+
+
+@pytest.mark.parametrize("edit", [
+    lambda s: s["realized"].update(half_amplitude=["forty"]),
+    lambda s: s["realized"].update(half_amplitude_direction=["up"]),
+    lambda s: s.update(design="zero"),
+    lambda s: s["realized"].update(group_delay="none"),
+    lambda s: s.pop("channels"),
+], ids=["cutoff text", "direction word", "design string", "delay text", "no channels"])
+def test_hand_edited_step_is_skipped_by_every_reader_with_one_warning(raw, filtered, edit):
+    import json
+
+    from gainshape.provenance import _split_description, store_step
+
+    user, lines = _split_description(filtered.info["description"])
+    first = json.loads(lines[0])
+    edit(first)
+    edited = filtered.copy()
+    edited.info["description"] = user
+    store_step(edited.info, first)
+    store_step(edited.info, json.loads(lines[1]))
+    readers = [gs.history, gs.methods_text, gs.bids_filters,
+               lambda inst: gs.history(inst)._repr_html_(), lambda inst: repr(gs.history(inst))]
+    for read in readers:
+        with pytest.warns(gs.GainshapeWarning, match="Skipped damaged history line 1") as caught:
+            read(edited)
+        assert len(caught) == 1
+    with pytest.warns(gs.GainshapeWarning, match="Skipped step 1") as caught:
+        again = gs.replay([first, json.loads(lines[1])], raw)
+    assert len([w for w in caught if "Skipped" in str(w.message)]) == 1
+    assert _kinds(again) == ["notch"]
+
+
 def test_history_of_array_explains_return_step():
     with pytest.raises(TypeError, match="return_step=True"):
         gs.history(np.zeros((2, 10)))

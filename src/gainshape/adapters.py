@@ -10,6 +10,7 @@ recordings.
 
 from __future__ import annotations
 
+from copy import deepcopy
 from dataclasses import dataclass
 
 import numpy as np
@@ -18,7 +19,7 @@ from ._checks import check_bool, check_option, check_positive, warn
 from .curves import GainCurve
 from .design import FilterDesign, check_kernel_request, design
 from .engine import PAD_MODES, check_finite, fft_workers, filter_array
-from .provenance import fingerprint, history, make_step, store_step
+from .provenance import fingerprint, history, make_step, store_step, usable_steps
 
 __all__ = ["apply", "replay", "as_arrays", "Signals"]
 
@@ -76,7 +77,11 @@ def apply(
         FFT worker threads (-1: all cores).
     copy : bool
         True: return a filtered copy and leave ``inst`` untouched. False:
-        filter in place and return ``inst`` itself. A Raw that is not loaded
+        filter in place and return ``inst`` itself; if that is interrupted
+        (an error, Ctrl-C), the object's history gets a step marked
+        interrupted (data partly filtered) before the error is raised, and
+        the methods text, BIDS entry and ``replay`` say so. An array
+        filtered in place has no history: reload it. A Raw that is not loaded
         is never read whole: the result is a Raw that filters block by block
         as its data are read or saved (memory bounded by the block, not the
         recording; ``pad`` must then be a local mode, ``kernel`` not "exact",
@@ -149,21 +154,30 @@ def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
     if nan == "raise":  # before any work, on the input itself
         check_finite(flat, row_names, None if kind == "epochs" else inst.info["sfreq"],
                      picked=rows)
-    out = _copy_with_empty_data(inst, kind) if copy else inst
+    out = _copy_with_empty_data(inst) if copy else inst
     out_data = out._data if kind != "evoked" else out.data
     before = fingerprint(flat, rows)
-    filter_array(
-        data, filt, pad=pad, segments=segments, nan=nan, n_jobs=n_jobs, rows=rows,
-        out=out_data, row_names=row_names, verbose=verbose, checked=True,
-        segment_name="Each epoch" if kind == "epochs" else None,
-        short_hint=_EPOCH_HINT if kind == "epochs" else "",
-    )
     seconds = None if segments is None else [
         [a / filt.sfreq, b / filt.sfreq] for a, b in segments]
-    after = fingerprint(out_data.reshape(-1, data.shape[-1]), rows)
-    step = make_step(filt, channels=names, pad=pad, nan=nan, segments=seconds,
-                     dtype=str(data.dtype), before=before, after=after)
-    return out, step
+
+    def record(after):
+        return make_step(filt, channels=names, pad=pad, nan=nan, segments=seconds,
+                         dtype=str(data.dtype), before=before, after=after)
+
+    try:
+        filter_array(
+            data, filt, pad=pad, segments=segments, nan=nan, n_jobs=n_jobs, rows=rows,
+            out=out_data, row_names=row_names, verbose=verbose, checked=True,
+            segment_name="Each epoch" if kind == "epochs" else None,
+            short_hint=_EPOCH_HINT if kind == "epochs" else "",
+        )
+    except BaseException:
+        if out is inst:  # in place: the object itself now holds partly filtered data
+            step = record(None)
+            step["application"]["interrupted"] = True
+            store_step(inst.info, step)
+        raise
+    return out, record(fingerprint(out_data.reshape(-1, data.shape[-1]), rows))
 
 
 def _apply_lazy(raw, filt, idx, pad, nan, n_jobs):
@@ -195,17 +209,15 @@ def _require_sfreq(sfreq):
         )
 
 
-def _copy_with_empty_data(inst, kind):
+def _copy_with_empty_data(inst):
     """``inst.copy()`` whose data array is new and unfilled (the engine writes
-    every sample of it), sparing a copy of data about to be replaced."""
-    if kind == "evoked":
-        return inst.copy()
+    every sample of it), sparing a copy of data about to be replaced.
+
+    The data array is left out of the copy through deepcopy's memo, so
+    ``inst`` itself is never touched (safe under threads and interruption).
+    """
     data = inst._data
-    try:
-        inst._data = np.empty(data.shape[:-1] + (0,), dtype=data.dtype)
-        out = inst.copy()
-    finally:
-        inst._data = data
+    out = deepcopy(inst, {id(data): np.empty(data.shape[:-1] + (0,), dtype=data.dtype)})
     out._data = np.empty_like(data)
     return out
 
@@ -474,6 +486,13 @@ def replay(steps, inst, *, n_jobs: int = 1, verbose=None):
     True
     """
     _check_steps(steps)
+    steps = usable_steps(steps)
+    stopped = [n for n, s in enumerate(steps, start=1) if s["application"].get("interrupted")]
+    if stopped:
+        raise ValueError(
+            f"The 'steps' parameter holds interrupted step(s) {stopped}: they left data "
+            "partly filtered and cannot be reproduced. Replay the steps before them."
+        )
     out = inst
     for number, step in enumerate(steps, start=1):
         curve_record, d, a = step.get("curve", {}), step["design"], step["application"]

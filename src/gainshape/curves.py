@@ -31,6 +31,7 @@ __all__ = [
 _FORMAT = "gainshape.GainCurve"
 _FORMAT_VERSION = 1
 _DB_PER_OCTAVE_PER_ORDER = 20.0 * np.log10(2.0)  # 6.0206 dB/octave
+_MAX_HARMONICS = 1000  # a 50 Hz comb of 1000 notches reaches 50 kHz
 
 
 @dataclass(frozen=True, slots=True, eq=False)
@@ -126,6 +127,18 @@ class GainCurve:
                 "The 'data' parameter must be a dict made by GainCurve.to_dict "
                 f"(with format {_FORMAT!r}), but got {data!r} instead."
             )
+        version = data.get("version", _FORMAT_VERSION)
+        if version != _FORMAT_VERSION:
+            raise ValueError(
+                f"The 'data' parameter is a gain-curve recipe of version {version!r}; this "
+                f"gainshape reads version {_FORMAT_VERSION}. Upgrade gainshape to read it."
+            )
+        unknown = set(data) - {"format", "version", "curve"}
+        if unknown or "curve" not in data:
+            raise ValueError(
+                "The 'data' parameter must hold the keys 'format', 'version' and 'curve', "
+                f"but {'has ' + ', '.join(map(repr, sorted(unknown))) if unknown else 'lacks curve'}."
+            )
         return _build(data["curve"])
 
     def to_dict(self) -> dict:
@@ -153,7 +166,13 @@ class GainCurve:
     def __call__(self, freqs) -> np.ndarray:
         """Evaluate the gain at ``freqs`` (Hz); returns a float64 array."""
         f = np.abs(np.asarray(freqs, dtype=float))
-        out = np.asarray(self.func(f), dtype=float)
+        out = np.asarray(self.func(f))
+        if np.iscomplexobj(out):
+            raise ValueError(
+                f"The gain function of {self!r} returned complex values; a gain is a "
+                "real amplitude ratio: return its magnitude, e.g. np.abs(...)."
+            )
+        out = out.astype(float, copy=False)
         if out.shape != f.shape:
             try:
                 out = np.broadcast_to(out, f.shape)
@@ -186,6 +205,12 @@ class GainCurve:
         if self._recipe is None or other._recipe is None:
             return self.func is other.func
         return self._recipe == other._recipe
+
+    def __reduce__(self):
+        """Pickle by recipe when there is one, else by the callable."""
+        if self._recipe is not None:
+            return (_from_recipe_text, (self._recipe,))
+        return (GainCurve, (self.func,))
 
     def __hash__(self):
         return hash(self._recipe if self._recipe is not None else id(self.func))
@@ -335,6 +360,17 @@ def notch(
             f"so the lower half-amplitude point stays above 0 Hz, but got {width:g}."
         )
     harmonics = check_int("harmonics", harmonics, minimum=1)
+    if harmonics > _MAX_HARMONICS:
+        raise ValueError(
+            f"The 'harmonics' parameter must be at most {_MAX_HARMONICS}, but got "
+            f"{harmonics}; harmonics at or above Nyquist are dropped at design anyway."
+        )
+    if harmonics > 1 and width >= freq:
+        raise ValueError(
+            f"The 'width' parameter must be below 'freq' ({freq:g} Hz) when there are "
+            f"harmonics, so neighbouring notches stay apart, but got {width:g} Hz; for "
+            "one wide stop band use gainshape.bandstop."
+        )
     rolloff = check_positive("rolloff", rolloff)
     func = _notch_func(freq, width, harmonics, rolloff)
     return _shape(
@@ -428,12 +464,26 @@ def _dump(recipe: dict) -> str:
 
 def _build(recipe: Mapping) -> GainCurve:
     """Make the curve a recipe describes (validating it on the way)."""
-    if not isinstance(recipe, Mapping) or recipe.get("kind") not in _BUILDERS:
+    if not isinstance(recipe, Mapping) or not isinstance(recipe.get("kind"), str) \
+            or recipe["kind"] not in _BUILDERS:
         raise ValueError(
             f"Unknown gain-curve recipe {recipe!r}; its 'kind' must be one of "
             f"{', '.join(sorted(_BUILDERS))}."
         )
-    return _BUILDERS[recipe["kind"]](recipe)
+    try:
+        return _BUILDERS[recipe["kind"]](recipe)
+    except (KeyError, IndexError, TypeError) as err:
+        if isinstance(err, TypeError) and "parameter" in str(err):
+            raise  # a constructor's own message, naming its parameter
+        raise ValueError(
+            f"The {recipe['kind']!r} gain-curve recipe {recipe!r} is damaged "
+            f"({type(err).__name__}: {err}); rebuild it with the constructor."
+        ) from None
+
+
+def _from_recipe_text(text: str) -> GainCurve:
+    """Rebuild a curve from its recipe as JSON text (for pickling)."""
+    return _build(json.loads(text))
 
 
 def _shape(kind: str, func, **params) -> GainCurve:

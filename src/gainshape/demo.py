@@ -16,6 +16,8 @@ from pathlib import Path
 
 import numpy as np
 
+from ._files import atomic_output
+
 __all__ = ["simulate_workshop_recording", "main", "TONE_CHANNEL"]
 
 _CHANNELS = [
@@ -160,26 +162,28 @@ def main(argv=None) -> int:
 
     filtered = apply(raw, filt)
     fif = out / "workshop_filtered_raw.fif"
-    filtered.save(fif, overwrite=True)
+    with atomic_output(fif) as staged:
+        filtered.save(staged, overwrite=True)
 
-    plot_design(filt, show=False).savefig(out / "filter_design.png", dpi=110)
+    _save_figure(plot_design(filt, show=False), out / "filter_design.png")
     freqs, before, after = _mean_spectra(raw, filtered)
-    plot_spectrum_pair(freqs, before, after, show=False).savefig(
-        out / "spectra_before_after.png", dpi=110)
+    _save_figure(plot_spectrum_pair(freqs, before, after, show=False),
+                 out / "spectra_before_after.png")
     events = mne.find_events(raw, stim_channel=TONE_CHANNEL)
     evokeds = [
         mne.Epochs(r, events, tmin=-0.2, tmax=0.8, baseline=(-0.2, 0.0), picks="eeg").average()
         for r in (raw, filtered)
     ]
     cz = [e.copy().pick(["Cz"]).data[0] * 1e6 for e in evokeds]
-    plot_erp_pair(evokeds[0].times, *cz, label="Cz (µV)", show=False).savefig(
-        out / "erp_cz_before_after.png", dpi=110)
+    _save_figure(plot_erp_pair(evokeds[0].times, *cz, label="Cz (µV)", show=False),
+                 out / "erp_cz_before_after.png")
     print(f"\ninfo: highpass {filtered.info['highpass']:.4g} Hz, lowpass "
           f"{filtered.info['lowpass']:.4g} Hz")
 
     change = band_change(raw, filtered)
-    change.to_netcdf(out / "band_change.nc")
-    plot_band_change(change, show=False).savefig(out / "band_change.png", dpi=110)
+    with atomic_output(out / "band_change.nc") as staged:
+        change.to_netcdf(staged)
+    _save_figure(plot_band_change(change, show=False), out / "band_change.png")
     print("\nBand power change, dB (median and range over the 32 EEG channels)")
     for band in change.band.values:
         values = change.change_db.sel(band=band)
@@ -187,10 +191,10 @@ def main(argv=None) -> int:
               f"{float(change.band_high.sel(band=band)):<5g} Hz  {float(values.median()):8.2f}"
               f"   [{float(values.min()):.2f}, {float(values.max()):.2f}]")
     gain = observed_gain(raw, filtered)
-    plot_observed_gain(gain, filt, show=False).savefig(out / "observed_gain.png", dpi=110)
+    _save_figure(plot_observed_gain(gain, filt, show=False), out / "observed_gain.png")
 
     waveforms = audit(filt)
-    plot_audit(waveforms, show=False).savefig(out / "waveform_audit.png", dpi=110)
+    _save_figure(plot_audit(waveforms, show=False), out / "waveform_audit.png")
     print("\nWaveform audit (test waveforms)")
     table = waveforms[["peak_change_pct", "latency_shift_ms", "onset_shift_ms",
                        "opposite_before_pct", "opposite_after_pct", "ringing_s"]]
@@ -199,6 +203,15 @@ def main(argv=None) -> int:
     print(f"\nWrote {fif}, band_change.nc and 6 figures to {out}/ in "
           f"{time.perf_counter() - start:.1f} s.")
     return 0
+
+
+def _save_figure(fig, path):
+    """Write a figure whole or not at all, and release it."""
+    import matplotlib.pyplot as plt
+
+    with atomic_output(path) as staged:
+        fig.savefig(staged, dpi=110)
+    plt.close(fig)
 
 
 if __name__ == "__main__":

@@ -357,6 +357,7 @@ def design(
     kernel_request = check_kernel_request(kernel)
     exact = kernel_request == "exact"
     curve, notes = curve.below_nyquist(sfreq / 2.0)
+    _check_not_flat(curve, sfreq)
 
     fixed = not isinstance(kernel_request, str)
     n_taps = _requested_taps(kernel_request, sfreq) if fixed else None
@@ -371,6 +372,13 @@ def design(
         taps, offset = realizer.of_length(int(taps.size * 1.05) + 2)
         chars = _characterize(curve, taps, offset, sfreq, causal, tolerance, exact)
     taps.setflags(write=False)
+    if not fixed and chars.max_deviation > tolerance:
+        warn(
+            f"The longest kernel this design allows ({taps.size / sfreq:.4g} s) realizes the "
+            f"request only to within {chars.max_deviation:.3g} (tolerance {tolerance:g}); "
+            f"pass tolerance={_round_up(chars.max_deviation)} to accept it, or use a gentler "
+            "roll-off or a wider notch."
+        )
     if fixed and chars.max_deviation > tolerance:
         try:
             fix = (f"use kernel='shortest' ({realizer.shortest()[0].size / sfreq:.3g} s) "
@@ -382,6 +390,32 @@ def design(
             f"within {chars.max_deviation:.3g} (tolerance {tolerance:g}); {fix}"
         )
     return FilterDesign(curve, sfreq, causal, kernel_request, tolerance, taps, offset, chars, notes)
+
+
+def _check_not_flat(curve, sfreq):
+    """Refuse a request that removes everything; warn about one that only scales."""
+    gain = _validated_gain(curve, np.linspace(0.0, sfreq / 2.0, 4097))
+    if gain.max() == 0.0:
+        raise ValueError(
+            f"The gain curve {curve!r} is 0 from 0 Hz to Nyquist ({sfreq / 2:g} Hz): it "
+            "would remove everything. Draw gains above 0 where the signal should pass."
+        )
+    if np.ptp(gain) == 0.0:
+        warn(
+            f"The gain curve {curve!r} is constant ({gain[0]:g}) from 0 Hz to Nyquist "
+            f"({sfreq / 2:g} Hz) at this rate: the filter only scales the data. Are its "
+            "features above Nyquist?", stacklevel=4,
+        )
+
+
+def _round_up(value: float) -> float:
+    """``value`` rounded up to two significant digits (a tolerance to suggest).
+
+    >>> _round_up(0.0010351)
+    0.0011
+    """
+    scale = 10.0 ** (np.floor(np.log10(value)) - 1)
+    return float(np.ceil(value / scale) * scale)
 
 
 def check_kernel_request(kernel):

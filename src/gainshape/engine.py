@@ -124,10 +124,13 @@ def filter_array(
     return out
 
 
-def check_finite(rows: np.ndarray, row_names=None, sfreq=None, *, picked=None) -> None:
+def check_finite(rows: np.ndarray, row_names=None, sfreq=None, *, picked=None,
+                 first_sample=0) -> None:
     """Raise ValueError naming the rows (and first times) holding NaN or inf.
 
-    ``picked`` limits the check to those rows; ``row_names`` follow its order.
+    ``picked`` limits the check to those rows; ``row_names`` follow its order;
+    ``first_sample`` is the recording's sample number of ``rows[:, 0]`` (for
+    blocks read from a file), so positions are the recording's own.
     Rows are summed first (one pass, no copy); only rows whose sum is not
     finite are scanned sample by sample.
 
@@ -148,7 +151,8 @@ def check_finite(rows: np.ndarray, row_names=None, sfreq=None, *, picked=None) -
     parts = []
     for i, first in bad[:5]:
         name = row_names[i] if row_names is not None else f"row {picked[i]}"
-        where = f"{first / sfreq:.3f} s" if sfreq else f"sample {first}"
+        sample = first_sample + first
+        where = f"{sample / sfreq:.3f} s, sample {sample}" if sfreq else f"sample {sample}"
         parts.append(f"{name} (first at {where})")
     more = f" and {len(bad) - 5} more" if len(bad) > 5 else ""
     raise ValueError(

@@ -9,8 +9,11 @@ block, not the recording.
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 
+from ._files import atomic_output
 from .design import FilterDesign
 from .engine import (LOCAL_PAD_MODES, block_plan, check_finite, edge_pads, fft_workers,
                      filter_span, spectrum_buffer)
@@ -53,6 +56,17 @@ def filtered_raw(raw, filt, idx, pad, n_jobs, segments):
             ch["cal"], ch["range"] = 1.0, 1.0
 
     class _FilteredRaw(BaseRaw):
+        def save(self, fname, *args, **kwargs):
+            """MNE's ``Raw.save``, written whole or not at all (see ``_files``)."""
+            fname = Path(fname)
+            if fname.exists() and not kwargs.get("overwrite", False):
+                raise FileExistsError(
+                    f"{fname} exists; pass overwrite=True to replace it (nothing was written)."
+                )
+            with atomic_output(fname) as staged:
+                written = super().save(staged, *args, **kwargs)
+            return None if written is None else [fname.parent / Path(p).name for p in written]
+
         def _read_segment_file(self, data, idx, fi, start, stop, cals, mult):
             from mne._fiff.utils import _mult_cal_one
 
@@ -139,7 +153,7 @@ class _SegmentView:
         lo, hi, _ = sl.indices(self.shape[1])
         if self._last[:2] != (lo, hi):
             data = self.raw.get_data(picks=self.rows, start=self.start + lo, stop=self.start + hi)
-            check_finite(data, self.names)
+            check_finite(data, self.names, self.raw.info["sfreq"], first_sample=self.start + lo)
             self._last = (lo, hi, data)
         return self._last[2]
 

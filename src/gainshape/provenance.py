@@ -20,10 +20,12 @@ import numpy as np
 import xxhash
 
 from ._checks import warn
+from ._files import atomic_output
 from .design import edge_groups, phase_words
 
 __all__ = [
     "History",
+    "usable_steps",
     "bids_filters",
     "fingerprint",
     "history",
@@ -64,7 +66,8 @@ class History(list):
             cells = (
                 str(i + 1),
                 step.get("time", "?")[:19].replace("T", " "),
-                r.get("kind", "?"),
+                r.get("kind", "?") + (" (interrupted)" if step["application"].get("interrupted")
+                                      else ""),
                 ", ".join(f"{hz:.3g}" for _, hz, _, _ in passband),
                 ", ".join(f"{slope:.1f}" for _, _, _, slope in passband if slope is not None),
                 ", ".join(f"{lo:.3g}-{hi:.3g}" for lo, hi in stops),
@@ -177,16 +180,21 @@ def history(inst) -> History:
             "gainshape.apply(..., return_step=True) to get the step record."
         )
     _, lines = _split_description(info.get("description"))
-    steps = History()
+    steps, damaged = History(), []
     for number, line in enumerate(lines, start=1):
         try:
             step = json.loads(line)
-            if not isinstance(step, dict) or step.get("format") != _STEP_FORMAT:
-                raise ValueError("not a gainshape step")
         except ValueError as err:
-            warn(f"Skipped damaged history line {number} ({err}): {line[:60]!r}")
+            damaged.append(f"line {number} ({err}): {line[:60]!r}")
+            continue
+        problem = _step_problem(step)
+        if problem:
+            damaged.append(f"line {number} ({problem}): {line[:60]!r}")
             continue
         steps.append(step)
+    if damaged:
+        warn(f"Skipped damaged history {'; '.join(damaged)}. The other steps are read; "
+             "the damaged ones are left in info['description'] as they are.")
     return steps
 
 
@@ -234,7 +242,10 @@ def bids_filters(inst) -> dict | str:
         if stops:
             edges["stop bands between half-amplitude points (Hz)"] = [
                 [_round_sig(lo, 4), _round_sig(hi, 4)] for lo, hi in stops]
+        status = {"status": "interrupted: data partly filtered"} if step["application"].get(
+            "interrupted") else {}
         out[f"gainshape step {i}: {r.get('kind', 'filter')}"] = {
+            **status,
             **edges,
             "passband ripple (dB)": _round_sig(r.get("passband_ripple_db"), 3),
             "stopband attenuation (dB)": _round_sig(r.get("stopband_attenuation_db"), 3),
@@ -251,30 +262,100 @@ def bids_filters(inst) -> dict | str:
 def write_bids_filters(bids_path, inst) -> None:
     """Write :func:`bids_filters` into a BIDS dataset's ``*_eeg.json`` (needs mne-bids).
 
-    ``bids_path`` is an ``mne_bids.BIDSPath`` of the recording.
+    ``bids_path`` is an ``mne_bids.BIDSPath`` of the recording. The sidecar is
+    rewritten whole or not at all (see ``gainshape._files``).
     """
     try:
-        from mne_bids import update_sidecar_json
+        from mne_bids import BIDSPath
     except ImportError:
         raise ImportError(
             "write_bids_filters needs mne-bids: pip install 'gainshape[bids]'."
         ) from None
+    if not isinstance(bids_path, BIDSPath):
+        raise TypeError(
+            "The 'bids_path' parameter must be an mne_bids.BIDSPath of the recording, but "
+            f"got {type(bids_path).__name__} ({bids_path!r}); e.g. BIDSPath(subject='01', "
+            "task='rest', datatype='eeg', root=...)."
+        )
+    filters = bids_filters(inst)
     sidecar = bids_path.copy().update(suffix=bids_path.datatype or "eeg", extension=".json")
     if not sidecar.fpath.exists():
         raise ValueError(f"The 'bids_path' sidecar {sidecar.fpath} does not exist.")
-    update_sidecar_json(sidecar, {"SoftwareFilters": bids_filters(inst)})
+    content = json.loads(sidecar.fpath.read_text(encoding="utf-8"))
+    content["SoftwareFilters"] = filters
+    with atomic_output(sidecar.fpath) as staged:
+        staged.write_text(json.dumps(content, indent=4) + "\n", encoding="utf-8")
 
 
 # -- helpers --------------------------------------------------------------------
 def _split_description(description):
-    """(user text, step lines) of a description that may hold a history block."""
+    """(user text, step lines) of a description that may end with a history block.
+
+    The block is always the last thing in the description, so the last
+    marker line is the real one: a user's text that quotes the marker (in a
+    note about the history, say) stays the user's.
+    """
     text = description or ""
-    if _BEGIN not in text:
+    body = text.rstrip()
+    if not body.endswith(_END) or _BEGIN not in body:
         return text, []
-    before, _, rest = text.partition(_BEGIN)
-    block, _, after = rest.partition(_END)
-    user = (before.rstrip("\n") + ("\n" + after.strip("\n") if after.strip() else "")).strip("\n")
-    return user, [line for line in block.split("\n") if line.strip()]
+    before, _, block = body[: -len(_END)].rpartition(_BEGIN)
+    return before.strip("\n"), [line for line in block.split("\n") if line.strip()]
+
+
+def _step_problem(step) -> str | None:
+    """Why a parsed line is not a usable step, or None if it is."""
+    if not isinstance(step, dict) or step.get("format") != _STEP_FORMAT:
+        return "not a gainshape step"
+    parts = {"design": dict, "realized": dict, "application": dict, "channels": list,
+             "curve": dict}
+    for key, kind in parts.items():
+        if not isinstance(step.get(key), kind):
+            return f"its {key!r} is not a {kind.__name__}"
+    r, d = step["realized"], step["design"]
+    lists = ("half_amplitude", "half_power", "rolloff")
+    if not all(isinstance(r.get(k, []), list) and all(_is_number(v) for v in r.get(k, []))
+               for k in lists):
+        return "its realized cutoffs are not lists of numbers"
+    directions = r.get("half_amplitude_direction", [])
+    if not isinstance(directions, list) or not set(directions) <= {"rising", "falling"} \
+            or len(directions) != len(r.get("half_amplitude", [])):
+        return "its edge directions do not match its cutoffs"
+    numbers = ("passband_ripple_db", "stopband_attenuation_db", "max_deviation",
+               "group_delay", "length")
+    if not all(_is_number(r.get(k, 0.0)) for k in numbers) or not _is_number(d.get("sfreq")):
+        return "a realized figure or the sampling rate is not a number"
+    if not isinstance(d.get("causal"), bool) or not all(isinstance(c, str) for c in step["channels"]):
+        return "its 'causal' flag or channel names are of the wrong type"
+    return None
+
+
+def usable_steps(steps) -> list:
+    """The steps of ``steps`` that are whole records; the others skipped with one warning.
+
+    Examples
+    --------
+    >>> import warnings
+    >>> with warnings.catch_warnings(record=True) as caught:
+    ...     warnings.simplefilter("always")
+    ...     kept = usable_steps([{"format": "gainshape.step"}])
+    >>> kept, "Skipped step 1" in str(caught[0].message)
+    ([], True)
+    """
+    kept, skipped = [], []
+    for number, step in enumerate(steps, start=1):
+        problem = _step_problem(step)
+        if problem:
+            skipped.append(f"step {number} ({problem})")
+        else:
+            kept.append(step)
+    if skipped:
+        warn(f"Skipped {'; '.join(skipped)}: not whole gainshape step records.", stacklevel=4)
+    return kept
+
+
+def _is_number(value) -> bool:
+    return isinstance(value, (int, float)) and not isinstance(value, bool)
 
 
 def _one_line(step) -> str:
@@ -282,7 +363,8 @@ def _one_line(step) -> str:
     passband, stops = _edge_groups(r)
     cut = ", ".join([f"{hz:.3g}" for _, hz, _, _ in passband]
                     + [f"{lo:.3g}-{hi:.3g}" for lo, hi in stops])
-    return (f"{step.get('time', '?')} {r.get('kind', '?')} ({cut} Hz), "
+    stopped = " INTERRUPTED, data partly filtered;" if step["application"].get("interrupted") else ""
+    return (f"{step.get('time', '?')}{stopped} {r.get('kind', '?')} ({cut} Hz), "
             f"{_kernel_words(step)}, "
             f"{len(step.get('channels', []))} channels")
 
@@ -295,6 +377,10 @@ def _step_sentences(step) -> str:
         "drawn as a gain curve from a function" if curve.get("reproducible") is False
         else f"requested as the gain curve '{_curve_words(curve.get('curve', {}))}'"
     )
+    if a.get("interrupted"):
+        return (f"An application of a {r.get('kind', 'custom-shape')} filter to "
+                f"{len(channels)} channels in place was interrupted: the data are partly "
+                "filtered and should be reloaded; no figure of this step describes them.")
     text = [
         f"A {r.get('kind', 'custom-shape')} FIR filter, {_phase_words(step)}, {request}, "
         "was applied to "

@@ -90,7 +90,7 @@ CASES = [
     ("nan in array", lambda mk: _nan_array(),
      lambda a: gs.apply(a, gs.lowpass(30.0), sfreq=250.0), ValueError, r"row 1 \(first at sample 50\)"),
     ("nan in raw", _raw_with_nan,
-     lambda a: gs.apply(a, gs.lowpass(30.0)), ValueError, r"Pz \(first at 2.000 s\)"),
+     lambda a: gs.apply(a, gs.lowpass(30.0)), ValueError, r"Pz \(first at 2.000 s, sample 500\)"),
     ("unknown pad mode", lambda mk: _array(),
      lambda a: gs.apply(a, gs.lowpass(30.0), sfreq=250.0, pad="mirror"), ValueError, "'pad'"),
     ("unknown nan mode", lambda mk: _array(),
