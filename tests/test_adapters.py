@@ -189,3 +189,11 @@ def test_interrupted_in_place_run_is_marked_in_history(make_raw, monkeypatch):
     assert list(gs.bids_filters(raw).values())[0]["status"] == "interrupted: data partly filtered"
     with pytest.raises(ValueError, match="interrupted"):
         gs.replay(gs.history(raw), make_raw())
+
+
+def test_byte_swapped_array_filters_like_native(rng):
+    x = rng.standard_normal((3, 2000))
+    swapped = x.astype(">f8")
+    out = gs.apply(swapped, gs.lowpass(30.0), sfreq=250.0)
+    np.testing.assert_array_equal(out, gs.apply(x, gs.lowpass(30.0), sfreq=250.0))
+    assert out.dtype.isnative

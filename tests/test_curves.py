@@ -131,3 +131,15 @@ def test_below_nyquist_trims_harmonics_and_rejects_cutoffs():
     assert notes == ("notch harmonic at 150 Hz is at or above the Nyquist frequency (125 Hz) and is dropped",)
     with pytest.raises(ValueError, match="Nyquist"):
         gs.lowpass(130.0).below_nyquist(125.0)
+
+
+def test_curves_pickle_by_recipe_and_by_callable():
+    import pickle
+
+    curve = gs.bandpass(0.1, 40.0) * gs.notch(50.0, harmonics=3)
+    again = pickle.loads(pickle.dumps(curve))
+    assert again == curve and again.recipe == curve.recipe
+    f = np.linspace(0, 200, 101)
+    np.testing.assert_array_equal(again(f), curve(f))
+    bare = gs.GainCurve(np.exp)  # a module-level callable pickles by reference
+    assert pickle.loads(pickle.dumps(bare)).func is np.exp

@@ -167,3 +167,18 @@ def test_edge_groups_split_passband_edges_and_stop_bands():
                                   c.half_power, c.rolloff)
     assert [(name, round(hz)) for name, hz, _, _ in passband] == [("high-pass", 1), ("low-pass", 40)]
     assert [(round(lo), round(hi)) for lo, hi in stops] == [(29, 31)]
+
+
+def test_design_pickles_for_worker_processes():
+    import pickle
+
+    f = gs.design(gs.bandpass(1.0, 30.0), SFREQ, causal=True)
+    again = pickle.loads(pickle.dumps(f))
+    np.testing.assert_array_equal(again.kernel, f.kernel)
+    assert again.characteristics == f.characteristics and again.causal and again.curve == f.curve
+
+
+def test_flat_request_warns_that_it_only_scales():
+    # a curve drawn entirely above Nyquist is constant below it: nothing is filtered
+    with pytest.warns(gs.GainshapeWarning, match="constant .* only scales"):
+        gs.design(gs.GainCurve.from_points([200.0, 300.0], [1.0, 0.0]), 250.0)

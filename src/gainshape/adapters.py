@@ -117,6 +117,7 @@ def apply(
     check_option("nan", nan, ("raise", "split"))
     check_option("pad", pad, PAD_MODES)
     copy = check_bool("copy", copy)
+    return_step = check_bool("return_step", return_step)
     options = _design_options(filt, causal, kernel, tolerance)
     fft_workers(n_jobs)  # checked before the design is made
     if isinstance(inst, np.ndarray):
@@ -125,6 +126,9 @@ def apply(
         return (out, step) if return_step else out
     kind = _mne_kind(inst)
     _check_sfreq(inst, sfreq)
+    if not _n_records(inst, kind):
+        raise ValueError(f"The 'inst' parameter is an {kind} object without any epochs "
+                         "left (all dropped?); there is nothing to filter.")
     idx = _pick_indices(inst, picks)
     if kind == "raw" and not inst.preload:
         from .outofcore import check_request  # the layer for recordings not in memory
@@ -194,19 +198,20 @@ def _apply_lazy(raw, filt, idx, pad, nan, n_jobs):
 
 
 def _check_sfreq(inst, sfreq):
-    if sfreq is not None and float(sfreq) != inst.info["sfreq"]:
+    if sfreq is not None and check_positive("sfreq", sfreq) != inst.info["sfreq"]:
         raise ValueError(
             f"The 'sfreq' parameter ({sfreq!r}) differs from the data's "
             f"info['sfreq'] ({inst.info['sfreq']!r}); leave it out for MNE objects."
         )
 
 
-def _require_sfreq(sfreq):
+def _require_sfreq(sfreq) -> float:
     if sfreq is None:
         raise ValueError(
             "The 'sfreq' parameter is required for arrays: pass the sampling "
             "rate in Hz, e.g. sfreq=1000.0."
         )
+    return check_positive("sfreq", sfreq)
 
 
 def _copy_with_empty_data(inst):
@@ -241,7 +246,7 @@ class Signals:
     times: np.ndarray
 
 
-def as_arrays(inst, *, sfreq=None) -> Signals:
+def as_arrays(inst, *, sfreq=None, name="inst") -> Signals:
     """Data channels (MNE's "data" picks) of a Raw/Epochs/Evoked, or an array.
 
     Examples
@@ -251,11 +256,12 @@ def as_arrays(inst, *, sfreq=None) -> Signals:
     ['0', '1', '2']
     """
     if isinstance(inst, np.ndarray):
-        _require_sfreq(sfreq)
-        if inst.ndim not in (1, 2) or inst.dtype.kind != "f":
+        sfreq = _require_sfreq(sfreq)
+        if inst.ndim not in (1, 2) or inst.dtype.kind != "f" or 0 in inst.shape:
             raise ValueError(
-                "Arrays must be 1-D or 2-D (channels x times) floating point, but got "
-                f"shape {inst.shape} and dtype {inst.dtype}."
+                f"The '{name}' parameter must be a 1-D or 2-D (channels x times) floating-point "
+                "array with at least one channel and one sample, but got shape "
+                f"{inst.shape} and dtype {inst.dtype}."
             )
         data = np.atleast_2d(inst)
         names = [str(i) for i in range(data.shape[0])]
@@ -263,9 +269,14 @@ def as_arrays(inst, *, sfreq=None) -> Signals:
                        None, [], np.arange(data.shape[-1]) / float(sfreq))
     from mne._fiff.pick import _picks_to_idx
 
-    kind = _mne_kind(inst)
+    kind = _mne_kind(inst, name)
     _check_sfreq(inst, sfreq)
-    idx = _picks_to_idx(inst.info, "data", exclude=())
+    idx = _picks_to_idx(inst.info, "data", exclude=(), allow_empty=True)
+    if idx.size == 0 or not _n_records(inst, kind):
+        raise ValueError(
+            f"The '{name}' {kind} has no data channels or no "
+            f"{'epochs' if kind == 'epochs' else 'samples'} to work on ({len(inst.ch_names)} channels: {', '.join(inst.ch_names[:4])})."
+        )
     data = inst.get_data(picks=idx) if kind != "evoked" else inst.data[idx]
     ids = [step.get("id") for step in history(inst)]
     return Signals(data, float(inst.info["sfreq"]), [inst.ch_names[i] for i in idx],
@@ -276,10 +287,11 @@ def as_arrays(inst, *, sfreq=None) -> Signals:
 def _apply_array(data, filt, sfreq, picks, pad, options, nan, n_jobs, copy, verbose):
     if sfreq is None and isinstance(filt, FilterDesign):
         sfreq = filt.sfreq
-    _require_sfreq(sfreq)
-    filt = _realize(filt, sfreq, options)
+    sfreq = _require_sfreq(sfreq)
+    data = _native_float(data, copy)
     n_ch = data.shape[-2] if data.ndim >= 2 else 1
     channels = np.arange(n_ch) if picks is None else _array_picks(picks, n_ch)
+    filt = _realize(filt, sfreq, options)
     n_lead = int(np.prod(data.shape[:-2])) if data.ndim >= 2 else 1
     rows = (np.arange(n_lead)[:, None] * n_ch + np.atleast_1d(channels)[None, :]).ravel()
     flat = data.reshape(-1, data.shape[-1])
@@ -323,7 +335,14 @@ def _realize(filt, sfreq, options) -> FilterDesign:
     return design(filt, sfreq, **options)
 
 
-def _mne_kind(inst) -> str:
+def _n_records(inst, kind) -> int:
+    """Epochs in an Epochs (samples otherwise): 0 means nothing to work on."""
+    if kind == "epochs":  # unloaded epochs know their events, not yet their drops
+        return len(inst) if inst.preload else len(inst.events)
+    return inst.times.size
+
+
+def _mne_kind(inst, name="inst") -> str:
     import mne
 
     if isinstance(inst, mne.io.BaseRaw):
@@ -333,7 +352,7 @@ def _mne_kind(inst) -> str:
     if isinstance(inst, mne.Evoked):
         return "evoked"
     raise TypeError(
-        "The 'inst' parameter must be an mne.io.Raw, mne.Epochs, mne.Evoked or "
+        f"The '{name}' parameter must be an mne.io.Raw, mne.Epochs, mne.Evoked or "
         f"a NumPy array, but got {type(inst).__name__} instead."
     )
 
@@ -349,33 +368,86 @@ def _check_steps(steps) -> None:
         )
 
 
+def _native_float(data, copy) -> np.ndarray:
+    """``data`` checked to hold samples of float32/float64; byte-swapped data
+    (e.g. ``>f8`` from a file) in native order, which needs ``copy=True``."""
+    if data.ndim == 0 or 0 in data.shape:
+        raise ValueError(
+            "The 'inst' parameter must hold at least one row of samples along its last "
+            f"axis, but got an array of shape {data.shape}."
+        )
+    if data.dtype.kind != "f" or data.dtype.itemsize not in (4, 8):
+        raise TypeError(
+            "The 'inst' parameter must be float32 or float64, but got dtype "
+            f"{data.dtype}; convert it first, e.g. data.astype(float)."
+        )
+    if data.dtype.isnative:
+        return data
+    if not copy:
+        raise ValueError(
+            f"The 'copy' parameter is False, but the array's byte order ({data.dtype.str}) "
+            "is not this machine's, so it cannot be filtered in place; use copy=True."
+        )
+    return data.astype(data.dtype.newbyteorder("="))
+
+
 def _array_picks(picks, n_ch) -> np.ndarray:
     """Row indices (second-to-last axis) of an array from integer picks or a slice."""
     try:
-        return np.arange(n_ch)[picks]
+        rows = np.arange(n_ch)[picks]
     except (IndexError, TypeError):
         raise ValueError(
             f"The 'picks' parameter must index the array's {n_ch} rows along its "
             f"second-to-last axis (integers, a slice or a boolean mask), but got {picks!r}."
         ) from None
+    return _distinct_nonempty(np.atleast_1d(rows), picks, lambda i: f"row {i}")
+
+
+def _distinct_nonempty(idx, picks, name) -> np.ndarray:
+    """``idx`` if it selects something and names nothing twice."""
+    if idx.size == 0:
+        raise ValueError(
+            f"The 'picks' parameter ({_short_repr(picks)}) selects no channel to filter; "
+            "pick at least one data channel."
+        )
+    values, counts = np.unique(idx, return_counts=True)
+    if (counts > 1).any():
+        twice = ", ".join(name(int(i)) for i in values[counts > 1])
+        raise ValueError(
+            f"The 'picks' parameter names {twice} more than once; name each channel once."
+        )
+    return idx
+
+
+def _short_repr(value) -> str:
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
 
 
 def _pick_indices(inst, picks) -> np.ndarray:
     from mne._fiff.pick import _picks_to_idx
 
+    names = inst.ch_names
+    listing = (f"The data have {len(names)} channels ({', '.join(names[:6])}"
+               f"{', ...' if len(names) > 6 else ''})")
+    given = picks
+    if isinstance(picks, np.ndarray) and picks.dtype == bool and picks.shape == (len(names),):
+        picks = np.flatnonzero(picks)  # a boolean mask over the channels
     try:
-        idx = _picks_to_idx(inst.info, picks, none="data", exclude=())
-    except ValueError as err:
+        idx = _picks_to_idx(inst.info, picks, none="data", exclude=(), allow_empty=True)
+    except (ValueError, TypeError, IndexError) as err:
         unknown = _unknown_channel_names(inst, picks)
-        if not unknown:
-            raise
-        names = inst.ch_names
+        if unknown:
+            raise ValueError(
+                f"The 'picks' parameter names channel(s) not in the data: {', '.join(unknown)}. "
+                f"{listing}; channel types such as 'eeg' or 'data' are also accepted."
+            ) from err
         raise ValueError(
-            f"The 'picks' parameter names channel(s) not in the data: {', '.join(unknown)}. "
-            f"The data have {len(names)} channels ({', '.join(names[:6])}"
-            f"{', ...' if len(names) > 6 else ''}); channel types such as 'eeg' "
-            "or 'data' are also accepted."
+            f"The 'picks' parameter ({_short_repr(given)}) selects no channels of these data. "
+            f"{listing}; pass names, indices below {len(names)}, a boolean mask of "
+            f"{len(names)} values or a channel type such as 'eeg'."
         ) from err
+    _distinct_nonempty(idx, given, lambda i: names[i])
     types = inst.get_channel_types(picks=idx)
     blocked = [i for i, t in zip(idx, types) if t in _NEVER_FILTERED]
     if blocked and not (isinstance(picks, str) and picks == "all"):
@@ -384,7 +456,8 @@ def _pick_indices(inst, picks) -> np.ndarray:
             f"The 'picks' parameter selects stim channel(s) {names}; stim "
             "channels are never filtered. Pick data channels instead."
         )
-    return np.array([i for i in idx if i not in blocked], dtype=int)
+    return _distinct_nonempty(np.array([i for i in idx if i not in blocked], dtype=int),
+                              given, lambda i: names[i])
 
 
 def _unknown_channel_names(inst, picks) -> list[str]:

@@ -15,7 +15,7 @@ from __future__ import annotations
 import numpy as np
 import xarray as xr
 
-from ._checks import warn
+from ._checks import check_positive, warn
 from .adapters import as_arrays
 from .curves import GainCurve
 from .design import FilterDesign, design
@@ -104,7 +104,7 @@ def audit(filt, sfreq: float | None = None, waveform=None) -> xr.Dataset:
 
 def _design(filt, sfreq, waveform):
     if isinstance(filt, FilterDesign):
-        if sfreq is not None and float(sfreq) != filt.sfreq:
+        if sfreq is not None and check_positive("sfreq", sfreq) != filt.sfreq:
             raise ValueError(
                 f"The 'sfreq' parameter ({sfreq!r}) differs from the design's "
                 f"({filt.sfreq:g} Hz); leave it out or design again."
@@ -115,8 +115,8 @@ def _design(filt, sfreq, waveform):
             "The 'filt' parameter must be a GainCurve or a FilterDesign, but got "
             f"{type(filt).__name__} instead."
         )
-    if sfreq is None and waveform is not None and not isinstance(waveform, np.ndarray):
-        sfreq = as_arrays(waveform).sfreq
+    if sfreq is None and waveform is not None and not isinstance(waveform, (np.ndarray, list, tuple)):
+        sfreq = as_arrays(waveform, name="waveform").sfreq
     if sfreq is None:
         raise ValueError("The 'sfreq' parameter is required with a GainCurve, e.g. sfreq=500.0.")
     return design(filt, sfreq), float(sfreq)
@@ -134,9 +134,20 @@ def _components(filt, sfreq, waveform):
         for name, wave, latency, width, amp in _ERP_COMPONENTS:
             out[name] = (wave, amp * np.exp(-0.5 * ((times - latency) / width) ** 2))
         return out, times, "a.u."
-    signals = as_arrays(waveform, sfreq=sfreq)
-    if signals.data.ndim != 2 or signals.kind == "epochs":
-        raise ValueError("The 'waveform' parameter must be an Evoked or a 1-D array.")
+    if isinstance(waveform, (list, tuple)):
+        waveform = np.asarray(waveform, dtype=float)
+    signals = as_arrays(waveform, sfreq=sfreq, name="waveform")
+    if signals.kind == "epochs" or (signals.kind == "array" and waveform.ndim != 1):
+        raise ValueError(
+            "The 'waveform' parameter must be an Evoked or a 1-D array (one waveform), but "
+            f"got {'Epochs' if signals.kind == 'epochs' else f'shape {waveform.shape}'}; "
+            "average epochs first, or pass one row."
+        )
+    if not np.abs(signals.data).max() > 0:
+        raise ValueError(
+            "The 'waveform' parameter is zero everywhere: there is nothing whose distortion "
+            "could be measured."
+        )
     row = int(np.argmax(np.abs(signals.data).max(axis=-1)))
     name = signals.ch_names[row] if signals.kind != "array" else "waveform"
     reach = filt.support  # isolated: zero for the kernel's reach on both sides

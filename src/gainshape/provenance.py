@@ -176,8 +176,8 @@ def history(inst) -> History:
     info = getattr(inst, "info", None)
     if info is None:
         raise TypeError(
-            f"{type(inst).__name__} objects carry no history; for arrays, call "
-            "gainshape.apply(..., return_step=True) to get the step record."
+            f"The 'inst' parameter is a {type(inst).__name__}, which carries no history; "
+            "for arrays, call gainshape.apply(..., return_step=True) to get the step record."
         )
     _, lines = _split_description(info.get("description"))
     steps, damaged = History(), []

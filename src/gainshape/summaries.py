@@ -32,6 +32,7 @@ _WINDOW_SECONDS = 16.0
 _WINDOW = "blackmanharris"  # -92 dB side lobes: EEG spectra span > 60 dB (drift vs bands)
 _MAIN_LOBE_BINS = 4  # half-width of the 4-term Blackman-Harris main lobe, in bins (Harris 1978)
 _UNMEASURABLE = 1e-8  # input PSD below this fraction of its channel median
+_MIN_SAMPLES = 16  # shortest record a spectrum is estimated from
 _OBSERVED_WINDOW_SECONDS = 40.0  # main lobe +-0.1 Hz: half of 0.2 Hz
 
 
@@ -178,7 +179,13 @@ def observed_gain(before, after, *, sfreq=None) -> xr.DataArray:
 
 
 def _matched(before, after, sfreq):
-    a, b = as_arrays(before, sfreq=sfreq), as_arrays(after, sfreq=sfreq)
+    a = as_arrays(before, sfreq=sfreq, name="before")
+    b = as_arrays(after, sfreq=sfreq, name="after")
+    if a.data.shape[-1] < _MIN_SAMPLES:
+        raise ValueError(
+            f"The 'before' data hold {a.data.shape[-1]} samples per record; a spectrum needs "
+            f"at least {_MIN_SAMPLES} (and bands need seconds of data)."
+        )
     for what, va, vb in (("sampling rates", a.sfreq, b.sfreq), ("channels", a.ch_names, b.ch_names),
                          ("shapes", a.data.shape, b.data.shape), ("kinds", a.kind, b.kind)):
         if va != vb:

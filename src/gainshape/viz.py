@@ -59,6 +59,7 @@ def plot_design(design, *, fmin=None, show=True):
     """
     import matplotlib.pyplot as plt
 
+    _check_result(design, "design", ("kernel", "characteristics"), "gs.design(curve, sfreq)")
     freqs = design_frequencies(design, fmin)
     requested = design.requested_gain(freqs)
     realized = design.realized_gain(freqs)
@@ -263,6 +264,7 @@ def plot_band_change(ds, *, show=True):
     """
     import matplotlib.pyplot as plt
 
+    _check_result(ds, "ds", ("change_db", "band_resolved"), "gs.band_change(before, after)")
     change = band_change_map(ds)
     lim = min(max(float(np.nanmax(np.abs(change))), 0.1), _MAP_LIMIT_DB)
     n_ch, n_band = change.shape
@@ -322,6 +324,7 @@ def plot_observed_gain(da, design=None, *, show=True):
     """
     import matplotlib.pyplot as plt
 
+    _check_result(da, "da", ("frequency",), "gs.observed_gain(before, after)")
     freqs = da.frequency.values
     keep = freqs > 0
     gains = da.values[:, keep]
@@ -375,6 +378,7 @@ def plot_audit(ds, *, tmin=-0.5, tmax=2.0, show=True):
     """
     import matplotlib.pyplot as plt
 
+    _check_result(ds, "ds", ("original", "filtered", "component_filtered"), "gs.audit(filt)")
     names = [str(w) for w in ds.waveform.values]
     t = ds.time.values
     fig, axes = plt.subplots(len(names), 1, figsize=(9, 2.6 * len(names) + 0.5),
@@ -418,6 +422,15 @@ def _mark_component(ax, t, alone, row):
         ax.plot([t[idx]], [alone[idx]], marker="o", color="C3", linestyle="none")
         ax.annotate(f"{pct:.0f}% {side}", (t[idx], alone[idx]), textcoords="offset points",
                     xytext=(4, -10 * np.sign(peak)), fontsize="x-small", color="C3")
+
+
+def _check_result(value, name, needed, made_by):
+    """TypeError naming the parameter unless ``value`` has the ``needed`` parts."""
+    if not all(hasattr(value, part) for part in needed):
+        raise TypeError(
+            f"The '{name}' parameter must be the result of {made_by}, but got "
+            f"{type(value).__name__}."
+        )
 
 
 def design_frequencies(design, fmin=None) -> np.ndarray:
