@@ -182,3 +182,44 @@ def test_flat_request_warns_that_it_only_scales():
     # a curve drawn entirely above Nyquist is constant below it: nothing is filtered
     with pytest.warns(gs.GainshapeWarning, match="constant .* only scales"):
         gs.design(gs.GainCurve.from_points([200.0, 300.0], [1.0, 0.0]), 250.0)
+
+
+def test_random_drawn_curves_design_or_refuse_clearly():
+    # common practice (no source): fuzzing with seeded random input; every
+    # outcome is a design that meets the tolerance, one that says it does not,
+    # or a ValueError; never another exception. Timing: benchmarks/fuzz_design.py.
+    import warnings
+
+    rng = np.random.default_rng(3)
+    outcomes = {"met": 0, "said unmet": 0, "refused": 0}
+    for _ in range(300):
+        sfreq = float(rng.choice([100.0, 128.0, 250.0, 256.0, 500.0]))
+        freqs = np.unique(np.exp(rng.uniform(np.log(0.5), np.log(sfreq), int(rng.integers(2, 8)))))
+        gains = rng.uniform(0.0, 1.0, freqs.size)
+        gains = np.round(gains) if rng.random() < 0.3 else gains
+        scale = "log" if rng.random() < 0.5 else "linear"
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            try:
+                f = gs.design(gs.GainCurve.from_points(freqs, gains, freq_scale=scale), sfreq,
+                              causal=bool(rng.random() < 0.3))
+            except ValueError as err:
+                assert "'" in str(err) or "Nyquist" in str(err), str(err)
+                outcomes["refused"] += 1
+                continue
+        said = any("realizes the request only to within" in str(w.message) for w in caught)
+        if f.characteristics.max_deviation <= f.tolerance:
+            outcomes["met"] += 1
+        else:
+            assert said, (freqs, gains, sfreq)
+            outcomes["said unmet"] += 1
+        assert np.isfinite(f.characteristics.length) and f.kernel.size >= 1
+    assert outcomes["met"] > 200  # most drawn curves are realizable
+
+
+def test_long_kernel_gets_a_note():
+    # the 0.05 Hz, 24 dB/octave high-pass needs about 93 s at 1000 Hz (measured)
+    f = gs.design(gs.highpass(0.05, rolloff=24.0), 1000.0)
+    assert f.characteristics.length > 60
+    assert any(n.startswith(f"the kernel is {f.characteristics.length:.0f} s long") for n in f.notes)
+    assert not gs.design(gs.highpass(0.5), 1000.0).notes

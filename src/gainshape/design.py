@@ -28,6 +28,8 @@ _TAPER_FRACTION = 0.125  # outer eighth of each side of the kernel is tapered
 _MIN_DENSE = 2**14
 _MAX_DENSE = 2**22
 KERNEL_WORDS = ("shortest", "exact")  # the words design's ``kernel`` accepts besides seconds
+_LONG_KERNEL_SECONDS = 60.0  # longer kernels get a note
+_MAX_KERNEL_SECONDS = 600.0  # longer ones are refused: no EEG record could use them
 _RINGING_LEVEL = 0.01  # ringing lasts while |h| exceeds 1% (-40 dB) of its peak
 
 
@@ -389,6 +391,10 @@ def design(
             f"A kernel of {taps.size / sfreq:.3g} s realizes the request only to "
             f"within {chars.max_deviation:.3g} (tolerance {tolerance:g}); {fix}"
         )
+    if chars.length > _LONG_KERNEL_SECONDS:
+        notes += (f"the kernel is {chars.length:.0f} s long (over {_LONG_KERNEL_SECONDS:g} s): "
+                  "records shorter than a few times that are mostly padding where it reaches; "
+                  "a gentler or higher low-frequency edge shortens it",)
     return FilterDesign(curve, sfreq, causal, kernel_request, tolerance, taps, offset, chars, notes)
 
 
@@ -450,6 +456,11 @@ def phase_words(causal: bool, group_delay: float) -> str:
 # -- kernel realization -------------------------------------------------------
 def _requested_taps(seconds: float, sfreq: float) -> int:
     """Kernel samples for a length in seconds, within what the design grid holds."""
+    if seconds > _MAX_KERNEL_SECONDS:
+        raise ValueError(
+            f"The 'kernel' parameter must be at most {_MAX_KERNEL_SECONDS:g} s, but got "
+            f"{seconds:g} s; use kernel='shortest' for the shortest kernel within tolerance."
+        )
     n_taps = max(1, int(round(seconds * sfreq)))
     if n_taps > _MAX_DENSE // 2:
         raise ValueError(
@@ -504,19 +515,20 @@ class _Realizer:
         """
         target = 0.95 * self.tol
         ok = lambda taps: self.deviation(*self.of_length(taps)) <= target  # noqa: E731
-        hi = self._l1_guess()
+        limit = min(self.n // 2, int(_MAX_KERNEL_SECONDS * self.sfreq))
+        hi = min(self._l1_guess(), limit)
         while not ok(hi):
-            if hi >= self.n // 2:
-                best = self.deviation(*self.of_length(self.n // 2))
+            if hi >= limit:
+                best = self.deviation(*self.of_length(limit))
                 raise ValueError(
                     "The requested gain cannot be realized within tolerance "
-                    f"{self.tol:g} by any kernel up to {self.n / 2 / self.sfreq:.4g} s "
-                    f"at {self.sfreq:g} Hz (best: {best:.3g}): it has a jump, a kink "
-                    "or an extremely steep or narrow feature. Use a gentler "
-                    "roll-off, a wider notch, a larger 'tolerance', or a kernel "
-                    "length in seconds."
+                    f"{self.tol:g} by any kernel up to {limit / self.sfreq:.4g} s "
+                    f"at {self.sfreq:g} Hz (best: {best:.3g}): it has a jump, a kink, "
+                    "or a feature too steep, too narrow or too low in frequency. Use a "
+                    "gentler roll-off, a wider notch, a higher edge, a larger "
+                    "'tolerance', or a kernel length in seconds."
                 )
-            hi = min(2 * hi, self.n // 2)
+            hi = min(2 * hi, limit)
         lo = max(2, hi // 4)
         while lo > 2 and ok(lo):
             lo, hi = max(2, lo // 4), lo
@@ -794,21 +806,20 @@ def edge_groups(edges, directions, half_power, rolloff):
 
 
 def _hidden_notches(freqs, gain, edges, floor) -> int:
-    """Count narrow nulls in stop bands: 20 dB below the largest gain on each
-    side within 10 % of their frequency, where the gain 10 % away stands
-    above ``floor`` on both sides (so the ripple at the foot of a steep edge
-    is not one)."""
+    """Count narrow nulls in stop bands: local minima 20 dB below the gain
+    10 % of their frequency away on both sides, where that gain stands above
+    ``floor`` (so the ripple at the foot of a steep edge is not one), outside
+    the stop bands between half-amplitude edges."""
     inner = np.flatnonzero((gain[1:-1] < gain[:-2]) & (gain[1:-1] <= gain[2:]) & (gain[1:-1] < 0.5)) + 1
     lo = np.minimum(np.searchsorted(freqs, 0.9 * freqs[inner]), inner - 1)
     hi = np.minimum(np.searchsorted(freqs, 1.1 * freqs[inner], side="right"), freqs.size - 1)
-    keep = np.minimum(gain[lo], gain[hi]) > floor
-    count = 0
-    for i, a, b in zip(inner[keep], lo[keep], hi[keep]):
-        f, top = freqs[i], min(gain[a:i].max(), gain[i + 1 : b + 1].max())
-        inside_pair = any(x < f < y for x, y in zip(edges[:-1], edges[1:]) if x.direction == "falling")
-        if gain[i] < 0.1 * top and not inside_pair:
-            count += 1
-    return count
+    beside = np.minimum(gain[lo], gain[hi])
+    nulls = inner[(beside > floor) & (gain[inner] < 0.1 * beside)]
+    pairs = [(float(x), float(y)) for x, y in zip(edges[:-1], edges[1:]) if x.direction == "falling"]
+    inside_pair = np.zeros(nulls.size, dtype=bool)
+    for x, y in pairs:
+        inside_pair |= (freqs[nulls] > x) & (freqs[nulls] < y)
+    return int(np.count_nonzero(~inside_pair))
 
 
 def _kind(edges, gain_dc, gain_nyq, hidden_notches=0) -> str:
