@@ -227,3 +227,20 @@ def test_replay_array_step():
     y, step = gs.apply(x, gs.lowpass(20.0), sfreq=250.0, picks=[0, 2], return_step=True)
     np.testing.assert_array_equal(gs.replay([step], x), y)
     assert step["application"]["rows"] == [0, 2]
+
+
+def test_export_keeps_the_record_beside_the_file(filtered, tmp_path):
+    pytest.importorskip("pybv")
+    out = filtered.copy().pick(["Fz", "Cz", "Pz", "Oz"])
+    sidecar, vhdr = gs.export(out, tmp_path / "rec.vhdr")
+    record = json.loads(sidecar.read_text())
+    assert [s["id"] for s in record["history"]] == [s["id"] for s in gs.history(out)]
+    assert record["SoftwareFilters"] == gs.bids_filters(out)
+    assert record["methods"] == gs.methods_text(out)
+    back = mne.io.read_raw_brainvision(vhdr, preload=True, verbose=False)
+    np.testing.assert_allclose(back.get_data(), out.get_data(), atol=1e-7)  # BrainVision resolution
+    assert gs.history(back) == []  # the format itself keeps no history: the sidecar does
+    with pytest.raises(FileExistsError, match="overwrite=True"):
+        gs.export(out, tmp_path / "rec.vhdr")
+    assert sorted(p.name for p in tmp_path.iterdir()) == [
+        "rec.eeg", "rec.gainshape.json", "rec.vhdr", "rec.vmrk"]

@@ -5,7 +5,7 @@ from .adapters import apply, replay
 from .curves import GainCurve, bandpass, bandstop, highpass, lowpass, notch
 from .design import FilterDesign, design
 from .audit import audit
-from .provenance import bids_filters, history, methods_text, write_bids_filters
+from .provenance import bids_filters, export, history, methods_text, write_bids_filters
 from .summaries import band_change, observed_gain
 from .viz import plot_audit, plot_band_change, plot_observed_gain
 
@@ -22,6 +22,7 @@ __all__ = [
     "bids_filters",
     "bandstop",
     "design",
+    "export",
     "highpass",
     "history",
     "lowpass",

@@ -15,6 +15,7 @@ import html
 import json
 import platform
 import uuid
+from pathlib import Path
 
 import numpy as np
 import xxhash
@@ -27,6 +28,7 @@ __all__ = [
     "History",
     "usable_steps",
     "bids_filters",
+    "export",
     "fingerprint",
     "history",
     "make_step",
@@ -285,6 +287,61 @@ def write_bids_filters(bids_path, inst) -> None:
     content["SoftwareFilters"] = filters
     with atomic_output(sidecar.fpath) as staged:
         staged.write_text(json.dumps(content, indent=4) + "\n", encoding="utf-8")
+
+
+def export(inst, fname, *, overwrite: bool = False, **export_options) -> list:
+    """Export a filtered Raw to BrainVision, EDF or EEGLAB, keeping its filter record.
+
+    ``mne.export.export_raw`` writes formats that have no place for
+    gainshape's history: exporting with it directly loses the record. This
+    writes the export and, beside it, ``<name>.gainshape.json`` holding the
+    history, the BIDS ``SoftwareFilters`` object and the methods paragraph.
+    Every file is written whole or not at all.
+
+    Parameters
+    ----------
+    inst : mne.io.Raw
+    fname : str | Path
+        The export's file name; its extension picks the format (``.vhdr``,
+        ``.edf``, ``.set``), as in ``mne.export.export_raw``.
+    overwrite : bool
+        Replace existing files.
+    **export_options
+        Passed to ``mne.export.export_raw`` (e.g. ``physical_range``).
+
+    Returns
+    -------
+    list of Path
+        The sidecar's path, then the export's.
+
+    Examples
+    --------
+    >>> import mne, numpy as np, tempfile, pathlib, gainshape as gs
+    >>> raw = mne.io.RawArray(np.zeros((1, 1000)), mne.create_info(["Cz"], 250.0, "eeg"), verbose=False)
+    >>> out = gs.apply(raw, gs.lowpass(30.0))
+    >>> paths = export(out, pathlib.Path(tempfile.mkdtemp()) / "rec.vhdr")  # doctest: +SKIP
+    """
+    import mne
+
+    if not isinstance(inst, mne.io.BaseRaw):
+        raise TypeError(
+            "The 'inst' parameter must be an mne.io.Raw (export epochs and evoked data "
+            f"through MNE and write gs.history yourself), but got {type(inst).__name__}."
+        )
+    fname = Path(fname)
+    sidecar = fname.with_name(fname.stem + ".gainshape.json")
+    existing = [p for p in (fname, sidecar) if p.exists()]
+    if existing and not overwrite:
+        raise FileExistsError(f"{existing[0]} exists; pass overwrite=True to replace it "
+                              "(nothing was written).")
+    steps = history(inst)
+    record = {"history": list(steps), "SoftwareFilters": bids_filters(inst),
+              "methods": methods_text(inst)}
+    with atomic_output(sidecar) as staged:
+        staged.write_text(json.dumps(record, indent=2) + "\n", encoding="utf-8")
+    with atomic_output(fname) as staged:
+        mne.export.export_raw(staged, inst, overwrite=True, verbose=False, **export_options)
+    return [sidecar, fname]
 
 
 # -- helpers --------------------------------------------------------------------
