@@ -197,3 +197,17 @@ def test_byte_swapped_array_filters_like_native(rng):
     out = gs.apply(swapped, gs.lowpass(30.0), sfreq=250.0)
     np.testing.assert_array_equal(out, gs.apply(x, gs.lowpass(30.0), sfreq=250.0))
     assert out.dtype.isnative
+
+
+def test_design_applies_to_a_rate_a_few_ppm_away_and_records_the_shift(rng):
+    # common practice (no source): amplifier clocks differ in the ninth digit
+    x = rng.standard_normal((2, 5000))
+    f = gs.design(gs.bandpass(1.0, 40.0), 1000.0000283)
+    out, step = gs.apply(x, f, sfreq=1000.0046, return_step=True)
+    np.testing.assert_array_equal(out, gs.apply(x, f, sfreq=f.sfreq))
+    shift = step["application"]["cutoff_shift_hz"]
+    expected = [float(e) * (1000.0046 / 1000.0000283 - 1) for e in f.characteristics.half_amplitude]
+    np.testing.assert_allclose(shift, expected, rtol=1e-12)
+    assert step["application"]["data_sfreq"] == 1000.0046
+    with pytest.raises(ValueError, match=r"made at 1000.0000283 Hz .* 1000.0203 Hz .*20.3 parts"):
+        gs.apply(x, f, sfreq=1000.0203)

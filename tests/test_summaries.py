@@ -126,3 +126,13 @@ def test_default_bands_above_nyquist_are_left_out_with_a_warning(rng):
     assert list(ds.band.values) == ["slow", "delta", "theta", "alpha", "beta"]
     with pytest.raises(ValueError, match="Nyquist"):  # bands the user names still must fit
         gs.band_change(x, x, bands={"high": (30.0, 45.0)}, sfreq=80.0)
+
+
+@pytest.mark.parametrize("sfreq", [500.0000001, 1000.0000283])
+def test_slow_band_resolved_at_rates_just_off_an_integer(sfreq):
+    # common practice (no source): amplifier clocks give rates such as
+    # 1000.0000283 Hz; an 80 s window of whole samples must still count as 80 s
+    x = np.random.default_rng(0).standard_normal((2, int(85 * sfreq)))
+    ds = gs.band_change(x, 0.5 * x, sfreq=sfreq)
+    assert bool(ds.band_resolved.sel(band="slow"))
+    np.testing.assert_allclose(ds.change_db.sel(band="slow"), 20 * np.log10(0.5), atol=1e-9)

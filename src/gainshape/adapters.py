@@ -19,7 +19,7 @@ from ._checks import check_bool, check_option, check_positive, warn
 from .curves import GainCurve
 from .design import FilterDesign, check_kernel_request, design
 from .engine import PAD_MODES, check_finite, fft_workers, filter_array
-from .provenance import fingerprint, history, make_step, store_step, usable_steps
+from .provenance import RATE_PPM, fingerprint, history, make_step, same_rate, store_step, usable_steps
 
 __all__ = ["apply", "replay", "as_arrays", "Signals"]
 
@@ -166,7 +166,8 @@ def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
 
     def record(after):
         return make_step(filt, channels=names, pad=pad, nan=nan, segments=seconds,
-                         dtype=str(data.dtype), before=before, after=after)
+                         dtype=str(data.dtype), before=before, after=after,
+                         data_sfreq=inst.info["sfreq"])
 
     try:
         filter_array(
@@ -192,13 +193,14 @@ def _apply_lazy(raw, filt, idx, pad, nan, n_jobs):
     out = filtered_raw(raw, filt, idx, pad, n_jobs, segments)
     seconds = [[a / filt.sfreq, b / filt.sfreq] for a, b in segments]
     step = make_step(filt, channels=[raw.ch_names[i] for i in idx], pad=pad, nan=nan,
-                     segments=seconds, dtype="float64", before=None, after=None)
+                     segments=seconds, dtype="float64", before=None, after=None,
+                     data_sfreq=raw.info["sfreq"])
     step["application"]["lazy"] = True
     return out, step
 
 
 def _check_sfreq(inst, sfreq):
-    if sfreq is not None and check_positive("sfreq", sfreq) != inst.info["sfreq"]:
+    if sfreq is not None and not same_rate(check_positive("sfreq", sfreq), inst.info["sfreq"]):
         raise ValueError(
             f"The 'sfreq' parameter ({sfreq!r}) differs from the data's "
             f"info['sfreq'] ({inst.info['sfreq']!r}); leave it out for MNE objects."
@@ -302,7 +304,7 @@ def _apply_array(data, filt, sfreq, picks, pad, options, nan, n_jobs, copy, verb
     )
     step = make_step(filt, channels=[f"row {c}" for c in np.atleast_1d(channels)], pad=pad,
                      nan=nan, segments=None, dtype=str(data.dtype), before=before,
-                     after=fingerprint(out.reshape(-1, out.shape[-1]), rows))
+                     after=fingerprint(out.reshape(-1, out.shape[-1]), rows), data_sfreq=sfreq)
     step["application"]["rows"] = [int(c) for c in np.atleast_1d(channels)]
     return out, step
 
@@ -326,10 +328,12 @@ def _design_options(filt, causal, kernel, tolerance) -> dict:
 
 def _realize(filt, sfreq, options) -> FilterDesign:
     if isinstance(filt, FilterDesign):
-        if filt.sfreq != float(sfreq):
-            raise ValueError(
-                f"The design was made for {filt.sfreq:g} Hz but the data are "
-                f"sampled at {float(sfreq):g} Hz; design the curve again at this rate."
+        if not same_rate(filt.sfreq, sfreq):
+            raise ValueError(  # full digits: the rates may differ in the ninth
+                f"The 'filt' design was made at {float(filt.sfreq)!r} Hz but the data are "
+                f"sampled at {float(sfreq)!r} Hz ({abs(sfreq / filt.sfreq - 1) * 1e6:.3g} parts per million apart; "
+                f"up to {RATE_PPM:g} are accepted). Design the curve again at the data's "
+                "rate: gs.design(filt.curve, <the data's sfreq>)."
             )
         return filt
     return design(filt, sfreq, **options)

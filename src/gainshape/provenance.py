@@ -80,7 +80,20 @@ class History(list):
         return f"<table><tr>{head}</tr>{''.join(rows)}</table>"
 
 
-def make_step(design, *, channels, pad, nan, segments, dtype, before, after) -> dict:
+RATE_PPM = 10.0  # a design applies to data whose rate differs by at most this many ppm
+
+
+def same_rate(a: float, b: float) -> bool:
+    """Rates equal to within :data:`RATE_PPM` parts per million.
+
+    >>> same_rate(1000.0000283, 1000.0046), same_rate(1000.0, 1000.1)
+    (True, False)
+    """
+    return abs(a - b) <= RATE_PPM * 1e-6 * abs(b)
+
+
+def make_step(design, *, channels, pad, nan, segments, dtype, before, after,
+              data_sfreq=None) -> dict:
     """The record of one application (see :func:`gainshape.apply`).
 
     Parameters
@@ -96,6 +109,10 @@ def make_step(design, *, channels, pad, nan, segments, dtype, before, after) -> 
         The data's dtype.
     before, after : str
         Fingerprints of the filtered channels before and after.
+    data_sfreq : float | None
+        The data's sampling rate, when it differs slightly from the
+        design's: the step then records how far each cutoff moved (a
+        kernel's frequencies scale with the rate it runs at).
     """
     curve = design.curve
     try:
@@ -118,11 +135,21 @@ def make_step(design, *, channels, pad, nan, segments, dtype, before, after) -> 
             "notes": list(design.notes),
         },
         "realized": design.characteristics.to_dict(),
-        "application": {"pad": pad, "nan": nan, "segments": segments, "dtype": dtype},
+        "application": {"pad": pad, "nan": nan, "segments": segments, "dtype": dtype,
+                        **_rate_shift(design, data_sfreq)},
         "channels": list(channels),
         "fingerprint_before": before,
         "fingerprint_after": after,
     }
+
+
+def _rate_shift(design, data_sfreq) -> dict:
+    """The data's rate and each half-amplitude cutoff's shift (Hz), if the rates differ."""
+    if data_sfreq is None or data_sfreq == design.sfreq:
+        return {}
+    scale = data_sfreq / design.sfreq - 1.0
+    return {"data_sfreq": float(data_sfreq),
+            "cutoff_shift_hz": [float(e) * scale for e in design.characteristics.half_amplitude]}
 
 
 def software_versions() -> dict:

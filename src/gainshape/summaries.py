@@ -164,7 +164,7 @@ def observed_gain(before, after, *, sfreq=None) -> xr.DataArray:
     freqs, pxx = welch(x, fs=a.sfreq, **settings)
     _, pxy = csd(x, y, fs=a.sfreq, **settings)
     floor = _UNMEASURABLE * np.median(pxx, axis=-1, keepdims=True)
-    measurable = (pxx > floor) & (freqs >= 2 * _MAIN_LOBE_BINS * freqs[1])
+    measurable = (pxx > floor) & (np.arange(freqs.size) >= 2 * _MAIN_LOBE_BINS)
     with np.errstate(divide="ignore", invalid="ignore"):
         gain = np.where(measurable, np.abs(pxy) / pxx, np.nan)
     return xr.DataArray(
@@ -236,7 +236,7 @@ def _resolved(bands, seconds) -> np.ndarray:
     their neighbours: the main lobe is at most half the low edge and at most
     the band's width. Warns, naming the others and the fix."""
     lobes = [_MAIN_LOBE_BINS / t for t in seconds]
-    resolved = np.array([lobe <= hi - lo and (lo == 0 or lobe <= lo / 2)
+    resolved = np.array([_at_most(lobe, hi - lo) and (lo == 0 or _at_most(lobe, lo / 2))
                          for (lo, hi), lobe in zip(bands.values(), lobes)])
     if not resolved.all():
         bad = [(n, t, lobe) for n, t, lobe, ok in zip(bands, seconds, lobes, resolved) if not ok]
@@ -249,6 +249,16 @@ def _resolved(bands, seconds) -> np.ndarray:
             stacklevel=4,
         )
     return resolved
+
+
+def _at_most(value: float, limit: float) -> bool:
+    """``value <= limit`` up to one part per million: window lengths are whole
+    samples, so at a rate such as 1000.0000283 Hz an 80 s window is 79.99999774 s.
+
+    >>> _at_most(4 / 79.99999774, 0.05), _at_most(0.0501, 0.05)
+    (True, False)
+    """
+    return value <= limit * (1 + 1e-6)
 
 
 def _default_bands(signals) -> dict:

@@ -108,7 +108,7 @@ CASES = [
     ("sfreq disagrees with info", lambda mk: mk(),
      lambda a: gs.apply(a, gs.lowpass(30.0), sfreq=500.0), ValueError, "'sfreq'"),
     ("design at other rate", lambda mk: mk(),
-     lambda a: gs.apply(a, gs.design(gs.lowpass(30.0), 500.0)), ValueError, "500 Hz"),
+     lambda a: gs.apply(a, gs.design(gs.lowpass(30.0), 500.0)), ValueError, "made at 500.0 Hz"),
     ("integer array", lambda mk: np.ones((2, 100), dtype=int),
      lambda a: gs.apply(a, gs.lowpass(30.0), sfreq=250.0), TypeError, "float32 or float64"),
     ("filter given as string", lambda mk: _array(),
