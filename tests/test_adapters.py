@@ -211,3 +211,19 @@ def test_design_applies_to_a_rate_a_few_ppm_away_and_records_the_shift(rng):
     assert step["application"]["data_sfreq"] == 1000.0046
     with pytest.raises(ValueError, match=r"made at 1000.0000283 Hz .* 1000.0203 Hz .*20.3 parts"):
         gs.apply(x, f, sfreq=1000.0203)
+
+
+def test_progress_follows_verbose_and_mne_log_level(capsys, make_raw):
+    raw = make_raw(seconds=40.0)
+    gs.apply(raw, gs.lowpass(30.0), verbose=True)
+    err = capsys.readouterr().err
+    assert "filtering" in err and "0/40 s [" in err and "TqdmWarning" not in err
+    gs.apply(raw, gs.lowpass(30.0), verbose=False)
+    assert capsys.readouterr().err == ""
+    with mne.utils.use_log_level("ERROR"):
+        gs.apply(raw, gs.lowpass(30.0), verbose=None)
+    assert capsys.readouterr().err == ""
+    epochs = mne.Epochs(raw, mne.make_fixed_length_events(raw, duration=2.0), tmin=0.0, tmax=1.5,
+                        baseline=None, preload=True, verbose=False)
+    gs.apply(epochs, gs.lowpass(30.0), verbose=True)
+    assert f"0/{len(epochs)} epoch" in capsys.readouterr().err

@@ -92,8 +92,8 @@ def test_short_segment_warns_with_numbers(rng):
         filter_array(x, design, segments=[(0, 100), (100, 6000)])
 
 
-def test_progress_bar_silent_when_not_verbose(capsys, rng):
-    filter_array(rng.standard_normal((2, 3000)), DESIGN, verbose=False)
+def test_progress_bar_silent_without_a_plan(capsys, rng):
+    filter_array(rng.standard_normal((2, 3000)), DESIGN)
     assert capsys.readouterr().err == ""
 
 
@@ -126,9 +126,24 @@ def test_blocks_in_time_equal_one_fft_over_the_record(binding, rng, monkeypatch)
     np.testing.assert_allclose(in_place, expected, atol=1e-12)
 
 
-def test_progress_bar_shown_when_verbose(capsys, rng):
-    filter_array(rng.standard_normal((2, 3000)), DESIGN, verbose=True)
-    assert "filtering" in capsys.readouterr().err
+def test_progress_bar_counts_the_planned_units(monkeypatch, rng):
+    import tqdm.std
+
+    from gainshape.engine import Progress
+
+    seen = {}
+
+    class Recorder(tqdm.std.tqdm):
+        def close(self):
+            seen.update(n=self.n, total=self.total, unit=self.unit)
+            super().close()
+
+    monkeypatch.setattr(tqdm.std, "tqdm", Recorder)
+    x = rng.standard_normal((2, 3000))  # 12 s at 250 Hz
+    filter_array(x, DESIGN, segments=[(0, 1000), (1000, 3000)],
+                 progress=Progress("s", 12.0, 1 / (2 * SFREQ), always=True))
+    assert seen["unit"] == "s" and seen["total"] == 12.0
+    assert seen["n"] == pytest.approx(12.0)
 
 
 @pytest.mark.parametrize("n_fft", [4096, 1215])  # next_fast_len sizes can be odd

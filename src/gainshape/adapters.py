@@ -15,10 +15,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ._checks import check_bool, check_option, check_positive, warn
+from ._checks import check_bool, check_int, check_option, check_positive, warn
 from .curves import GainCurve
 from .design import FilterDesign, check_kernel_request, design
-from .engine import PAD_MODES, check_finite, fft_workers, filter_array
+from .engine import PAD_MODES, Progress, check_finite, fft_workers, filter_array
 from .provenance import RATE_PPM, fingerprint, history, make_step, same_rate, store_step, usable_steps
 
 __all__ = ["apply", "replay", "as_arrays", "Signals"]
@@ -90,8 +90,12 @@ def apply(
         Also return the step record (a dict). MNE objects keep it in their
         history anyway (see :func:`gainshape.history`); arrays have nowhere
         to keep it, so this is how to get theirs.
-    verbose : bool | None
-        Show a progress bar for long work (None: only when long).
+    verbose : bool | str | int | None
+        Progress bar: True shows it, False hides it; None follows MNE's log
+        level (shown for long work when the level is INFO or more detailed,
+        as by default; ``mne.set_log_level("WARNING")`` silences it); an MNE
+        level ("info", "warning", ...) applies to this call. A plain text
+        bar (no widgets), counting seconds of data, or epochs.
 
     Returns
     -------
@@ -172,7 +176,8 @@ def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
     try:
         filter_array(
             data, filt, pad=pad, segments=segments, nan=nan, n_jobs=n_jobs, rows=rows,
-            out=out_data, row_names=row_names, verbose=verbose, checked=True,
+            out=out_data, row_names=row_names, checked=True,
+            progress=_progress(verbose, kind, len(rows), data.shape[-1], inst.info["sfreq"], len(idx)),
             segment_name="Each epoch" if kind == "epochs" else None,
             short_hint=_EPOCH_HINT if kind == "epochs" else "",
         )
@@ -300,13 +305,41 @@ def _apply_array(data, filt, sfreq, picks, pad, options, nan, n_jobs, copy, verb
     before = fingerprint(flat, rows)
     out = filter_array(
         data, filt, pad=pad, nan=nan, n_jobs=n_jobs, rows=rows,
-        out=None if copy else data, verbose=verbose,
+        out=None if copy else data,
+        progress=_progress(verbose, "array", rows.size, data.shape[-1], sfreq, rows.size),
     )
     step = make_step(filt, channels=[f"row {c}" for c in np.atleast_1d(channels)], pad=pad,
                      nan=nan, segments=None, dtype=str(data.dtype), before=before,
                      after=fingerprint(out.reshape(-1, out.shape[-1]), rows), data_sfreq=sfreq)
     step["application"]["rows"] = [int(c) for c in np.atleast_1d(channels)]
     return out, step
+
+
+def _progress(verbose, kind, n_rows, n_times, sfreq, n_channels) -> Progress | None:
+    """The progress bar for ``verbose``: True shows it, False hides it, None (or
+    an MNE level name or number) shows it for long work when MNE's log level
+    is INFO or more detailed. Epochs are counted, other data in seconds."""
+    import logging
+
+    import mne
+
+    if verbose is None:
+        level = mne.utils.logger.getEffectiveLevel()
+    elif isinstance(verbose, str):
+        level = logging.getLevelName(verbose.upper())
+        if not isinstance(level, int):
+            raise ValueError(f"{verbose!r} is not a choice for 'verbose': use True, False, None "
+                             "or a logging level such as 'info' or 'warning'.")
+    elif isinstance(verbose, (bool, np.bool_)):
+        level = logging.INFO if verbose else logging.CRITICAL + 1
+    else:
+        level = check_int("verbose", verbose, minimum=0)
+    if level > logging.INFO:
+        return None
+    always = verbose is True or (isinstance(verbose, (bool, np.bool_)) and bool(verbose))
+    if kind == "epochs":
+        return Progress("epoch", n_rows / n_channels, 1.0 / (n_channels * n_times), always)
+    return Progress("s", n_times / sfreq, 1.0 / (n_rows * sfreq), always)
 
 
 def _design_options(filt, causal, kernel, tolerance) -> dict:

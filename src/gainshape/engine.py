@@ -11,13 +11,15 @@ nothing of MNE; ``design`` is any object with ``support``, ``sfreq``,
 from __future__ import annotations
 
 import os
+from contextlib import contextmanager
+from dataclasses import dataclass
 
 import numpy as np
 import scipy.fft as sfft
 
 from ._checks import check_int, check_option, warn
 
-__all__ = ["filter_array", "check_finite", "filter_span", "edge_pads", "block_plan", "PAD_MODES",
+__all__ = ["Progress", "filter_array", "check_finite", "filter_span", "edge_pads", "block_plan", "PAD_MODES",
            "convolve_rows", "spectrum_buffer", "fft_workers"]
 
 LOCAL_PAD_MODES = ("reflect", "symmetric", "edge", "constant")  # need only the ends
@@ -35,6 +37,7 @@ PAD_MODES = (
 )
 _MIN_BLOCK_BYTES = 8 * 2**20
 _BLOCK_FRACTION = 0.1  # working memory per block, as a fraction of the data
+_LONG_WORK_ROW_SAMPLES = 10_000_000  # bars for verbose=None only above this much work
 _SIMD_BYTES = 16  # pocketfft's vector width in scipy's wheels (SSE2)
 
 
@@ -52,7 +55,7 @@ def filter_array(
     segment_name: str | None = None,
     short_hint: str = "",
     checked: bool = False,
-    verbose=None,
+    progress: Progress | None = None,
 ) -> np.ndarray:
     """Filter ``data`` along its last axis with ``design``.
 
@@ -86,6 +89,8 @@ def filter_array(
         Advice appended to the warning for segments shorter than the kernel.
     checked : bool
         The caller has already checked the rows for non-finite values.
+    progress : Progress | None
+        How to show progress (see :class:`Progress`); None: silently.
 
     Returns
     -------
@@ -117,11 +122,46 @@ def filter_array(
         whole = nan == "raise" and segments == [(0, data.shape[-1])]
         untouched = np.setdiff1d(np.arange(all_rows.shape[0]), picked) if whole else slice(None)
         out_rows[untouched] = all_rows[untouched]  # picked rows are overwritten below
-    for group, group_segments in _row_groups(all_rows, picked, segments, nan):
-        for start, stop in group_segments:
-            _warn_if_short(design, start, stop, segment_name, short_hint)
-            _filter_segment(all_rows, out_rows, group, start, stop, design, pad, workers, verbose)
+    with _bar(progress, picked.size * data.shape[-1]) as advance:
+        for group, group_segments in _row_groups(all_rows, picked, segments, nan):
+            for start, stop in group_segments:
+                _warn_if_short(design, start, stop, segment_name, short_hint)
+                _filter_segment(all_rows, out_rows, group, start, stop, design, pad, workers,
+                                advance)
     return out
+
+
+@dataclass(frozen=True)
+class Progress:
+    """How a progress bar counts the work of :func:`filter_array`.
+
+    ``unit`` ("s" of recording, "epoch") with ``total`` of them; one sample
+    of one row is worth ``per_row_sample`` units. ``always``: show it even
+    for short work (else only above 10 million row samples).
+
+    Examples
+    --------
+    >>> Progress("s", 60.0, 1 / (32 * 1000.0)).total
+    60.0
+    """
+
+    unit: str
+    total: float
+    per_row_sample: float
+    always: bool = False
+
+
+@contextmanager
+def _bar(progress, row_samples):
+    """Yields ``advance(row_samples)``: moves a text progress bar (tqdm), or nothing."""
+    if progress is None or not (progress.always or row_samples > _LONG_WORK_ROW_SAMPLES):
+        yield lambda n: None
+        return
+    from tqdm.std import tqdm  # plain text: no widget warnings in Jupyter
+
+    with tqdm(total=progress.total, unit=progress.unit, desc="filtering", leave=False,
+              bar_format="{l_bar}{bar}| {n:.0f}/{total:.0f} {unit} [{elapsed}<{remaining}]") as bar:
+        yield lambda n: bar.update(n * progress.per_row_sample)
 
 
 def check_finite(rows: np.ndarray, row_names=None, sfreq=None, *, picked=None,
@@ -241,7 +281,7 @@ def _warn_if_short(design, start, stop, name, hint):
     )
 
 
-def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, verbose):
+def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, advance):
     """Filter ``rows[group, start:stop]`` into ``out_rows``, in blocks of rows
     and, for long segments, in overlapping blocks of time (overlap-save)."""
     n_seg = stop - start
@@ -252,7 +292,7 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ve
     spec = spectrum_buffer(buf)
     _keep_scratch_on_heap(2 * _SIMD_BYTES * n_fft)  # room for 32-byte SIMD builds too
     in_place = np.shares_memory(out_rows, rows)
-    for block in _progress(blocks, verbose):
+    for block in blocks:
         sel = _as_index(block)
         seg = rows[sel, start:stop]
         edges = edge_pads(seg, design.support, pad)
@@ -264,6 +304,7 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ve
             if in_place and b < n_seg:  # the next block's left context, before it is overwritten
                 carry = np.array(seg[:, b - design.support : b])
             out_rows[sel, start + a : start + b] = filtered
+            advance(block.size * (b - a))
 
 
 def block_plan(n_seg: int, n_pad: int, whole: bool = False, compact: bool = False) -> tuple[int, int]:
@@ -458,12 +499,3 @@ def _pocketfft_with_out():
 
 
 _POCKETFFT = _pocketfft_with_out()
-
-
-def _progress(blocks, verbose):
-    show = verbose is True or (verbose is None and len(blocks) > 16)
-    if not show:
-        return blocks
-    from tqdm.auto import tqdm
-
-    return tqdm(blocks, desc="filtering", unit="block", leave=False)
