@@ -227,3 +227,10 @@ def test_progress_follows_verbose_and_mne_log_level(capsys, make_raw):
                         baseline=None, preload=True, verbose=False)
     gs.apply(epochs, gs.lowpass(30.0), verbose=True)
     assert f"0/{len(epochs)} epoch" in capsys.readouterr().err
+
+
+def test_kernel_long_for_the_record_warns_with_both_lengths_and_the_edge(make_raw):
+    raw = make_raw(seconds=40.0)  # 40 s; the 0.1 Hz high-pass kernel is 22.2 s at 250 Hz
+    with pytest.warns(gs.GainshapeWarning, match=r"\(10000 samples, 40 s\) is shorter than 3 times "
+                      r"the filter's kernel \(5553 samples, 22.2 s\).*high-pass edge at 0.1 Hz"):
+        gs.apply(raw, gs.highpass(0.1))

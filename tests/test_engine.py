@@ -88,7 +88,7 @@ def test_nan_split_keeps_nan_and_filters_around(rng):
 def test_short_segment_warns_with_numbers(rng):
     x = rng.standard_normal((1, 6000))
     design = gs.design(gs.highpass(0.2), SFREQ)
-    with pytest.warns(gs.GainshapeWarning, match=r"\(100 samples, 0.4 s\) is shorter"):
+    with pytest.warns(gs.GainshapeWarning, match=r"\(100 samples, 0.4 s\) is shorter than 3 times"):
         filter_array(x, design, segments=[(0, 100), (100, 6000)])
 
 

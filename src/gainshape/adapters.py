@@ -179,7 +179,8 @@ def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
             out=out_data, row_names=row_names, checked=True,
             progress=_progress(verbose, kind, len(rows), data.shape[-1], inst.info["sfreq"], len(idx)),
             segment_name="Each epoch" if kind == "epochs" else None,
-            short_hint=_EPOCH_HINT if kind == "epochs" else "",
+            short_hint=" ".join(filter(None, [_gentlest_edge(filt),
+                                              _EPOCH_HINT if kind == "epochs" else ""])),
         )
     except BaseException:
         if out is inst:  # in place: the object itself now holds partly filtered data
@@ -305,7 +306,7 @@ def _apply_array(data, filt, sfreq, picks, pad, options, nan, n_jobs, copy, verb
     before = fingerprint(flat, rows)
     out = filter_array(
         data, filt, pad=pad, nan=nan, n_jobs=n_jobs, rows=rows,
-        out=None if copy else data,
+        out=None if copy else data, short_hint=_gentlest_edge(filt),
         progress=_progress(verbose, "array", rows.size, data.shape[-1], sfreq, rows.size),
     )
     step = make_step(filt, channels=[f"row {c}" for c in np.atleast_1d(channels)], pad=pad,
@@ -313,6 +314,16 @@ def _apply_array(data, filt, sfreq, picks, pad, options, nan, n_jobs, copy, verb
                      after=fingerprint(out.reshape(-1, out.shape[-1]), rows), data_sfreq=sfreq)
     step["application"]["rows"] = [int(c) for c in np.atleast_1d(channels)]
     return out, step
+
+
+def _gentlest_edge(filt) -> str:
+    """Which edge makes the kernel long: the lowest half-amplitude frequency."""
+    edges = filt.characteristics.half_amplitude
+    if not edges:
+        return ""
+    low = min(edges, key=float)
+    kind = "high-pass" if low.direction == "rising" else "low-pass"
+    return f"The kernel's length comes from its lowest edge, the {kind} edge at {float(low):.3g} Hz."
 
 
 def _progress(verbose, kind, n_rows, n_times, sfreq, n_channels) -> Progress | None:

@@ -37,6 +37,7 @@ PAD_MODES = (
 )
 _MIN_BLOCK_BYTES = 8 * 2**20
 _BLOCK_FRACTION = 0.1  # working memory per block, as a fraction of the data
+_SEGMENT_KERNELS = 3  # a segment shorter than this many kernels gets a warning
 _LONG_WORK_ROW_SAMPLES = 10_000_000  # bars for verbose=None only above this much work
 _SIMD_BYTES = 16  # pocketfft's vector width in scipy's wheels (SSE2)
 
@@ -268,15 +269,17 @@ def _true_runs(mask: np.ndarray):
 
 
 def _warn_if_short(design, start, stop, name, hint):
+    """Warn when the kernel is longer than a third of the segment it filters:
+    most of the segment is then within the kernel's reach of its padded ends."""
     n_kernel, sfreq = design.kernel.size, design.sfreq
-    if stop - start >= n_kernel:
+    if stop - start >= _SEGMENT_KERNELS * n_kernel:
         return
     name = name or f"The segment at {start / sfreq:.3f}-{stop / sfreq:.3f} s"
     warn(
-        f"{name} ({stop - start} samples, {(stop - start) / sfreq:.3g} s) is "
-        f"shorter than the filter's kernel ({n_kernel} samples, "
-        f"{n_kernel / sfreq:.3g} s): the result depends on the padding."
-        f"{' ' + hint if hint else ''}",
+        f"{name} ({stop - start} samples, {(stop - start) / sfreq:.3g} s) is shorter than "
+        f"{_SEGMENT_KERNELS} times the filter's kernel ({n_kernel} samples, "
+        f"{n_kernel / sfreq:.3g} s): much of it is filtered against the padding, so "
+        f"the result there depends on the padding.{' ' + hint if hint else ''}",
         stacklevel=4,
     )
 
