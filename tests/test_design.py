@@ -98,10 +98,10 @@ def test_characteristics_to_dict_is_json():
     assert d["group_delay"] > 0
 
 
-def test_ringing_grows_with_steeper_rolloff():
-    gentle = gs.design(gs.lowpass(30.0, rolloff=12.0), SFREQ).characteristics.ringing
-    steep = gs.design(gs.lowpass(30.0, rolloff=48.0), SFREQ).characteristics.ringing
-    assert steep > gentle > 0
+def test_low_pass_decay_grows_with_steeper_rolloff():
+    timing = [gs.design(gs.lowpass(30.0, rolloff=r), SFREQ).characteristics.edge_timing[0]
+              for r in (12.0, 48.0)]
+    assert timing[1].decay_s > timing[0].decay_s and timing[1].overshoot_pct > timing[0].overshoot_pct
 
 
 def test_repr_and_html():
@@ -154,19 +154,19 @@ def test_notch_is_described_by_its_stop_bands_not_by_side_slopes():
     f = gs.design(gs.highpass(1.0) * gs.notch(50.0, harmonics=2), SFREQ * 2)
     line = f.describe()
     assert "half-amplitude 1 Hz; roll-off 12.2 dB/octave; stop bands 49-51, 99-101 Hz" in line
-    rows = dict(f.summary())
-    assert rows["roll-off"] == "12.2 dB/octave (high-pass edge)"
-    assert rows["stop bands (-6 dB)"] == "49-51 Hz, 99-101 Hz"
+    rows = f.summary()
+    assert dict(rows)["roll-off"] == "12.2 dB/octave (high-pass edge)"
+    stops = [value for label, value in rows if label == "stop band"]
+    assert [v.split(" (")[0] for v in stops] == ["0-1.001 Hz", "49-51 Hz", "99-101 Hz"]
 
 
-def test_edge_groups_split_passband_edges_and_stop_bands():
-    from gainshape.design import edge_groups
+def test_passband_edges_and_removed_bands_split_the_shape():
+    from gainshape.design import passband_edges, removed_bands
 
-    c = gs.design(gs.bandpass(1.0, 40.0) * gs.notch(30.0), SFREQ).characteristics
-    passband, stops = edge_groups(c.half_amplitude, [e.direction for e in c.half_amplitude],
-                                  c.half_power, c.rolloff)
-    assert [(name, round(hz)) for name, hz, _, _ in passband] == [("high-pass", 1), ("low-pass", 40)]
-    assert [(round(lo), round(hi)) for lo, hi in stops] == [(29, 31)]
+    realized = gs.design(gs.bandpass(1.0, 40.0) * gs.notch(30.0), SFREQ).characteristics.to_dict()
+    assert [(n, round(hz)) for n, hz, _, _ in passband_edges(realized)] == [("high-pass", 1),
+                                                                             ("low-pass", 40)]
+    assert [(round(lo), round(hi)) for lo, hi, _ in removed_bands(realized)] == [(29, 31)]
 
 
 def test_design_pickles_for_worker_processes():

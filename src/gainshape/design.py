@@ -22,7 +22,7 @@ from scipy.optimize import brentq, minimize_scalar
 from ._checks import check_bool, check_positive, warn
 from .curves import GainCurve
 
-__all__ = ["design", "FilterDesign", "Characteristics", "EdgeFrequency"]
+__all__ = ["design", "FilterDesign", "Characteristics", "EdgeFrequency", "EdgeTiming", "StopBand"]
 
 _HALF_POWER = 1.0 / np.sqrt(2.0)
 _TAPER_FRACTION = 0.125  # outer eighth of each side of the kernel is tapered
@@ -35,7 +35,9 @@ _DTFT_WEIGHTS = np.array([(-1.0) ** j * math.comb(23, j) for j in range(24)])  #
 _MAX_DTFT_GRID = 2**23
 _LONG_KERNEL_SECONDS = 60.0  # longer kernels get a note
 _MAX_KERNEL_SECONDS = 600.0  # longer ones are refused: no EEG record could use them
-_RINGING_LEVEL = 0.01  # ringing lasts while |h| exceeds 1% (-40 dB) of its peak
+_TIME_LEVEL = 0.01  # settling and decay: to within 1 % (of the step, of the peak)
+_SKIRTS = ("below the high-pass edge", "above the low-pass edge")  # stop bands beyond the pass band
+_FLOOR_SPAN = 10 ** (1 / 20)  # a stop band's floor: request within 1 dB of its lowest
 
 
 class EdgeFrequency(float):
@@ -66,6 +68,72 @@ class EdgeFrequency(float):
 
 
 @dataclass(frozen=True, slots=True)
+class StopBand:
+    """A band the realized filter removes.
+
+    ``low``, ``high``: its limits (Hz): half-amplitude points, or for a
+    notch inside a wider stop band the points at half the gain beside it.
+    ``attenuation_db``: -20 log10 of the largest realized gain over the
+    band's floor, the part where the request is within 1 dB of its lowest
+    value in the band (or at most the tolerance), so the transitions into
+    the band do not count. ``kind``: "below the high-pass edge", "above the
+    low-pass edge", "notch", "band-stop" or "notch inside a stop band".
+
+    Examples
+    --------
+    >>> StopBand(49.0, 51.0, 60.2, "notch").to_dict()["attenuation_db"]
+    60.2
+    """
+
+    low: float
+    high: float
+    attenuation_db: float
+    kind: str
+
+    def to_dict(self) -> dict:
+        """Plain JSON values."""
+        return {"low": float(self.low), "high": float(self.high),
+                "attenuation_db": float(self.attenuation_db), "kind": self.kind}
+
+
+@dataclass(frozen=True, slots=True)
+class EdgeTiming:
+    """What one pass-band edge does in time, measured on that edge alone.
+
+    The realized response is split at the geometric middle of the pass
+    band, so each edge's part keeps the other side flat. For the high-pass
+    edge, from its unit step response: ``settling_s``, the time after the
+    step until the response stays within 1 % of its final value, and
+    ``opposite_pct``, its largest excursion of the opposite polarity (% of
+    the step; for zero phase this includes the part before the step). For
+    the low-pass edge: ``decay_s``, the time after t = 0 until the impulse
+    response's envelope stays below 1 % of its peak, and ``overshoot_pct``,
+    the step response's largest overshoot (%). Figures that do not apply
+    to an edge are None.
+
+    Examples
+    --------
+    >>> from gainshape import lowpass
+    >>> t = design(lowpass(30.0), 250.0).characteristics.edge_timing[0]
+    >>> t.edge, t.decay_s > 0, t.settling_s is None
+    ('low-pass', True, True)
+    """
+
+    edge: str
+    cutoff: float
+    settling_s: float | None
+    opposite_pct: float | None
+    decay_s: float | None
+    overshoot_pct: float | None
+
+    def to_dict(self) -> dict:
+        """Plain JSON values (None where a figure does not apply)."""
+        return {"edge": self.edge, "cutoff": float(self.cutoff),
+                **{k: getattr(self, k) for k in
+                   ("settling_s", "opposite_pct", "decay_s", "overshoot_pct")}}
+
+
+@dataclass(frozen=True, slots=True)
 class Characteristics:
     """The realized filter in the field's terms (all computed, none assumed).
 
@@ -87,14 +155,18 @@ class Characteristics:
     passband_ripple_db : float
         Largest |20 log10(realized / requested)| where the request is at least
         1/sqrt(2).
+    stop_bands : tuple of StopBand
+        Every stop band of the realized gain: each run below 0.5 between
+        half-amplitude points (below a high-pass edge, above a low-pass edge,
+        notches, band-stops, drawn floors) and each notch inside such a run
+        (a null 20 dB below the gain 10 % of its frequency away), with its
+        attenuation (see :class:`StopBand`).
     stopband_attenuation_db : float
-        -20 log10 of the largest realized gain where the request is at or
-        below the tolerance (NaN if the request never gets that low).
+        The smallest attenuation of any stop band (NaN if there is none).
     max_deviation : float
         Largest |realized - requested| gain difference on a fine grid.
-    ringing : float
-        Seconds from the impulse response's peak to the last sample whose
-        magnitude exceeds 1% (-40 dB) of the peak.
+    edge_timing : tuple of EdgeTiming
+        Time behaviour of each pass-band edge (see :class:`EdgeTiming`).
     group_delay : float
         Seconds; 0 for zero phase; for minimum phase the gain-squared-weighted
         mean group delay over the half-power passband.
@@ -107,9 +179,10 @@ class Characteristics:
     half_power: tuple
     rolloff: tuple
     passband_ripple_db: float
+    stop_bands: tuple
     stopband_attenuation_db: float
     max_deviation: float
-    ringing: float
+    edge_timing: tuple
     group_delay: float
     length: float
 
@@ -120,13 +193,15 @@ class Characteristics:
         --------
         >>> from gainshape import lowpass
         >>> c = design(lowpass(30.0), 250.0).characteristics
-        >>> sorted(c.to_dict())[:3]
-        ['group_delay', 'half_amplitude', 'half_amplitude_direction']
+        >>> c.to_dict()["stop_bands"][0]["kind"]
+        'above the low-pass edge'
         """
         out = {}
         for name in self.__slots__:
             value = getattr(self, name)
-            if name.startswith("half_"):
+            if name in ("stop_bands", "edge_timing"):
+                out[name] = [item.to_dict() for item in value]
+            elif name.startswith("half_"):
                 out[name] = [float(e) for e in value]
                 out[name + "_direction"] = [e.direction for e in value]
             elif isinstance(value, tuple):
@@ -236,24 +311,20 @@ class FilterDesign:
     def describe(self) -> str:
         """One line: the kind, cutoffs, roll-off, phase response and length."""
         c = self.characteristics
-        passband, stops = self._edge_groups()
+        realized = c.to_dict()
+        passband, stops = passband_edges(realized), removed_bands(realized)
         parts = [c.kind]
         if passband:
             parts.append("half-amplitude " + ", ".join(f"{float(hz):.3g}" for _, hz, _, _ in passband)
                          + " Hz")
             parts.append("roll-off " + ", ".join(f"{r:.1f}" for _, _, _, r in passband) + " dB/octave")
         if stops:
-            parts.append("stop bands " + ", ".join(f"{float(a):.3g}-{float(b):.3g}" for a, b in stops)
+            parts.append("stop bands " + ", ".join(f"{a:.3g}-{b:.3g}" for a, b, _ in stops)
                          + " Hz")
         if not c.half_amplitude:
             parts.append("no half-amplitude point")
         kind = "minimum-phase" if self.causal else "zero-phase"
         return "; ".join(parts + [kind, f"{c.length:.3g} s at {self.sfreq:g} Hz"])
-
-    def _edge_groups(self):
-        c = self.characteristics
-        return edge_groups(c.half_amplitude, [e.direction for e in c.half_amplitude],
-                           c.half_power, c.rolloff)
 
     def summary(self) -> list[tuple[str, str]]:
         """The characteristics as (label, value) rows of text, for tables.
@@ -275,20 +346,19 @@ class FilterDesign:
             truncation = "shortest kernel within tolerance"
         else:
             truncation = f"fixed at {self.kernel_request:g} s by request"
-        passband, stops = self._edge_groups()
-        slopes = ", ".join(f"{r:.1f} dB/octave ({name} edge)" for name, _, _, r in passband)
-        stop_rows = [("stop bands (-6 dB)", ", ".join(
-            f"{float(a):.4g}-{float(b):.4g} Hz" for a, b in stops))] if stops else []
+        realized = c.to_dict()
+        slopes = ", ".join(f"{r:.1f} dB/octave ({name} edge)"
+                           for name, _, _, r in passband_edges(realized))
         return [
             ("kind", c.kind),
             ("half-amplitude (-6 dB)", edges(c.half_amplitude)),
             ("half-power (-3 dB)", edges(c.half_power)),
             ("roll-off", slopes or "none (no pass-band edge)"),
-            *stop_rows,
+            *[("stop band", stop_band_words(b)) for b in realized["stop_bands"]],
             ("passband ripple", f"{c.passband_ripple_db:.3g} dB"),
-            ("stopband attenuation", f"{c.stopband_attenuation_db:.1f} dB"),
+            ("stopband attenuation", f"{c.stopband_attenuation_db:.1f} dB (the least of any stop band)"),
             ("largest gain deviation", f"{c.max_deviation:.2g} (tolerance {self.tolerance:g})"),
-            ("ringing (to -40 dB)", f"{c.ringing * 1000:.0f} ms"),
+            *[("in time", timing_words(t)) for t in realized["edge_timing"]],
             ("phase response", self.phase_words),
             ("kernel length", f"{c.length:.4g} s ({self.kernel.size} samples)"),
             ("truncation", truncation),
@@ -592,7 +662,18 @@ def _minimum_phase_spectrum(curve, gain, n: int, sfreq: float, tolerance: float)
         offsets = (np.arange(16) + 0.5) / 16 - 0.5
         sub = freqs[deep, None] + offsets[None, :] * (sfreq / n)
         log_mag[deep] = np.log(np.maximum(_validated_gain(curve, sub), floor)).mean(axis=1)
-    cep = sfft.irfft(log_mag, n)
+    return _cepstral_minimum_phase(np.exp(log_mag), n, floor)
+
+
+def _cepstral_minimum_phase(magnitude, n: int, floor: float = 1e-12) -> np.ndarray:
+    """Minimum-phase response with ``magnitude`` on the rfft grid of ``n``
+    points (real cepstrum folded onto positive quefrencies).
+
+    >>> spec = _cepstral_minimum_phase(np.ones(5), 8)
+    >>> bool(np.allclose(spec, 1.0))
+    True
+    """
+    cep = sfft.irfft(np.log(np.maximum(magnitude, floor)), n)
     cep[1 : (n + 1) // 2] *= 2.0
     cep[n // 2 + 1 :] = 0.0
     return np.exp(sfft.rfft(cep))
@@ -674,6 +755,7 @@ def _characterize(curve, kernel, offset, sfreq, causal, tol, exact) -> Character
 
         spec = _kernel_spectrum(kernel, offset, n_fft, causal)
         signed = np.abs(spec) if causal else spec
+    uniform = (freqs, spec if not exact and causal else signed)  # for the time responses
     # the lowest 64 grid steps hold too few points for slopes: add 32 exact
     # points per step there (zoom FFT)
     low = np.linspace(0.0, freqs[64], 2048)[1:]
@@ -699,18 +781,21 @@ def _characterize(curve, kernel, offset, sfreq, causal, tol, exact) -> Character
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio_db = 20 * np.log10(realized[passband] / requested[passband])
     ripple = float(np.max(np.abs(ratio_db))) if passband.any() else float("nan")
-    stop = requested <= tol
-    atten = float(-20 * np.log10(max(realized[stop].max(), 1e-300))) if stop.any() else float("nan")
-    notches = _hidden_notches(freqs, realized, half_amp, floor)
+    nulls = _hidden_notches(freqs, realized, half_amp, tol)
+    stops = _stop_bands(freqs, realized, requested, half_amp, nulls, tol)
+    atten = min((b.attenuation_db for b in stops), default=float("nan"))
+    timing = _edge_timing(*uniform, causal, half_amp, sfreq,
+                          [(b.low, b.high) for b in stops if b.kind not in _SKIRTS])
     return Characteristics(
-        kind=_kind(half_amp, realized[0], realized[-1], notches),
+        kind=_kind(half_amp, realized[0], realized[-1], len(nulls)),
         half_amplitude=half_amp,
         half_power=half_pow,
         rolloff=rolloffs,
         passband_ripple_db=ripple,
-        stopband_attenuation_db=atten,
+        stop_bands=stops,
+        stopband_attenuation_db=float(atten),
         max_deviation=_max_deviation(freqs, signed, requested, curve, None if exact else point_fn),
-        ringing=_ringing(kernel, sfreq),
+        edge_timing=timing,
         group_delay=_group_delay(kernel, offset, sfreq, causal, n_fft),
         length=kernel.size / sfreq,
     )
@@ -750,10 +835,12 @@ def _crossings(freqs, gain, level, fn) -> tuple:
     edges = []
     for i in idx:
         lo, hi = freqs[i], freqs[i + 1]
-        try:
-            hz = brentq(lambda f: float(fn(np.array([f]))[0]) - level, lo, hi, xtol=1e-9)
-        except ValueError:
-            hz = lo + (hi - lo) * (level - gain[i]) / (gain[i + 1] - gain[i])
+        hz = lo + (hi - lo) * (level - gain[i]) / (gain[i + 1] - gain[i])
+        if fn is not None:  # refined on the exact response
+            try:
+                hz = brentq(lambda f: float(fn(np.array([f]))[0]) - level, lo, hi, xtol=1e-9)
+            except ValueError:
+                pass
         edges.append(EdgeFrequency(hz, "rising" if above[i + 1] else "falling"))
     return tuple(edges)
 
@@ -816,46 +903,168 @@ def _outer_indices(directions) -> dict:
     return out
 
 
-def edge_groups(edges, directions, half_power, rolloff):
-    """Split half-amplitude edges into pass-band edges and stop bands.
-
-    Returns ``[(name, hz, half-power hz or None, roll-off or None)]`` for the
-    leading rising ("high-pass") and trailing falling ("low-pass") edges, and
-    ``[(low, high)]`` for the pairs between them (notches, band-stops).
-    Takes plain lists, so that recorded steps can use it too.
+def passband_edges(realized: dict) -> list:
+    """The pass band's outer edges of a characteristics dict (``to_dict()``
+    or a recorded step's ``realized``): ``[(name, hz, half-power hz or None,
+    roll-off or None)]`` for the leading rising ("high-pass") and trailing
+    falling ("low-pass") half-amplitude edges.
 
     Examples
     --------
-    >>> edge_groups([1.0, 49.0, 51.0], ["rising", "falling", "rising"], [1.3, 48.7, 51.3], [12.0, 900.0, 900.0])
-    ([('high-pass', 1.0, 1.3, 12.0)], [(49.0, 51.0)])
+    >>> passband_edges({"half_amplitude": [1.0, 49.0, 51.0], "half_power": [1.3, 48.7, 51.3],
+    ...                 "half_amplitude_direction": ["rising", "falling", "rising"],
+    ...                 "rolloff": [12.0, 900.0, 900.0]})
+    [('high-pass', 1.0, 1.3, 12.0)]
     """
-    edges, half_power, rolloff = list(edges), list(half_power), list(rolloff)
-    outer = _outer_indices(list(directions))
-    passband = [
-        (name, edges[i], half_power[i] if len(half_power) == len(edges) else None,
-         rolloff[i] if i < len(rolloff) else None)
-        for i, name in outer.items()
-    ]
-    inner = [i for i in range(len(edges)) if i not in outer]
-    stops = [(edges[i], edges[j]) for i, j in zip(inner[::2], inner[1::2])]
-    return passband, stops
+    edges = list(realized.get("half_amplitude", []))
+    half_power, rolloff = list(realized.get("half_power", [])), list(realized.get("rolloff", []))
+    outer = _outer_indices(list(realized.get("half_amplitude_direction", [])))
+    return [(name, edges[i], half_power[i] if len(half_power) == len(edges) else None,
+             rolloff[i] if i < len(rolloff) else None) for i, name in outer.items()]
 
 
-def _hidden_notches(freqs, gain, edges, floor) -> int:
-    """Count narrow nulls in stop bands: local minima 20 dB below the gain
-    10 % of their frequency away on both sides, where that gain stands above
-    ``floor`` (so the ripple at the foot of a steep edge is not one), outside
-    the stop bands between half-amplitude edges."""
+def removed_bands(realized: dict) -> list:
+    """Notches and band-stops (not the skirts beyond the pass band) of a
+    characteristics dict, as ``(low, high, attenuation_db)``.
+
+    >>> removed_bands({"stop_bands": [{"low": 49.0, "high": 51.0, "attenuation_db": 60.0,
+    ...                                 "kind": "notch"}]})
+    [(49.0, 51.0, 60.0)]
+    """
+    return [(b["low"], b["high"], b["attenuation_db"]) for b in realized.get("stop_bands", [])
+            if b["kind"] not in _SKIRTS]
+
+
+def stop_band_words(band: dict) -> str:
+    """One stop band in words.
+
+    >>> stop_band_words({"low": 49.0, "high": 51.0, "attenuation_db": 60.2, "kind": "notch"})
+    '49-51 Hz (notch), at least 60.2 dB down'
+    """
+    return (f"{band['low']:.4g}-{band['high']:.4g} Hz ({band['kind']}), at least "
+            f"{band['attenuation_db']:.1f} dB down")
+
+
+def timing_words(timing: dict) -> str:
+    """One edge's time behaviour in words (see :class:`EdgeTiming`).
+
+    >>> timing_words({"edge": "low-pass", "cutoff": 40.0, "settling_s": None,
+    ...               "opposite_pct": None, "decay_s": 0.028, "overshoot_pct": 8.91})
+    'low-pass edge (40 Hz): impulse response below 1 % of its peak after 28 ms, step overshoot 8.9 %'
+    """
+    head = f"{timing['edge']} edge ({timing['cutoff']:.3g} Hz): "
+    if timing["edge"] == "high-pass":
+        return (head + f"step response within 1 % of its final value after "
+                f"{_seconds_words(timing['settling_s'])}, largest opposite-polarity excursion "
+                f"{timing['opposite_pct']:.1f} % of the step")
+    return (head + f"impulse response below 1 % of its peak after "
+            f"{_seconds_words(timing['decay_s'])}, step overshoot {timing['overshoot_pct']:.1f} %")
+
+
+def _seconds_words(seconds: float) -> str:
+    return f"{seconds * 1000:.3g} ms" if seconds < 1 else f"{seconds:.3g} s"
+
+
+def _hidden_notches(freqs, gain, edges, tol) -> np.ndarray:
+    """Indices of narrow nulls inside stop bands: local minima 20 dB below the
+    gain 10 % of their frequency away on both sides, where that gain stands
+    above 3 x tolerance (so the kernel's error ripple and the foot of a steep
+    edge are not nulls), outside the stop bands between half-amplitude edges
+    (those are listed by their edges)."""
     inner = np.flatnonzero((gain[1:-1] < gain[:-2]) & (gain[1:-1] <= gain[2:]) & (gain[1:-1] < 0.5)) + 1
     lo = np.minimum(np.searchsorted(freqs, 0.9 * freqs[inner]), inner - 1)
     hi = np.minimum(np.searchsorted(freqs, 1.1 * freqs[inner], side="right"), freqs.size - 1)
     beside = np.minimum(gain[lo], gain[hi])
-    nulls = inner[(beside > floor) & (gain[inner] < 0.1 * beside)]
+    nulls = inner[(beside > 3 * tol) & (gain[inner] < 0.1 * beside)]
     pairs = [(float(x), float(y)) for x, y in zip(edges[:-1], edges[1:]) if x.direction == "falling"]
     inside_pair = np.zeros(nulls.size, dtype=bool)
     for x, y in pairs:
         inside_pair |= (freqs[nulls] > x) & (freqs[nulls] < y)
-    return int(np.count_nonzero(~inside_pair))
+    return nulls[~inside_pair]
+
+
+def _stop_bands(freqs, realized, requested, edges, nulls, tol) -> tuple:
+    """Every stop band (see :class:`StopBand`), in order of frequency."""
+    bounds = [0.0] + [float(e) for e in edges] + [float(freqs[-1])]
+    below = [realized[0] < 0.5] + [e.direction == "falling" for e in edges]
+    bands = []
+    for i, (a, b) in enumerate(zip(bounds[:-1], bounds[1:])):
+        if not below[i] or b <= a:
+            continue
+        kind = ("below the high-pass edge" if i == 0 else "above the low-pass edge"
+                if i == len(edges) else "notch" if (b - a) <= 0.1 * (a + b) / 2 else "band-stop")
+        bands.append((a, b, kind))
+    for i in nulls:  # notches inside wider stop bands, limited at half the gain beside them
+        level = 0.5 * min(realized[np.searchsorted(freqs, 0.9 * freqs[i])],
+                          realized[min(np.searchsorted(freqs, 1.1 * freqs[i]), freqs.size - 1)])
+        left = i - np.argmax(realized[i::-1] >= level)
+        right = i + np.argmax(realized[i:] >= level)
+        band = (float(freqs[left]), float(freqs[right]), "notch inside a stop band")
+        if band not in bands:  # two minima of one notch give the same band
+            bands.append(band)
+    # a band's floor leaves out its notches and their sides (a width either side)
+    inner_notches = [(2 * a - b, 2 * b - a) for a, b, kind in bands
+                     if kind == "notch inside a stop band"]
+    out = []
+    for a, b, kind in sorted(bands):
+        inside = (freqs >= a) & (freqs <= b)
+        if kind != "notch inside a stop band":  # its notches are listed apart
+            for lo, hi in inner_notches:
+                inside &= ~((freqs >= lo) & (freqs <= hi))
+        if not inside.any():
+            continue
+        floor = inside & (requested <= max(tol, requested[inside].min() * _FLOOR_SPAN))
+        top = realized[floor if floor.any() else inside].max()
+        out.append(StopBand(a, b, float(-20 * np.log10(max(top, 1e-300))), kind))
+    return tuple(out)
+
+
+def _edge_timing(freqs, spectrum, causal, edges, sfreq, removed) -> tuple:
+    """:class:`EdgeTiming` of the pass band's high-pass and low-pass edges.
+
+    ``spectrum`` is the response on the uniform rfft grid ``freqs`` (real
+    for zero phase; complex or magnitude for minimum phase). The ``removed``
+    bands (notches, band-stops: listed as stop bands, with their own
+    ringing) are bridged by straight lines, so each edge is timed alone.
+    """
+    outer = _outer_indices([e.direction for e in edges])
+    named = {name: float(edges[i]) for i, name in outer.items()}
+    split = np.sqrt(np.prod(list(named.values()))) if len(named) == 2 else None
+    n = 2 * (freqs.size - 1)
+    out = []
+    for name, cutoff in named.items():
+        part = spectrum.real.copy() if not causal else np.abs(spectrum)
+        for lo, hi in removed:  # with a width either side: a notch's skirts ring too
+            i, j = np.searchsorted(freqs, 2 * lo - hi) - 1, np.searchsorted(freqs, 2 * hi - lo) + 1
+            i, j = max(i, 0), min(j, freqs.size - 1)
+            part[i : j + 1] = np.linspace(part[i], part[j], j - i + 1)
+        if split is not None:
+            ref = part[np.searchsorted(freqs, split)]
+            keep = freqs < split if name == "high-pass" else freqs >= split
+            part = np.where(keep, part / ref, 1.0)
+        if causal:
+            impulse = sfft.irfft(_cepstral_minimum_phase(np.abs(part), n), n)
+            times = np.arange(n) / sfreq
+        else:
+            impulse = np.roll(sfft.irfft(part, n), n // 2)
+            times = (np.arange(n) - n // 2) / sfreq
+        out.append(_timing_of(name, cutoff, times, impulse))
+    return tuple(out)
+
+
+def _timing_of(name, cutoff, times, impulse) -> EdgeTiming:
+    """Settling and opposite excursion (high-pass), decay and overshoot (low-pass)."""
+    step = np.cumsum(impulse)
+    final = step[-1]
+    after = times >= 0
+    if name == "high-pass":
+        late = np.flatnonzero(after & (np.abs(step - final) > _TIME_LEVEL))
+        settling = float(times[late[-1]]) if late.size else 0.0
+        return EdgeTiming(name, cutoff, settling, float(max(0.0, -step.min()) * 100), None, None)
+    envelope = np.abs(impulse) / np.abs(impulse).max()
+    loud = np.flatnonzero(after & (envelope >= _TIME_LEVEL))
+    decay = float(times[loud[-1]]) if loud.size else 0.0
+    return EdgeTiming(name, cutoff, None, None, decay, float(max(0.0, step.max() - final) * 100))
 
 
 def _kind(edges, gain_dc, gain_nyq, hidden_notches=0) -> str:
@@ -883,13 +1092,6 @@ def _kind(edges, gain_dc, gain_nyq, hidden_notches=0) -> str:
         if kind in stops:
             parts.append(kind)
     return " + ".join(parts)
-
-
-def _ringing(kernel, sfreq) -> float:
-    mag = np.abs(kernel)
-    peak = int(np.argmax(mag))
-    loud = np.flatnonzero(mag > _RINGING_LEVEL * mag[peak])
-    return float((loud[-1] - peak) / sfreq)
 
 
 def _group_delay(kernel, offset, sfreq, causal, n_fft) -> float:

@@ -22,7 +22,7 @@ import xxhash
 
 from ._checks import warn
 from ._files import atomic_output
-from .design import edge_groups, phase_words
+from .design import passband_edges, phase_words, removed_bands, stop_band_words, timing_words
 
 __all__ = [
     "History",
@@ -59,12 +59,12 @@ class History(list):
     def _repr_html_(self):
         head = "".join(f"<th>{h}</th>" for h in
                        ("#", "time (UTC)", "filter", "cutoffs, -6 dB (Hz)", "roll-off (dB/oct)",
-                        "stop bands, -6 dB (Hz)", "kernel", "channels"))
+                        "notches and band-stops (Hz)", "kernel", "channels"))
         rows = []
         for i, step in enumerate(self):
             r = step.get("realized", {})
             chans = step.get("channels", [])
-            passband, stops = _edge_groups(r)
+            passband, stops = passband_edges(r), removed_bands(r)
             cells = (
                 str(i + 1),
                 step.get("time", "?")[:19].replace("T", " "),
@@ -72,7 +72,7 @@ class History(list):
                                       else ""),
                 ", ".join(f"{hz:.3g}" for _, hz, _, _ in passband),
                 ", ".join(f"{slope:.1f}" for _, _, _, slope in passband if slope is not None),
-                ", ".join(f"{lo:.3g}-{hi:.3g}" for lo, hi in stops),
+                ", ".join(f"{lo:.3g}-{hi:.3g}" for lo, hi, _ in stops),
                 _kernel_words(step),
                 f"{len(chans)} ({', '.join(chans[:3])}{', ...' if len(chans) > 3 else ''})",
             )
@@ -262,15 +262,23 @@ def bids_filters(inst) -> dict | str:
     out = {}
     for i, step in enumerate(steps, start=1):
         r, d = step.get("realized", {}), step.get("design", {})
-        passband, stops = _edge_groups(r)
         edges = {}
-        for name, hz, half_power, slope in passband:
+        for name, hz, half_power, slope in passband_edges(r):
             edges[f"{name} half-amplitude cutoff (Hz)"] = _round_sig(hz, 4)
             edges[f"{name} half-power cutoff (Hz)"] = _round_sig(half_power, 4)
             edges[f"{name} roll-off (dB/octave)"] = _round_sig(slope, 3)
-        if stops:
-            edges["stop bands between half-amplitude points (Hz)"] = [
-                [_round_sig(lo, 4), _round_sig(hi, 4)] for lo, hi in stops]
+        for t in r.get("edge_timing", []):
+            if t["edge"] == "high-pass":
+                edges["high-pass step settling time to 1 % (s)"] = _round_sig(t["settling_s"], 3)
+                edges["high-pass opposite-polarity excursion (% of step)"] = _round_sig(
+                    t["opposite_pct"], 3)
+            else:
+                edges["low-pass impulse decay time to 1 % (s)"] = _round_sig(t["decay_s"], 3)
+                edges["low-pass step overshoot (%)"] = _round_sig(t["overshoot_pct"], 3)
+        if r.get("stop_bands"):
+            edges["stop bands (Hz, Hz, attenuation dB, kind)"] = [
+                [_round_sig(b["low"], 4), _round_sig(b["high"], 4),
+                 _round_sig(b["attenuation_db"], 3), b["kind"]] for b in r["stop_bands"]]
         status = {"status": "interrupted: data partly filtered"} if step["application"].get(
             "interrupted") else {}
         out[f"gainshape step {i}: {r.get('kind', 'filter')}"] = {
@@ -444,9 +452,8 @@ def _is_number(value) -> bool:
 
 def _one_line(step) -> str:
     r = step.get("realized", {})
-    passband, stops = _edge_groups(r)
-    cut = ", ".join([f"{hz:.3g}" for _, hz, _, _ in passband]
-                    + [f"{lo:.3g}-{hi:.3g}" for lo, hi in stops])
+    cut = ", ".join([f"{hz:.3g}" for _, hz, _, _ in passband_edges(r)]
+                    + [f"{lo:.3g}-{hi:.3g}" for lo, hi, _ in removed_bands(r)])
     stopped = " INTERRUPTED, data partly filtered;" if step["application"].get("interrupted") else ""
     return (f"{step.get('time', '?')}{stopped} {r.get('kind', '?')} ({cut} Hz), "
             f"{_kernel_words(step)}, "
@@ -471,10 +478,12 @@ def _step_sentences(step) -> str:
         f"{len(channels)} channel{'s' if len(channels) != 1 else ''} by multiplying the "
         "Fourier transform of the padded data by the filter's frequency response.",
         _edge_sentence(r),
+        *([_timing_sentence(r)] if r.get("edge_timing") else []),
     ]
     details = [f"passband ripple {r.get('passband_ripple_db', float('nan')):.2g} dB"]
     if np.isfinite(r.get("stopband_attenuation_db", float("nan"))):
-        details.append(f"stopband attenuation {r['stopband_attenuation_db']:.0f} dB")
+        details.append(f"at least {r['stopband_attenuation_db']:.0f} dB attenuation in every "
+                       "stop band")
     details.append(f"a largest gain deviation from the request of {r.get('max_deviation', 0):.2g}")
     text.append("It had " + ", ".join(details) + ".")
     length = (
@@ -501,15 +510,9 @@ def _kernel_words(step) -> str:
     return "minimum-phase" if step.get("design", {}).get("causal") else "zero-phase"
 
 
-def _edge_groups(r):
-    """Pass-band edges and stop bands of a step's recorded characteristics."""
-    return edge_groups(r.get("half_amplitude", []), r.get("half_amplitude_direction", []),
-                       r.get("half_power", []), r.get("rolloff", []))
-
-
 def _edge_sentence(r) -> str:
-    """Cutoffs of the pass-band edges (with roll-off) and the stop bands between."""
-    passband, stops = _edge_groups(r)
+    """Cutoffs of the pass-band edges (with roll-off) and every stop band."""
+    passband, stops = passband_edges(r), r.get("stop_bands", [])
     if not passband and not stops:
         return "The realized gain did not cross 0.5 (no half-amplitude cutoff)."
     parts = []
@@ -518,10 +521,14 @@ def _edge_sentence(r) -> str:
         sl = f", roll-off {slope:.1f} dB/octave" if slope is not None else ""
         parts.append(f"{name} half-amplitude (-6 dB) cutoff {hz:.3g} Hz{hp}{sl}")
     if stops:
-        bands = [f"{lo:.4g}-{hi:.4g}" for lo, hi in stops]
-        parts.append("stop band" + ("s" if len(stops) > 1 else "") + " between half-amplitude "
-                     "points at " + _and_list(bands) + " Hz")
+        parts.append("stop band" + ("s" if len(stops) > 1 else "") + " "
+                     + _and_list([stop_band_words(b) for b in stops]))
     return "The realized filter had " + "; ".join(parts) + "."
+
+
+def _timing_sentence(r) -> str:
+    """The pass-band edges' time behaviour (see gainshape.design.EdgeTiming)."""
+    return "In time, its " + "; its ".join(timing_words(t) for t in r["edge_timing"]) + "."
 
 
 def _and_list(items) -> str:
