@@ -96,3 +96,16 @@ def test_short_user_waveform_is_embedded_in_zeros_for_the_kernels_reach():
 def test_design_rate_mismatch():
     with pytest.raises(ValueError, match="'sfreq'"):
         gs.audit(gs.design(gs.lowpass(30.0), 250.0), 500.0)
+
+
+def test_ends_off_zero_are_levelled_and_said():
+    # an ERP-like peak sitting on a 30 % offset: embedded in zeros the offset
+    # would make two steps, each answered by the high-pass with its own deflection
+    t = np.arange(-0.2, 0.8, 1 / SFREQ)
+    peak = 4e-6 * np.exp(-0.5 * ((t - 0.3) / 0.05) ** 2)
+    clean = gs.audit(gs.highpass(1.0), sfreq=SFREQ, waveform=peak)
+    shifted = gs.audit(gs.highpass(1.0), sfreq=SFREQ, waveform=peak + 1.2e-6)
+    assert "straight line between them was removed" in shifted.attrs["notes"]
+    assert "straight line" not in clean.attrs["notes"]
+    for key in ("opposite_before_pct", "opposite_after_pct", "peak_change_pct"):
+        assert float(shifted[key][0]) == pytest.approx(float(clean[key][0]), abs=1.0)

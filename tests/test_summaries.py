@@ -136,3 +136,16 @@ def test_slow_band_resolved_at_rates_just_off_an_integer(sfreq):
     ds = gs.band_change(x, 0.5 * x, sfreq=sfreq)
     assert bool(ds.band_resolved.sel(band="slow"))
     np.testing.assert_allclose(ds.change_db.sel(band="slow"), 20 * np.log10(0.5), atol=1e-9)
+
+
+def test_line_band_taken_from_the_notch_in_the_history(make_raw):
+    raw = make_raw(seconds=60.0)
+    assert not raw.info["line_freq"]
+    out = gs.apply(raw, gs.notch(50.0))
+    ds = gs.band_change(raw, out)
+    assert "line" in ds.band.values and ds.attrs["line_band"].startswith("the lowest notch")
+    assert float(ds.band_low.sel(band="line")) == pytest.approx(49.0, abs=0.05)
+    assert float(ds.change_db.sel(band="line").median()) < -10
+    assert gs.band_change(raw, raw).attrs["line_band"].startswith("none")
+    raw.info["line_freq"] = 60.0
+    assert gs.band_change(raw, out).attrs["line_band"] == "info['line_freq'] (60 Hz)"

@@ -252,6 +252,7 @@ class Signals:
     line_freq: float | None
     history_ids: list
     times: np.ndarray
+    notches: tuple = ()  # centres (Hz) of the notches its recorded steps removed
 
 
 def as_arrays(inst, *, sfreq=None, name="inst") -> Signals:
@@ -286,10 +287,13 @@ def as_arrays(inst, *, sfreq=None, name="inst") -> Signals:
             f"{'epochs' if kind == 'epochs' else 'samples'} to work on ({len(inst.ch_names)} channels: {', '.join(inst.ch_names[:4])})."
         )
     data = inst.get_data(picks=idx) if kind != "evoked" else inst.data[idx]
-    ids = [step.get("id") for step in history(inst)]
+    steps = history(inst)
+    ids = [step.get("id") for step in steps]
+    notches = tuple(sorted({round((b["low"] + b["high"]) / 2, 2) for step in steps
+                            for b in step["realized"].get("stop_bands", []) if "notch" in b["kind"]}))
     return Signals(data, float(inst.info["sfreq"]), [inst.ch_names[i] for i in idx],
                    inst.get_channel_types(picks=idx), kind, "V", inst.info.get("line_freq"),
-                   ids, inst.times)
+                   ids, inst.times, notches)
 
 
 def _apply_array(data, filt, sfreq, picks, pad, options, nan, n_jobs, copy, verbose):

@@ -26,6 +26,7 @@ from .engine import filter_array
 __all__ = ["audit"]
 
 _LEVEL = 0.10  # onset/offset threshold, fraction of the component's peak
+_END_LEVEL = 0.05  # ends further from zero than this fraction of the peak are levelled
 _RING_LEVEL = 0.01  # ringing lasts while |filtered - original| > 1 % of the peak
 _STEP_SECONDS = 1.0  # the step goes up at 0 s and back down after this long
 # Our own test shapes (arbitrary units): (name, waveform, latency s, width s, amplitude)
@@ -69,7 +70,7 @@ def audit(filt, sfreq: float | None = None, waveform=None) -> xr.Dataset:
     ['step', 'pulse', 'erp early', 'erp late']
     """
     filt, sfreq = _design(filt, sfreq, waveform)
-    components, times, unit = _components(filt, sfreq, waveform)
+    components, times, unit, prepared = _components(filt, sfreq, waveform)
     with warnings.catch_warnings():  # the waveforms sit in zeros: zero padding is exact
         warnings.filterwarnings("ignore", "The segment .* shorter than", GainshapeWarning)
         filtered = {name: filter_array(x[None, :], filt, pad="constant")[0]
@@ -84,6 +85,7 @@ def audit(filt, sfreq: float | None = None, waveform=None) -> xr.Dataset:
     notes = _literature_notes(filt)
     for note in notes:
         warn(note)
+    notes += prepared
     ds = xr.Dataset(
         {**metrics,
          "original": (("waveform", "time"), original, {"units": unit}),
@@ -137,7 +139,7 @@ def _components(filt, sfreq, waveform):
         }
         for name, wave, latency, width, amp in _ERP_COMPONENTS:
             out[name] = (wave, amp * np.exp(-0.5 * ((times - latency) / width) ** 2))
-        return out, times, "a.u."
+        return out, times, "a.u.", []
     if isinstance(waveform, (list, tuple)):
         waveform = np.asarray(waveform, dtype=float)
     signals = as_arrays(waveform, sfreq=sfreq, name="waveform")
@@ -154,10 +156,32 @@ def _components(filt, sfreq, waveform):
         )
     row = int(np.argmax(np.abs(signals.data).max(axis=-1)))
     name = signals.ch_names[row] if signals.kind != "array" else "waveform"
+    wave, prepared = _level_ends(signals.data[row].astype(float), signals.unit)
     reach = filt.support  # isolated: zero for the kernel's reach on both sides
-    wave = np.pad(signals.data[row].astype(float), reach)
+    wave = np.pad(wave, reach)
     times = signals.times[0] + (np.arange(wave.size) - reach) / sfreq
-    return {name: (name, wave)}, times, signals.unit
+    return {name: (name, wave)}, times, signals.unit, prepared
+
+
+def _level_ends(wave, unit):
+    """The waveform with its end-to-end straight line removed when its ends
+    stand off zero by more than 5 % of its peak (embedded in zeros, such ends
+    would be steps that the filter answers with deflections of their own),
+    and a note saying so.
+
+    >>> _level_ends(np.array([1.0, 3.0, 1.0]), "V")[0].tolist()
+    [0.0, 2.0, 0.0]
+    """
+    peak = np.abs(wave).max()
+    first, last = wave[0], wave[-1]
+    if max(abs(first), abs(last)) <= _END_LEVEL * peak:
+        return wave, []
+    line = first + (last - first) * np.arange(wave.size) / max(wave.size - 1, 1)
+    return wave - line, [
+        f"The waveform's ends were {first:.3g} and {last:.3g} {unit} "
+        f"({100 * max(abs(first), abs(last)) / peak:.0f} % of its peak); the straight line "
+        "between them was removed before the audit, so that steps at its ends are not "
+        "counted as the filter's deflections."]
 
 
 def _metrics(t, x, y, sfreq) -> dict:

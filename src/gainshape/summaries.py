@@ -93,7 +93,7 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
     True
     """
     a, b = _matched(before, after, sfreq)
-    bands = _bands(bands, a)
+    bands, line_source = _bands(bands, a, b)
     lows = np.array([lo for lo, _ in bands.values()])
     highs = np.array([hi for _, hi in bands.values()])
     windows = [spectral_settings(a.data.shape[-1], a.sfreq, _window_seconds(lo)) for lo in lows]
@@ -132,7 +132,8 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
                          {"units": "s", "long_name": "Welch window length"}),
             "ch_type": ("channel", a.ch_types),
         },
-        attrs=_attrs(a, b, "Welch PSD integrated over each band; window lengths in window_s"),
+        attrs={**_attrs(a, b, "Welch PSD integrated over each band; window lengths in window_s"),
+               "line_band": line_source},
     )
     return ds
 
@@ -196,9 +197,11 @@ def _matched(before, after, sfreq):
     return a, b
 
 
-def _bands(bands, signals) -> dict:
+def _bands(bands, signals, after) -> tuple[dict, str]:
+    """The bands checked against the data, and where the line band came from."""
+    source = "given in 'bands'"
     if bands is None:
-        bands = _default_bands(signals)
+        bands, source = _default_bands(signals, after)
     if not isinstance(bands, dict) or not bands:
         raise TypeError(
             "The 'bands' parameter must be a dict of name -> (low, high) in Hz, "
@@ -219,7 +222,7 @@ def _bands(bands, signals) -> dict:
                 f"but got ({low:g}, {high:g})."
             )
         checked[str(name)] = (low, high)
-    return checked
+    return checked, source
 
 
 def _window_seconds(low: float) -> float:
@@ -261,19 +264,27 @@ def _at_most(value: float, limit: float) -> bool:
     return value <= limit * (1 + 1e-6)
 
 
-def _default_bands(signals) -> dict:
-    """DEFAULT_BANDS plus the line band, without those reaching above Nyquist (warned)."""
+def _default_bands(signals, after) -> tuple[dict, str]:
+    """DEFAULT_BANDS plus the line band, without those reaching above Nyquist
+    (warned), and where the line band came from: ``info["line_freq"]``, else
+    the lowest notch the filtered data's history removed."""
     bands = dict(DEFAULT_BANDS)
-    if signals.line_freq:
-        f = float(signals.line_freq)
+    line, source = signals.line_freq or after.line_freq, "info['line_freq']"
+    if not line and after.notches:
+        line, source = after.notches[0], "the lowest notch in the filter history"
+    if line:
+        f = float(line)
         bands["line"] = (f - _LINE_HALF_WIDTH, f + _LINE_HALF_WIDTH)
+        source = f"{source} ({f:g} Hz)"
+    else:
+        source = "none: no info['line_freq'] and no notch in the history"
     nyquist = signals.sfreq / 2.0
     above = {n: b for n, b in bands.items() if b[1] > nyquist}
     if above:
         listed = ", ".join(f"{n} ({lo:g}-{hi:g} Hz)" for n, (lo, hi) in above.items())
         warn(f"Default band(s) {listed} reach above the Nyquist frequency "
              f"({nyquist:g} Hz) and are left out.", stacklevel=5)
-    return {n: b for n, b in bands.items() if n not in above}
+    return {n: b for n, b in bands.items() if n not in above}, source
 
 
 def _attrs(a, b, method, settings=None) -> dict:
