@@ -123,3 +123,21 @@ def test_audit_plot_equals_data():
         np.testing.assert_array_equal(_line(ax, "original").get_ydata(), ds.original.sel(waveform=name).values)
         np.testing.assert_array_equal(_line(ax, "filtered").get_ydata(), ds.filtered.sel(waveform=name).values)
     plt.close(fig)
+
+
+def test_audit_markers_sit_on_the_waveform_peaks():
+    ds = gs.audit(gs.design(gs.lowpass(20.0), 250.0, causal=True))
+    fig = gs.plot_audit(ds, show=False)
+    for ax, name in zip(fig.axes, ds.waveform.values):
+        comps = ds.component.values[ds.component_waveform.values == name]
+        alone = ds.component_filtered.sel(component=comps[0]).values
+        original = ds.original.sel(waveform=name).values if len(comps) == 1 else None
+        marks = [ln for ln in ax.get_lines() if ln.get_marker() in ("v", "^")]
+        grey, blue = marks[0], marks[1]  # the component's peak before, then after
+        t = ds.time.values
+        i = int(np.argmin(np.abs(t - blue.get_xdata()[0])))
+        assert blue.get_ydata()[0] == pytest.approx(alone[i], rel=1e-9)
+        if original is not None:
+            k = int(np.argmin(np.abs(t - grey.get_xdata()[0])))
+            assert grey.get_ydata()[0] == pytest.approx(original[k], rel=1e-9)
+    plt.close(fig)

@@ -158,9 +158,14 @@ def test_history_table_roll_off_equals_the_characteristics(make_raw):
 def test_audit_metrics_recomputed_from_its_waveforms():
     # NumPy, from the definitions in gainshape.audit's docstring: onset at 10 %
     # of the peak, ringing while |filtered - original| > 1 % of the peak
-    ds = gs.audit(gs.highpass(0.5), sfreq=SFREQ)
+    for ds, names in ((gs.audit(gs.highpass(0.5), sfreq=SFREQ), ("step", "pulse")),
+                      (gs.audit(gs.design(gs.lowpass(20.0), SFREQ, causal=True)), ("pulse",))):
+        _check_audit_rows(ds, names)
+
+
+def _check_audit_rows(ds, names):
     t = ds.time.values
-    for name in ("step", "pulse"):
+    for name in names:
         x = ds.original.sel(waveform=name).values
         y = ds.component_filtered.sel(component=name).values
         row = ds.sel(component=name)
@@ -178,3 +183,8 @@ def test_audit_metrics_recomputed_from_its_waveforms():
             100 * max(added[offset + 1 :].max(), 0) / x[i], abs=1e-9)
         late = np.flatnonzero(np.abs(y - x) > 0.01 * x[i])
         assert float(row.ringing_s) == pytest.approx(max(t[late[-1]] - t[offset], 0.0), abs=1e-9)
+
+
+def test_minimum_phase_onset_shift_is_recomputed_and_positive():
+    ds = gs.audit(gs.design(gs.lowpass(20.0), SFREQ, causal=True))
+    assert float(ds.onset_shift_ms.sel(component="pulse")) > 0

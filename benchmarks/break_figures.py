@@ -1,0 +1,43 @@
+"""Break each reported figure on purpose, one at a time, and check that a test fails.
+
+Each entry replaces one line of the package (x2, a wrong log base, ...), runs
+the test suite (without the tutorials), restores the line, and prints whether
+a test caught it. Run from the repository root:
+
+    python benchmarks/break_figures.py
+"""
+
+import os
+import pathlib
+import subprocess
+import sys
+breaks = [
+ ("group_delay x2", "src/gainshape/design.py", "group_delay=_group_delay(kernel, offset, sfreq, causal, n_fft),", "group_delay=2 * _group_delay(kernel, offset, sfreq, causal, n_fft),"),
+ ("stop-band attenuation 10 log10", "src/gainshape/design.py", "float(-20 * np.log10(max(top, 1e-300)))", "float(-10 * np.log10(max(top, 1e-300)))"),
+ ("passband ripple x2", "src/gainshape/design.py", "ripple = float(np.max(np.abs(ratio_db)))", "ripple = 2 * float(np.max(np.abs(ratio_db)))"),
+ ("high-pass settling x3", "src/gainshape/design.py", "settling = float(times[late[-1]]) if late.size else 0.0", "settling = 3 * float(times[late[-1]]) if late.size else 0.0"),
+ ("low-pass decay x3", "src/gainshape/design.py", "decay = float(times[loud[-1]]) if loud.size else 0.0", "decay = 3 * float(times[loud[-1]]) if loud.size else 0.0"),
+ ("BIDS half-amplitude x2", "src/gainshape/provenance.py", 'edges[f"{name} half-amplitude cutoff (Hz)"] = _round_sig(hz, 4)', 'edges[f"{name} half-amplitude cutoff (Hz)"] = _round_sig(2 * hz, 4)'),
+ ("audit ringing_s x5", "src/gainshape/audit.py", '"ringing_s": float(t[error[-1]] - t[i_offset])', '"ringing_s": 5 * float(t[error[-1]] - t[i_offset])'),
+ ("audit latency_shift_ms x2", "src/gainshape/audit.py", '"latency_shift_ms": 1000 * (t[j_peak] - t[i_peak]),', '"latency_shift_ms": 2000 * (t[j_peak] - t[i_peak]),'),
+ ("audit peak_change_pct x1.5", "src/gainshape/audit.py", '"peak_change_pct": 100 * (ys[j_peak] - peak) / peak,', '"peak_change_pct": 150 * (ys[j_peak] - peak) / peak,'),
+ ("audit onset_shift_ms x3", "src/gainshape/audit.py", '"onset_shift_ms": 1000 * (t[j_onset] - t[i_onset]),', '"onset_shift_ms": 3000 * (t[j_onset] - t[i_onset]),'),
+ ("plot_audit marker height", "src/gainshape/viz.py", "[peak * (1 + float(row.peak_change_pct) / 100)],", "[peak * (1 + float(row.peak_change_pct) / 50)],"),
+ ("history table roll-off x2", "src/gainshape/provenance.py", 'f"{slope:.1f}" for _, _, _, slope in passband if slope is not None', 'f"{2 * slope:.1f}" for _, _, _, slope in passband if slope is not None'),
+]
+caught = 0
+for name, path, old, new in breaks:
+    p = pathlib.Path(path); text = p.read_text()
+    assert text.count(old) == 1, name
+    p.write_text(text.replace(old, new))
+    try:
+        r = subprocess.run([sys.executable, "-m", "pytest", "-q", "-x", "-p", "no:cacheprovider",
+                            "tests", "src/gainshape", "--deselect", "tests/test_tutorials.py"],
+                           capture_output=True, text=True, env={**os.environ, "MPLBACKEND": "Agg"})
+    finally:
+        p.write_text(text)
+    failed = [l for l in r.stdout.splitlines() if l.startswith("FAILED")]
+    ok = r.returncode != 0
+    caught += ok
+    print(f"{'CAUGHT' if ok else 'MISSED'}  {name}: {failed[:1]}", flush=True)
+print(f"{caught}/{len(breaks)} caught")
