@@ -520,19 +520,16 @@ def _edge_sentence(r) -> str:
         hp = f", half-power {half_power:.3g} Hz" if half_power is not None else ""
         sl = f", roll-off {slope:.1f} dB/octave" if slope is not None else ""
         parts.append(f"{name} half-amplitude (-6 dB) cutoff {hz:.3g} Hz{hp}{sl}")
+    text = "The realized filter had " + "; ".join(parts) + "." if parts else ""
     if stops:
-        parts.append("stop band" + ("s" if len(stops) > 1 else "") + " "
-                     + _and_list([stop_band_words(b) for b in stops]))
-    return "The realized filter had " + "; ".join(parts) + "."
+        text += (f" Its stop band{'s were' if len(stops) > 1 else ' was'}: "
+                 + "; ".join(stop_band_words(b) for b in stops) + ".")
+    return text.strip()
 
 
 def _timing_sentence(r) -> str:
     """The pass-band edges' time behaviour (see gainshape.design.EdgeTiming)."""
     return "In time, its " + "; its ".join(timing_words(t) for t in r["edge_timing"]) + "."
-
-
-def _and_list(items) -> str:
-    return " and ".join(items) if len(items) <= 2 else ", ".join(items[:-1]) + " and " + items[-1]
 
 
 def _curve_words(recipe) -> str:
