@@ -782,8 +782,8 @@ def _characterize(curve, kernel, offset, sfreq, causal, tol, exact) -> Character
         ratio_db = 20 * np.log10(realized[passband] / requested[passband])
     ripple = float(np.max(np.abs(ratio_db))) if passband.any() else float("nan")
     nulls = _hidden_notches(freqs, realized, half_amp, tol)
-    def response(f):
-        return curve(f) if exact else np.abs(_interpolated_dtft(kernel, offset, sfreq, f, causal))
+    def response(f):  # evenly spaced frequencies: exact by zoom FFT
+        return curve(f) if exact else np.abs(_zoom_gain(kernel, offset, sfreq, f, causal))
 
     stops = _stop_bands(freqs, realized, requested, half_amp, nulls, tol, curve, response)
     atten = min((b.attenuation_db for b in stops), default=float("nan"))
@@ -802,6 +802,17 @@ def _characterize(curve, kernel, offset, sfreq, causal, tol, exact) -> Character
         group_delay=_group_delay(kernel, offset, sfreq, causal, n_fft),
         length=kernel.size / sfreq,
     )
+
+
+def _zoom_gain(kernel, offset, sfreq, freqs, causal) -> np.ndarray:
+    """Exact response at evenly spaced ``freqs`` (zoom FFT, chirp-z)."""
+    from scipy.signal import ZoomFFT
+
+    if freqs.size < 2:
+        return _dtft(kernel, offset, sfreq, freqs, causal)
+    spec = ZoomFFT(kernel.size, [freqs[0], freqs[-1]], m=freqs.size, fs=sfreq, endpoint=True)(kernel)
+    spec = spec * np.exp(2j * np.pi * freqs * offset / sfreq)  # t = 0 at the offset
+    return spec if causal else spec.real
 
 
 def _zoom_response(kernel, offset, sfreq, fmax, causal, m=2048) -> np.ndarray:
@@ -1020,20 +1031,18 @@ def _stop_bands(freqs, realized, requested, edges, nulls, tol, curve, response) 
         level = max(tol, requested[inside].min() * _FLOOR_SPAN)
         floor = inside & (requested <= level)
         found.append((a, b, kind, floor if floor.any() else inside, level))
-    # the grid can step over the floor's highest point: look again 256 x finer around it
-    dense = [_around(freqs, where) for *_, where, _ in found]
-    gain = response(np.concatenate(dense)) if dense else np.zeros(0)
-    out, start = [], 0
-    for (a, b, kind, where, level), points in zip(found, dense):
-        near = gain[start : start + points.size]
-        start += points.size
+    # the grid can step over the floor's highest point: look again 16 x finer around it
+    out = []
+    for a, b, kind, where, level in found:
+        points = _around(freqs, where)
+        near = response(points)
         keep = (points >= a) & (points <= b) & (curve(points) <= level)
         top = max(realized[where].max(), near[keep].max() if keep.any() else 0.0)
         out.append(StopBand(a, b, float(-20 * np.log10(max(top, 1e-300))), kind))
     return tuple(out)
 
 
-def _around(freqs, where, per_step=16, at_most=4096) -> np.ndarray:
+def _around(freqs, where, per_step=16, at_most=4096) -> np.ndarray:  # evenly spaced
     """Frequencies ``per_step`` times finer than the grid over the selected
     points and one grid step beyond (at most ``at_most`` of them)."""
     idx = np.flatnonzero(where)
