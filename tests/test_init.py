@@ -110,3 +110,16 @@ def test_auto_is_not_a_kernel_option():
 
     with pytest.raises(ValueError, match="not a choice for 'kernel'"):
         gs.design(gs.lowpass(30.0), 250.0, kernel="auto")
+
+
+def test_warnings_point_at_the_users_line():
+    # common practice (no source): a warning names the line that caused it
+    import warnings
+
+    import numpy as np
+
+    x = np.random.default_rng(0).standard_normal((2, 3000))
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        gs.apply(x, gs.highpass(0.5), sfreq=250.0)  # kernel long for 12 s of data
+    assert caught and all(w.filename == __file__ for w in caught)

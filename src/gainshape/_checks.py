@@ -17,9 +17,24 @@ class GainshapeWarning(UserWarning):
     """Warning issued by gainshape (filter with ``warnings.filterwarnings``)."""
 
 
-def warn(message: str, stacklevel: int = 3) -> None:
-    """Issue a :class:`GainshapeWarning` pointing at the caller's caller."""
+def warn(message: str, stacklevel: int | None = None) -> None:
+    """Issue a :class:`GainshapeWarning` pointing at the user's line: the first
+    caller outside the gainshape package (or ``stacklevel`` when given)."""
+    if stacklevel is None:
+        stacklevel = _levels_to_user_code()
     warnings.warn(message, GainshapeWarning, stacklevel=stacklevel)
+
+
+def _levels_to_user_code() -> int:
+    """Stack levels from :func:`warn`'s caller up to the first frame outside gainshape."""
+    import os
+    import sys
+
+    package = os.path.dirname(os.path.abspath(__file__))
+    frame, level = sys._getframe(2), 2
+    while frame is not None and os.path.abspath(frame.f_code.co_filename).startswith(package):
+        frame, level = frame.f_back, level + 1
+    return level
 
 
 def check_option(name: str, value, allowed) -> str:

@@ -485,7 +485,7 @@ def _check_not_flat(curve, sfreq):
         warn(
             f"The gain curve {curve!r} is constant ({gain[0]:g}) from 0 Hz to Nyquist "
             f"({sfreq / 2:g} Hz) at this rate: the filter only scales the data. Are its "
-            "features above Nyquist?", stacklevel=4,
+            "features above Nyquist?",
         )
 
 

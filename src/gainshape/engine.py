@@ -280,7 +280,6 @@ def _warn_if_short(design, start, stop, name, hint):
         f"{_SEGMENT_KERNELS} times the filter's kernel ({n_kernel} samples, "
         f"{n_kernel / sfreq:.3g} s): much of it is filtered against the padding, so "
         f"the result there depends on the padding.{' ' + hint if hint else ''}",
-        stacklevel=4,
     )
 
 

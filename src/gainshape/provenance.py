@@ -442,7 +442,7 @@ def usable_steps(steps) -> list:
         else:
             kept.append(step)
     if skipped:
-        warn(f"Skipped {'; '.join(skipped)}: not whole gainshape step records.", stacklevel=4)
+        warn(f"Skipped {'; '.join(skipped)}: not whole gainshape step records.")
     return kept
 
 

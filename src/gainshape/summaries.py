@@ -249,7 +249,6 @@ def _resolved(bands, seconds) -> np.ndarray:
             "and change are NaN. A band needs a Welch window whose main lobe is at most "
             "half its low edge and at most its width; compare longer epochs or the "
             "continuous recording, or use wider bands.",
-            stacklevel=4,
         )
     return resolved
 
@@ -283,7 +282,7 @@ def _default_bands(signals, after) -> tuple[dict, str]:
     if above:
         listed = ", ".join(f"{n} ({lo:g}-{hi:g} Hz)" for n, (lo, hi) in above.items())
         warn(f"Default band(s) {listed} reach above the Nyquist frequency "
-             f"({nyquist:g} Hz) and are left out.", stacklevel=5)
+             f"({nyquist:g} Hz) and are left out.")
     return {n: b for n, b in bands.items() if n not in above}, source
 
 
