@@ -199,7 +199,10 @@ def main(argv=None):
         "workload": {"channels": n_channels, "seconds": seconds, "sfreq": 1000.0},
         "results": results, "ratios": ratios,
     }
-    Path(args.out).write_text(json.dumps(report, indent=2))
+    from gainshape._files import atomic_output
+
+    with atomic_output(Path(args.out)) as staged:
+        staged.write_text(json.dumps(report, indent=2))
     return 0
 
 

@@ -18,7 +18,7 @@ def _quiet_audit(*args, **kwargs):
 
 
 def test_default_waveforms_and_components():
-    ds = _quiet_audit(gs.lowpass(30.0), SFREQ)
+    ds = _quiet_audit(gs.lowpass(30.0), sfreq=SFREQ)
     assert list(ds.component.values) == ["step", "pulse", "erp early", "erp late"]
     assert list(ds.waveform.values) == ["step", "pulse", "erp"]
     assert ds.original.dims == ("waveform", "time")
@@ -29,14 +29,14 @@ def test_default_waveforms_and_components():
 
 
 def test_components_add_up_to_waveforms():
-    ds = _quiet_audit(gs.highpass(0.5), SFREQ)
+    ds = _quiet_audit(gs.highpass(0.5), sfreq=SFREQ)
     erp = ds.component_filtered.sel(component=["erp early", "erp late"]).sum("component")
     np.testing.assert_allclose(erp, ds.filtered.sel(waveform="erp"), atol=1e-12)
 
 
 def test_identity_filter_changes_nothing():
     with pytest.warns(gs.GainshapeWarning, match="only scales"):
-        ds = gs.audit(gs.GainCurve.from_points([1.0, 2.0], [1.0, 1.0]), SFREQ)
+        ds = gs.audit(gs.GainCurve.from_points([1.0, 2.0], [1.0, 1.0]), sfreq=SFREQ)
     np.testing.assert_allclose(ds.filtered, ds.original, atol=1e-9)
     assert float(np.abs(ds.peak_change_pct).max()) < 1e-6
     assert float(np.abs(ds.onset_shift_ms).max()) == 0.0
@@ -44,23 +44,23 @@ def test_identity_filter_changes_nothing():
 
 def test_high_pass_warnings_cite_literature():
     with pytest.warns(gs.GainshapeWarning) as record:
-        gs.audit(gs.highpass(0.5), SFREQ)
+        gs.audit(gs.highpass(0.5), sfreq=SFREQ)
     messages = " ".join(str(w.message) for w in record)
     assert "Tanner, Morgan-Short & Luck, 2015" in messages and "0.5 Hz" in messages
     with pytest.warns(gs.GainshapeWarning, match="Acunzo, MacKenzie & van Rossum, 2012"):
-        gs.audit(gs.highpass(0.2), SFREQ)
+        gs.audit(gs.highpass(0.2), sfreq=SFREQ)
 
 
 def test_no_warning_at_point_one_hz():
     with warnings.catch_warnings():
         warnings.simplefilter("error", gs.GainshapeWarning)
-        gs.audit(gs.highpass(0.1), SFREQ)
+        gs.audit(gs.highpass(0.1), sfreq=SFREQ)
 
 
 def test_user_array_and_evoked():
     t = np.arange(-0.2, 0.8, 1 / SFREQ)
     wave = -4e-6 * np.exp(-0.5 * ((t - 0.17) / 0.03) ** 2)
-    ds = _quiet_audit(gs.lowpass(20.0), SFREQ, waveform=wave)
+    ds = _quiet_audit(gs.lowpass(20.0), sfreq=SFREQ, waveform=wave)
     assert list(ds.component.values) == ["waveform"] and float(ds.peak.values[0]) < 0
     info = mne.create_info(["Cz", "Pz"], SFREQ, "eeg")
     evoked = mne.EvokedArray(np.vstack([wave, 0.5 * wave]), info, tmin=-0.2)
@@ -95,7 +95,7 @@ def test_short_user_waveform_is_embedded_in_zeros_for_the_kernels_reach():
 
 def test_design_rate_mismatch():
     with pytest.raises(ValueError, match="'sfreq'"):
-        gs.audit(gs.design(gs.lowpass(30.0), 250.0), 500.0)
+        gs.audit(gs.design(gs.lowpass(30.0), 250.0), sfreq=500.0)
 
 
 def test_ends_off_zero_are_levelled_and_said():

@@ -25,8 +25,8 @@ def test_warning_class_is_userwarning():
 # only modules before it. Deferred imports inside functions are the documented
 # exceptions (design -> viz for FilterDesign.plot, adapters -> outofcore).
 LAYERS = ["_checks", "_files", "curves", "design", "engine", "provenance", "adapters", "outofcore",
-          "summaries", "audit", "viz", "demo"]
-MNE_AWARE = {"adapters", "outofcore", "provenance", "demo"}  # provenance: version, mne-bids
+          "summaries", "audit", "viz", "simulate", "demo"]
+MNE_AWARE = {"adapters", "outofcore", "provenance", "simulate", "demo"}  # provenance: version, mne-bids
 
 
 def _package_imports(path, top_level_only):

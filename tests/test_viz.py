@@ -117,7 +117,7 @@ def test_audit_plot_equals_data():
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", gs.GainshapeWarning)
-        ds = gs.audit(gs.highpass(1.0), 250.0)
+        ds = gs.audit(gs.highpass(1.0), sfreq=250.0)
     fig = gs.plot_audit(ds, show=False)
     for ax, name in zip(fig.axes, ds.waveform.values):
         np.testing.assert_array_equal(_line(ax, "original").get_ydata(), ds.original.sel(waveform=name).values)

@@ -33,7 +33,7 @@ _STEP_SECONDS = 1.0  # the step goes up at 0 s and back down after this long
 _ERP_COMPONENTS = (("erp early", "erp", 0.100, 0.015, -5.0), ("erp late", "erp", 0.450, 0.120, 5.0))
 
 
-def audit(filt, sfreq: float | None = None, waveform=None) -> xr.Dataset:
+def audit(filt, *, sfreq: float | None = None, waveform=None) -> xr.Dataset:
     """Measure what ``filt`` does to test waveforms or to the user's waveform.
 
     Parameters
@@ -65,7 +65,7 @@ def audit(filt, sfreq: float | None = None, waveform=None) -> xr.Dataset:
     Examples
     --------
     >>> import gainshape as gs
-    >>> ds = audit(gs.lowpass(30.0), 500.0)
+    >>> ds = audit(gs.lowpass(30.0), sfreq=500.0)
     >>> ds.component.values.tolist()
     ['step', 'pulse', 'erp early', 'erp late']
     """

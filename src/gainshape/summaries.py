@@ -15,7 +15,7 @@ from scipy.signal import csd, welch
 from ._checks import warn
 from .adapters import as_arrays
 
-__all__ = ["band_change", "observed_gain", "DEFAULT_BANDS", "spectral_settings"]
+__all__ = ["band_change", "band_change_map", "observed_gain", "DEFAULT_BANDS", "spectral_settings"]
 
 # Common practice (no source): the classic EEG bands, with a slow band below
 # delta where high-pass filters act.
@@ -136,6 +136,24 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
                "line_band": line_source},
     )
     return ds
+
+
+def band_change_map(ds) -> np.ndarray:
+    """``change_db`` of :func:`band_change` as a (channel, band) array, epochs
+    combined by their mean power (for maps).
+
+    Examples
+    --------
+    >>> import numpy as np, gainshape as gs
+    >>> x = np.random.default_rng(0).standard_normal((2, 25000))
+    >>> band_change_map(gs.band_change(x, 0.5 * x, sfreq=250.0)).shape
+    (2, 6)
+    """
+    if "epoch" not in ds.dims:
+        return ds.change_db.transpose("channel", "band").values
+    before = ds.power_before.mean("epoch")
+    after = ds.power_after.mean("epoch")
+    return (10 * np.log10(after / before)).transpose("channel", "band").values
 
 
 def observed_gain(before, after, *, sfreq=None) -> xr.DataArray:

@@ -265,6 +265,8 @@ def plot_band_change(ds, *, show=True):
     import matplotlib.pyplot as plt
 
     _check_result(ds, "ds", ("change_db", "band_resolved"), "gs.band_change(before, after)")
+    from .summaries import band_change_map
+
     change = band_change_map(ds)
     lim = min(max(float(np.nanmax(np.abs(change))), 0.1), _MAP_LIMIT_DB)
     n_ch, n_band = change.shape
@@ -297,15 +299,6 @@ def plot_band_change(ds, *, show=True):
     if show:
         plt.show()
     return fig
-
-
-def band_change_map(ds) -> np.ndarray:
-    """``change_db`` as (channel, band), epochs combined by mean power."""
-    if "epoch" not in ds.dims:
-        return ds.change_db.transpose("channel", "band").values
-    before = ds.power_before.mean("epoch")
-    after = ds.power_after.mean("epoch")
-    return (10 * np.log10(after / before)).transpose("channel", "band").values
 
 
 def plot_observed_gain(da, design=None, *, show=True):
@@ -372,7 +365,7 @@ def plot_audit(ds, *, tmin=-0.5, tmax=2.0, show=True):
     Examples
     --------
     >>> import gainshape as gs
-    >>> fig = plot_audit(gs.audit(gs.highpass(0.1), 250.0), show=False)
+    >>> fig = plot_audit(gs.audit(gs.highpass(0.1), sfreq=250.0), show=False)
     >>> len(fig.axes)
     3
     """

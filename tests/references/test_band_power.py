@@ -13,7 +13,8 @@ import pytest
 from scipy.signal import welch
 
 import gainshape as gs
-from gainshape.demo import demo_curve, simulate_workshop_recording
+from gainshape.demo import demo_curve
+from gainshape.simulate import simulate_workshop_recording
 
 SFREQ = 250.0
 
