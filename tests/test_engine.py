@@ -109,13 +109,15 @@ def test_blocks_in_time_equal_one_fft_over_the_record(binding, rng, monkeypatch)
     # for a SciPy without the binding) must agree with it
     import scipy.fft as sfft
 
-    from gainshape import engine
+    from gainshape import _compat
     from gainshape.engine import block_plan
 
     if binding == "public scipy.fft":
-        monkeypatch.setattr(engine, "_POCKETFFT", None)
+        monkeypatch.setattr(_compat, "POCKETFFT", None)
+        monkeypatch.setattr(_compat.forward_real, "__defaults__", (None,))
+        monkeypatch.setattr(_compat.backward_real, "__defaults__", (None,))
     else:
-        assert engine._POCKETFFT is not None  # this SciPy has the binding
+        assert _compat.POCKETFFT is not None  # this SciPy has the binding
 
     design = gs.design(gs.highpass(1.0), SFREQ)
     x = rng.standard_normal((3, 150_000))
@@ -169,3 +171,15 @@ def test_convolve_rows_matches_scipy_fft(dtype, n_fft, rng):
         convolve_rows(buf, response, 1, spectrum_buffer(buf))
         assert buf.dtype == dtype
         np.testing.assert_allclose(buf, expected, atol=1e-5 if dtype == np.float32 else 1e-12)
+
+
+def test_public_fallbacks_of_the_private_transforms(rng):
+    # scipy.fft reference: rfft/irfft; the fallbacks _compat uses without the binding
+    import scipy.fft as sfft
+
+    from gainshape._compat import backward_real, forward_real
+
+    x = rng.standard_normal((3, 64))
+    spec = forward_real(x, np.empty((3, 33), complex), 1, binding=None)
+    np.testing.assert_allclose(spec, sfft.rfft(x))
+    np.testing.assert_allclose(backward_real(spec, 64, np.empty((3, 64)), 1, binding=None), x)

@@ -24,9 +24,9 @@ def test_warning_class_is_userwarning():
 # The layers of DESIGN.md, lowest first; a module may import (at module level)
 # only modules before it. Deferred imports inside functions are the documented
 # exceptions (design -> viz for FilterDesign.plot, adapters -> outofcore).
-LAYERS = ["_checks", "_files", "curves", "design", "engine", "provenance", "adapters", "outofcore",
+LAYERS = ["_checks", "_compat", "_files", "curves", "design", "engine", "provenance", "adapters", "outofcore",
           "summaries", "audit", "viz", "simulate", "demo"]
-MNE_AWARE = {"adapters", "outofcore", "provenance", "simulate", "demo"}  # provenance: version, mne-bids
+MNE_AWARE = {"_compat", "adapters", "outofcore", "provenance", "simulate", "demo"}  # provenance: version, mne-bids
 
 
 def _package_imports(path, top_level_only):
@@ -36,8 +36,8 @@ def _package_imports(path, top_level_only):
     nodes = tree.body if top_level_only else list(ast.walk(tree))
     local, external = set(), set()
     for node in nodes:
-        if isinstance(node, ast.ImportFrom) and node.level == 1:
-            local.add(node.module or "")
+        if isinstance(node, ast.ImportFrom) and node.level == 1:  # "from . import x" names x
+            local.update([node.module] if node.module else [a.name for a in node.names])
         elif isinstance(node, ast.ImportFrom) and node.module:
             external.add(node.module.split(".")[0])
         elif isinstance(node, ast.Import):

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ._compat import channel_type_words, picks_to_indices, unlocked
 from ._checks import check_bool, check_int, check_option, check_positive, warn
 from .curves import GainCurve
 from .design import FilterDesign, check_kernel_request, design
@@ -276,11 +277,9 @@ def as_arrays(inst, *, sfreq=None, name="inst") -> Signals:
         names = [str(i) for i in range(data.shape[0])]
         return Signals(data, float(sfreq), names, ["n/a"] * len(names), "array", "unit",
                        None, [], np.arange(data.shape[-1]) / float(sfreq))
-    from mne._fiff.pick import _picks_to_idx
-
     kind = _mne_kind(inst, name)
     _check_sfreq(inst, sfreq)
-    idx = _picks_to_idx(inst.info, "data", exclude=(), allow_empty=True)
+    idx = picks_to_indices(inst.info, "data", allow_empty=True)
     if idx.size == 0 or not _n_records(inst, kind):
         raise ValueError(
             f"The '{name}' {kind} has no data channels or no "
@@ -477,8 +476,6 @@ def _short_repr(value) -> str:
 
 
 def _pick_indices(inst, picks) -> np.ndarray:
-    from mne._fiff.pick import _picks_to_idx
-
     names = inst.ch_names
     listing = (f"The data have {len(names)} channels ({', '.join(names[:6])}"
                f"{', ...' if len(names) > 6 else ''})")
@@ -486,7 +483,7 @@ def _pick_indices(inst, picks) -> np.ndarray:
     if isinstance(picks, np.ndarray) and picks.dtype == bool and picks.shape == (len(names),):
         picks = np.flatnonzero(picks)  # a boolean mask over the channels
     try:
-        idx = _picks_to_idx(inst.info, picks, none="data", exclude=(), allow_empty=True)
+        idx = picks_to_indices(inst.info, picks, allow_empty=True)
     except (ValueError, TypeError, IndexError) as err:
         unknown = _unknown_channel_names(inst, picks)
         if unknown:
@@ -514,12 +511,10 @@ def _pick_indices(inst, picks) -> np.ndarray:
 
 def _unknown_channel_names(inst, picks) -> list[str]:
     """The strings in ``picks`` that are neither channel names nor type words."""
-    from mne._fiff.pick import get_channel_type_constants
-
     names = [picks] if isinstance(picks, str) else picks
     if not isinstance(names, (list, tuple)):
         return []
-    words = set(get_channel_type_constants()) | {"all", "data", "data_or_ica", "meg", "fnirs"}
+    words = channel_type_words()
     return [str(n) for n in names if isinstance(n, str) and n not in inst.ch_names and n not in words]
 
 
@@ -574,13 +569,11 @@ def _passband_edges(filt: FilterDesign):
 
 
 def _update_info(inst, idx, filt):
-    from mne._fiff.pick import _picks_to_idx
-
-    data_idx = _picks_to_idx(inst.info, "data", exclude=())
+    data_idx = picks_to_indices(inst.info, "data")
     if not set(data_idx.tolist()) <= set(idx.tolist()):
         return
     highpass, lowpass = _passband_edges(filt)
-    with inst.info._unlock():
+    with unlocked(inst.info):
         if highpass is not None:
             inst.info["highpass"] = max(float(inst.info["highpass"] or 0.0), highpass)
         if lowpass is not None:

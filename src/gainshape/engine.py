@@ -17,6 +17,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.fft as sfft
 
+from . import _compat
 from ._checks import check_int, check_option, warn
 
 __all__ = ["Progress", "filter_array", "check_finite", "filter_span", "edge_pads", "block_plan", "PAD_MODES",
@@ -454,14 +455,14 @@ def convolve_rows(buf: np.ndarray, response: np.ndarray, workers: int = 1, spec=
     array([[1., 2., 3., 4.]])
     """
     n_fft = buf.shape[-1]
-    if spec is None or _POCKETFFT is None:
+    if spec is None or _compat.POCKETFFT is None:
         result = sfft.rfft(buf, axis=-1, workers=workers)
         result *= response
         buf[...] = sfft.irfft(result, n=n_fft, axis=-1, workers=workers, overwrite_x=True)
         return buf
-    _POCKETFFT.r2c(buf, (1,), True, 0, spec, workers)
+    _compat.forward_real(buf, spec, workers)
     spec *= response
-    _POCKETFFT.c2r(spec, (1,), n_fft, False, 2, buf, workers)
+    _compat.backward_real(spec, n_fft, buf, workers)
     return buf
 
 
@@ -482,22 +483,3 @@ def spectrum_buffer(buf: np.ndarray) -> np.ndarray:
     """A complex work array matching ``buf`` (rows, n_fft) for :func:`convolve_rows`."""
     dtype = np.complex64 if buf.dtype == np.float32 else np.complex128
     return np.empty((buf.shape[0], buf.shape[-1] // 2 + 1), dtype=dtype)
-
-
-def _pocketfft_with_out():
-    """scipy.fft's pocketfft binding if it writes into given arrays as expected, else None."""
-    try:
-        from scipy.fft._pocketfft import pypocketfft
-
-        x = np.arange(8.0).reshape(2, 4)
-        spec = np.empty((2, 3), complex)
-        pypocketfft.r2c(x, (1,), True, 0, spec, 1)
-        back = np.empty_like(x)
-        pypocketfft.c2r(spec, (1,), 4, False, 2, back, 1)
-    except Exception:  # a future SciPy without this private binding: public API
-        return None
-    ok = np.allclose(spec, sfft.rfft(x)) and np.allclose(back, x)
-    return pypocketfft if ok else None
-
-
-_POCKETFFT = _pocketfft_with_out()

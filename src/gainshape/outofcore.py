@@ -13,6 +13,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ._compat import calibrate_into, unlocked
 from ._files import atomic_output
 from .design import FilterDesign
 from .engine import (LOCAL_PAD_MODES, block_plan, check_finite, edge_pads, fft_workers,
@@ -51,7 +52,7 @@ def filtered_raw(raw, filt, idx, pad, n_jobs, segments):
     from mne.io import BaseRaw
 
     info = raw.info.copy()
-    with info._unlock():
+    with unlocked(info):
         for ch in info["chs"]:  # the reader returns calibrated data already
             ch["cal"], ch["range"] = 1.0, 1.0
 
@@ -68,10 +69,8 @@ def filtered_raw(raw, filt, idx, pad, n_jobs, segments):
             return None if written is None else [fname.parent / Path(p).name for p in written]
 
         def _read_segment_file(self, data, idx, fi, start, stop, cals, mult):
-            from mne._fiff.utils import _mult_cal_one
-
             reader = self._raw_extras[fi]["gainshape_reader"]
-            _mult_cal_one(data, reader.read(start, stop), idx, cals, mult)
+            calibrate_into(data, reader.read(start, stop), idx, cals, mult)
 
     reader = _BlockReader(raw, filt, idx, pad, n_jobs, segments)
     out = _FilteredRaw(

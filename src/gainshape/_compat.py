@@ -1,0 +1,115 @@
+"""Every use of another library's private interface, behind one small function each.
+
+Each function says what it relies on, the versions it was tested with
+(SciPy 1.17.1, MNE-Python 1.13.2) and what happens without it. Nothing
+else in gainshape imports a private name of SciPy or MNE.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import scipy.fft as sfft
+
+__all__ = ["picks_to_indices", "channel_type_words", "unlocked", "calibrate_into",
+           "pocketfft_with_out", "forward_real", "backward_real"]
+
+# pocketfft's r2c/c2r take (input, axes, forward, normalization, output, workers);
+# normalization 0 is none, 2 is 1/n (the inverse of scipy.fft.irfft's default).
+_NO_SCALING, _SCALE_BY_N = 0, 2
+_LAST_AXIS = (1,)
+
+
+def picks_to_indices(info, picks, *, none="data", allow_empty=False) -> np.ndarray:
+    """Channel indices for MNE-style ``picks`` (names, types, indices, "data", "all").
+
+    Relies on ``mne._fiff.pick._picks_to_idx`` (MNE's own reading of picks,
+    bad channels included). No public equivalent takes an ``info``; without
+    it gainshape cannot read picks.
+    """
+    from mne._fiff.pick import _picks_to_idx
+
+    return _picks_to_idx(info, picks, none=none, exclude=(), allow_empty=allow_empty)
+
+
+def channel_type_words() -> set:
+    """Channel-type words MNE accepts in ``picks`` (to tell a misspelt name from a type).
+
+    Relies on ``mne._fiff.pick.get_channel_type_constants``; the generic
+    words are added by hand.
+    """
+    from mne._fiff.pick import get_channel_type_constants
+
+    return set(get_channel_type_constants()) | {"all", "data", "data_or_ica", "meg", "fnirs"}
+
+
+def unlocked(info):
+    """A context in which ``info``'s protected entries (highpass, lowpass, chs) can be set.
+
+    Relies on ``Info._unlock()`` (MNE >= 1.0), the way MNE's own filters
+    update ``info["highpass"]``.
+    """
+    return info._unlock()
+
+
+def calibrate_into(data, block, idx, cals, mult) -> None:
+    """Write ``block`` into ``data`` the way a Raw reader must (picks, calibration, projection).
+
+    Relies on ``mne._fiff.utils._mult_cal_one``, which MNE's own readers call
+    from ``_read_segment_file``.
+    """
+    from mne._fiff.utils import _mult_cal_one
+
+    _mult_cal_one(data, block, idx, cals, mult)
+
+
+def pocketfft_with_out():
+    """scipy.fft's pocketfft binding if it writes into given arrays as expected, else None.
+
+    Relies on ``scipy.fft._pocketfft.pypocketfft`` (r2c/c2r with an output
+    argument, which ``scipy.fft`` lacks); checked against ``scipy.fft.rfft``
+    on import. Without it :func:`forward_real` and :func:`backward_real`
+    fall back to the public functions (same results, more allocation).
+    """
+    try:
+        from scipy.fft._pocketfft import pypocketfft
+
+        x = np.arange(8.0).reshape(2, 4)
+        spec = np.empty((2, 3), complex)
+        pypocketfft.r2c(x, _LAST_AXIS, True, _NO_SCALING, spec, 1)
+        back = np.empty_like(x)
+        pypocketfft.c2r(spec, _LAST_AXIS, 4, False, _SCALE_BY_N, back, 1)
+    except Exception:  # a SciPy without this private binding: the public API
+        return None
+    ok = np.allclose(spec, sfft.rfft(x)) and np.allclose(back, x)
+    return pypocketfft if ok else None
+
+
+POCKETFFT = pocketfft_with_out()
+
+
+def forward_real(rows, out, workers, binding=POCKETFFT) -> np.ndarray:
+    """``scipy.fft.rfft(rows, axis=-1)`` written into ``out``.
+
+    >>> x = np.arange(8.0).reshape(2, 4)
+    >>> bool(np.allclose(forward_real(x, np.empty((2, 3), complex), 1), sfft.rfft(x)))
+    True
+    """
+    if binding is None:
+        out[...] = sfft.rfft(rows, axis=-1, workers=workers)
+        return out
+    binding.r2c(rows, _LAST_AXIS, True, _NO_SCALING, out, workers)
+    return out
+
+
+def backward_real(spec, n, out, workers, binding=POCKETFFT) -> np.ndarray:
+    """``scipy.fft.irfft(spec, n, axis=-1)`` written into ``out``.
+
+    >>> x = np.arange(8.0).reshape(2, 4)
+    >>> bool(np.allclose(backward_real(sfft.rfft(x), 4, np.empty((2, 4)), 1), x))
+    True
+    """
+    if binding is None:
+        out[...] = sfft.irfft(spec, n=n, axis=-1, workers=workers)
+        return out
+    binding.c2r(spec, _LAST_AXIS, n, False, _SCALE_BY_N, out, workers)
+    return out
