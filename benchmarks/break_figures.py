@@ -12,11 +12,11 @@ import pathlib
 import subprocess
 import sys
 breaks = [
- ("group_delay x2", "src/gainshape/design.py", "group_delay=_group_delay(kernel, offset, sfreq, causal, n_fft),", "group_delay=2 * _group_delay(kernel, offset, sfreq, causal, n_fft),"),
- ("stop-band attenuation 10 log10", "src/gainshape/design.py", "float(-20 * np.log10(max(top, 1e-300)))", "float(-10 * np.log10(max(top, 1e-300)))"),
- ("passband ripple x2", "src/gainshape/design.py", "ripple = float(np.max(np.abs(ratio_db)))", "ripple = 2 * float(np.max(np.abs(ratio_db)))"),
- ("high-pass settling x3", "src/gainshape/design.py", "settling = float(times[late[-1]]) if late.size else 0.0", "settling = 3 * float(times[late[-1]]) if late.size else 0.0"),
- ("low-pass decay x3", "src/gainshape/design.py", "decay = float(times[loud[-1]]) if loud.size else 0.0", "decay = 3 * float(times[loud[-1]]) if loud.size else 0.0"),
+ ("group_delay x2", "src/gainshape/measure.py", "group_delay=_group_delay(kernel, offset, sfreq, causal, n_fft),", "group_delay=2 * _group_delay(kernel, offset, sfreq, causal, n_fft),"),
+ ("stop-band attenuation 10 log10", "src/gainshape/measure.py", "float(-20 * np.log10(max(top, 1e-300)))", "float(-10 * np.log10(max(top, 1e-300)))"),
+ ("passband ripple x2", "src/gainshape/measure.py", "ripple = float(np.max(np.abs(ratio_db)))", "ripple = 2 * float(np.max(np.abs(ratio_db)))"),
+ ("high-pass settling x3", "src/gainshape/measure.py", "settling = float(times[late[-1]]) if late.size else 0.0", "settling = 3 * float(times[late[-1]]) if late.size else 0.0"),
+ ("low-pass decay x3", "src/gainshape/measure.py", "decay = float(times[loud[-1]]) if loud.size else 0.0", "decay = 3 * float(times[loud[-1]]) if loud.size else 0.0"),
  ("BIDS half-amplitude x2", "src/gainshape/provenance.py", 'edges[f"{name} half-amplitude cutoff (Hz)"] = _round_sig(hz, 4)', 'edges[f"{name} half-amplitude cutoff (Hz)"] = _round_sig(2 * hz, 4)'),
  ("audit ringing_s x5", "src/gainshape/audit.py", '"ringing_s": float(t[error[-1]] - t[i_offset])', '"ringing_s": 5 * float(t[error[-1]] - t[i_offset])'),
  ("audit latency_shift_ms x2", "src/gainshape/audit.py", '"latency_shift_ms": 1000 * (t[j_peak] - t[i_peak]),', '"latency_shift_ms": 2000 * (t[j_peak] - t[i_peak]),'),

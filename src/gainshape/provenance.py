@@ -22,7 +22,8 @@ import xxhash
 
 from ._checks import warn
 from ._files import atomic_output
-from .design import passband_edges, phase_words, removed_bands, stop_band_words, timing_words
+from .design import phase_words
+from .measure import passband_edges, removed_bands, stop_band_words, timing_words
 
 __all__ = [
     "History",
@@ -528,7 +529,7 @@ def _edge_sentence(r) -> str:
 
 
 def _timing_sentence(r) -> str:
-    """The pass-band edges' time behaviour (see gainshape.design.EdgeTiming)."""
+    """The pass-band edges' time behaviour (see gainshape.measure.EdgeTiming)."""
     return "In time, its " + "; its ".join(timing_words(t) for t in r["edge_timing"]) + "."
 
 

@@ -1,0 +1,578 @@
+"""The realized filter measured and stated in the field's terms.
+
+Vocabulary: an *edge* is a frequency where the realized gain crosses a level
+(0.5 for half-amplitude, 1/sqrt(2) for half-power), rising or falling; the
+*pass-band edges* are the leading rising ("high-pass") and trailing falling
+("low-pass") edges; a *stop band* is a run of the realized gain below 0.5,
+or a notch inside one; its *floor* is where the request is within 1 dB of
+its lowest value there.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.fft as sfft
+from scipy.optimize import brentq, minimize_scalar
+
+from .realize import (_MIN_DENSE, _cepstral_minimum_phase, _dtft, _kernel_spectrum,
+                      _validated_gain, _zoom_gain, _zoom_response)
+
+__all__ = ["Characteristics", "EdgeFrequency", "EdgeTiming", "StopBand", "characterize", "passband_edges",
+           "removed_bands", "stop_band_words", "timing_words"]
+
+_HALF_POWER = 1.0 / np.sqrt(2.0)
+_TIME_LEVEL = 0.01  # settling and decay: to within 1 % (of the step, of the peak)
+_SKIRTS = ("below the high-pass edge", "above the low-pass edge")  # stop bands beyond the pass band
+_FLOOR_SPAN = 10 ** (1 / 20)  # a stop band's floor: request within 1 dB of its lowest
+
+
+class EdgeFrequency(float):
+    """A frequency (Hz) where the gain crosses a level, with its direction.
+
+    ``direction`` is ``"rising"`` (gain increases with frequency, the edge of
+    a high-pass) or ``"falling"`` (the edge of a low-pass).
+
+    Examples
+    --------
+    >>> e = EdgeFrequency(30.0, "falling")
+    >>> e + 0, e.direction
+    (30.0, 'falling')
+    """
+
+    __slots__ = ("direction",)
+
+    def __new__(cls, hz: float, direction: str):
+        obj = super().__new__(cls, hz)
+        obj.direction = direction
+        return obj
+
+    def __repr__(self):
+        return f"{float(self):.4g} Hz ({self.direction})"
+
+    def __reduce__(self):
+        return (EdgeFrequency, (float(self), self.direction))
+
+
+@dataclass(frozen=True, slots=True)
+class StopBand:
+    """A band the realized filter removes.
+
+    ``low``, ``high``: its limits (Hz): half-amplitude points, or for a
+    notch inside a wider stop band the points at half the gain beside it.
+    ``attenuation_db``: -20 log10 of the largest realized gain over the
+    band's floor, the part where the request is within 1 dB of its lowest
+    value in the band (or at most the tolerance), so the transitions into
+    the band do not count. ``kind``: "below the high-pass edge", "above the
+    low-pass edge", "notch", "band-stop" or "notch inside a stop band".
+
+    Examples
+    --------
+    >>> StopBand(49.0, 51.0, 60.2, "notch").to_dict()["attenuation_db"]
+    60.2
+    """
+
+    low: float
+    high: float
+    attenuation_db: float
+    kind: str
+
+    def to_dict(self) -> dict:
+        """Plain JSON values."""
+        return {"low": float(self.low), "high": float(self.high),
+                "attenuation_db": float(self.attenuation_db), "kind": self.kind}
+
+
+@dataclass(frozen=True, slots=True)
+class EdgeTiming:
+    """What one pass-band edge does in time, measured on that edge alone.
+
+    The realized response is split at the geometric middle of the pass
+    band, so each edge's part keeps the other side flat. For the high-pass
+    edge, from its unit step response: ``settling_s``, the time after the
+    step until the response stays within 1 % of its final value, and
+    ``opposite_pct``, its largest excursion of the opposite polarity (% of
+    the step; for zero phase this includes the part before the step). For
+    the low-pass edge: ``decay_s``, the time after t = 0 until the impulse
+    response's envelope stays below 1 % of its peak, and ``overshoot_pct``,
+    the step response's largest overshoot (%). Figures that do not apply
+    to an edge are None.
+
+    Examples
+    --------
+    >>> from gainshape import design, lowpass
+    >>> t = design(lowpass(30.0), 250.0).characteristics.edge_timing[0]
+    >>> t.edge, t.decay_s > 0, t.settling_s is None
+    ('low-pass', True, True)
+    """
+
+    edge: str
+    cutoff: float
+    settling_s: float | None
+    opposite_pct: float | None
+    decay_s: float | None
+    overshoot_pct: float | None
+
+    def to_dict(self) -> dict:
+        """Plain JSON values (None where a figure does not apply)."""
+        return {"edge": self.edge, "cutoff": float(self.cutoff),
+                **{k: getattr(self, k) for k in
+                   ("settling_s", "opposite_pct", "decay_s", "overshoot_pct")}}
+
+
+@dataclass(frozen=True, slots=True)
+class Characteristics:
+    """The realized filter in the field's terms (all computed, none assumed).
+
+    Attributes
+    ----------
+    kind : str
+        Derived from the realized gain: "low-pass", "high-pass", "band-pass",
+        "band-stop", "notch", combinations joined by " + ", or "custom".
+    half_amplitude, half_power : tuple of EdgeFrequency
+        Frequencies (Hz, ascending) where the realized gain crosses 0.5
+        (-6.02 dB) and 1/sqrt(2) (-3.01 dB).
+    rolloff : tuple of float
+        For each half-amplitude edge, the steepest slope (dB/octave, positive)
+        of the realized gain between the edge and the point where the gain
+        falls to 30 x tolerance (about 30 dB above the kernel's error floor;
+        at most 0.05). For the outer edges of a pass band the slope is taken
+        on the upper concave hull of dB against octaves, so a notch inside the
+        stop band does not count as roll-off.
+    passband_ripple_db : float
+        Largest |20 log10(realized / requested)| where the request is at least
+        1/sqrt(2).
+    stop_bands : tuple of StopBand
+        Every stop band of the realized gain: each run below 0.5 between
+        half-amplitude points (below a high-pass edge, above a low-pass edge,
+        notches, band-stops, drawn floors) and each notch inside such a run
+        (a null 20 dB below the gain 10 % of its frequency away), with its
+        attenuation (see :class:`StopBand`).
+    stopband_attenuation_db : float
+        The smallest attenuation of any stop band (NaN if there is none).
+    max_deviation : float
+        Largest |realized - requested| gain difference on a fine grid.
+    edge_timing : tuple of EdgeTiming
+        Time behaviour of each pass-band edge (see :class:`EdgeTiming`).
+    group_delay : float
+        Seconds; 0 for zero phase; for minimum phase the gain-squared-weighted
+        mean group delay over the half-power passband.
+    length : float
+        Kernel length in seconds.
+    """
+
+    kind: str
+    half_amplitude: tuple
+    half_power: tuple
+    rolloff: tuple
+    passband_ripple_db: float
+    stop_bands: tuple
+    stopband_attenuation_db: float
+    max_deviation: float
+    edge_timing: tuple
+    group_delay: float
+    length: float
+
+    def to_dict(self) -> dict:
+        """Plain JSON-serializable values (edges as lists of Hz and directions).
+
+        Examples
+        --------
+        >>> from gainshape import design, lowpass
+        >>> c = design(lowpass(30.0), 250.0).characteristics
+        >>> c.to_dict()["stop_bands"][0]["kind"]
+        'above the low-pass edge'
+        """
+        out = {}
+        for name in self.__slots__:
+            value = getattr(self, name)
+            if name in ("stop_bands", "edge_timing"):
+                out[name] = [item.to_dict() for item in value]
+            elif name.startswith("half_"):
+                out[name] = [float(e) for e in value]
+                out[name + "_direction"] = [e.direction for e in value]
+            elif isinstance(value, tuple):
+                out[name] = [float(v) for v in value]
+            else:
+                out[name] = value if isinstance(value, str) else float(value)
+        return out
+
+
+# -- characterization -----------------------------------------------------------
+def characterize(curve, kernel, offset, sfreq, causal, tol, exact) -> Characteristics:
+    """Characteristics from the realized gain on an FFT grid at least 8 times
+    denser than the kernel (exact values there), with crossings and the
+    largest deviations refined on the exact response."""
+    nyq = sfreq / 2.0
+    n_fft = max(2 * _MIN_DENSE, sfft.next_fast_len(8 * kernel.size, real=True))
+    freqs = sfft.rfftfreq(n_fft, 1.0 / sfreq)
+    requested = _validated_gain(curve, freqs)
+    if exact:
+        point_fn, signed = curve, requested
+    else:
+        def point_fn(f):
+            return np.abs(_dtft(kernel, offset, sfreq, np.asarray(f, float), causal))
+
+        spec = _kernel_spectrum(kernel, offset, n_fft, causal)
+        signed = np.abs(spec) if causal else spec
+    uniform = (freqs, spec if not exact and causal else signed)  # for the time responses
+    # the lowest 64 grid steps hold too few points for slopes: add 32 exact
+    # points per step there (zoom FFT)
+    low = np.linspace(0.0, freqs[64], 2048)[1:]
+    low_signed = curve(low) if exact else _zoom_response(kernel, offset, sfreq, freqs[64], causal)
+    order = np.argsort(np.concatenate([freqs, low]), kind="stable")
+    freqs = np.concatenate([freqs, low])[order]
+    requested = np.concatenate([requested, curve(low)])[order]
+    signed = np.concatenate([signed, np.abs(low_signed) if causal else low_signed])[order]
+    realized = np.abs(signed)
+
+    def grid_fn(f):
+        return np.interp(f, freqs, realized)
+
+    half_amp = _crossings(freqs, realized, 0.5, point_fn)
+    half_pow = _crossings(freqs, realized, _HALF_POWER, point_fn)
+    floor = min(30 * tol, 0.05)
+    outer = _outer_edges(half_amp)
+    rolloffs = tuple(
+        _steepest_slope(e, grid_fn, freqs[1], nyq, floor, half_amp, e in outer)
+        for e in half_amp
+    )
+    passband = requested >= _HALF_POWER
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio_db = 20 * np.log10(realized[passband] / requested[passband])
+    ripple = float(np.max(np.abs(ratio_db))) if passband.any() else float("nan")
+    nulls = _hidden_notches(freqs, realized, half_amp, tol)
+    def response(f):  # evenly spaced frequencies: exact by zoom FFT
+        return curve(f) if exact else np.abs(_zoom_gain(kernel, offset, sfreq, f, causal))
+
+    stops = _stop_bands(freqs, realized, requested, half_amp, nulls, tol, curve, response)
+    atten = min((b.attenuation_db for b in stops), default=float("nan"))
+    timing = _edge_timing(*uniform, causal, half_amp, sfreq,
+                          [(b.low, b.high) for b in stops if b.kind not in _SKIRTS])
+    return Characteristics(
+        kind=_kind(half_amp, realized[0], realized[-1], len(nulls)),
+        half_amplitude=half_amp,
+        half_power=half_pow,
+        rolloff=rolloffs,
+        passband_ripple_db=ripple,
+        stop_bands=stops,
+        stopband_attenuation_db=float(atten),
+        max_deviation=_max_deviation(freqs, signed, requested, curve, None if exact else point_fn),
+        edge_timing=timing,
+        group_delay=_group_delay(kernel, offset, sfreq, causal, n_fft),
+        length=kernel.size / sfreq,
+    )
+
+
+def _max_deviation(freqs, realized, requested, curve, point_fn, n_peaks=3) -> float:
+    """Largest |realized - requested|: the grid's largest peaks, each refined
+    by a bounded search on the exact response between its grid neighbours."""
+    dev = np.abs(realized - requested)
+    best = float(dev.max())
+    if point_fn is None:  # applied exactly on the record's grid
+        return best
+    inner = np.flatnonzero((dev[1:-1] >= dev[:-2]) & (dev[1:-1] >= dev[2:])) + 1
+    for i in inner[np.argsort(dev[inner])[-n_peaks:]]:
+        found = minimize_scalar(
+            lambda f: -abs(float(point_fn(np.array([f]))[0]) - float(curve(f))),
+            bounds=(freqs[i - 1], freqs[i + 1]), method="bounded",
+            options={"xatol": 1e-3 * (freqs[1] - freqs[0])})
+        best = max(best, -float(found.fun))
+    return best
+
+
+def _crossings(freqs, gain, level, fn) -> tuple:
+    """Edges where ``gain`` crosses ``level``, refined on the exact response."""
+    above = gain >= level
+    idx = np.flatnonzero(above[1:] != above[:-1])
+    edges = []
+    for i in idx:
+        lo, hi = freqs[i], freqs[i + 1]
+        hz = lo + (hi - lo) * (level - gain[i]) / (gain[i + 1] - gain[i])
+        if fn is not None:  # refined on the exact response
+            try:
+                hz = brentq(lambda f: float(fn(np.array([f]))[0]) - level, lo, hi, xtol=1e-9)
+            except ValueError:
+                pass
+        edges.append(EdgeFrequency(hz, "rising" if above[i + 1] else "falling"))
+    return tuple(edges)
+
+
+def _steepest_slope(edge, fn, fmin, fmax, floor, edges, hull) -> float:
+    """Steepest dB/octave slope from ``edge`` into its stop side, down to ``floor``.
+
+    With ``hull`` (outer edges of a pass band), the slope is taken on the
+    least concave majorant of dB against octaves over the points above the
+    floor, which bridges notches inside the stop band and equals the gain
+    itself for a Butterworth-like transition (concave in log frequency).
+    """
+    others = [float(e) for e in edges if e is not edge]
+    if edge.direction == "falling":
+        end = min([o for o in others if o > edge] + [fmax])
+    else:
+        end = max([o for o in others if o < edge] + [fmin])
+    n_oct = abs(np.log2(end / float(edge)))
+    f = np.geomspace(float(edge), end, max(64, int(min(n_oct, 1.0) * 2000), int(n_oct * 200)))
+    db = 20 * np.log10(np.maximum(fn(f), 1e-300))
+    octaves = np.abs(np.log2(f / float(edge)))
+    above = db >= 20 * np.log10(floor)
+    if not hull:
+        above = np.cumprod(above).astype(bool)
+    octaves, db = octaves[above], db[above]
+    if hull:
+        idx = _upper_hull(octaves, db)
+        octaves, db = octaves[idx], db[idx]
+    if db.size < 2:
+        return float("nan")
+    return float(np.max(np.abs(np.diff(db) / np.diff(octaves))))
+
+
+def _upper_hull(x, y) -> list:
+    """Indices of the upper convex hull of points with increasing ``x``."""
+    out = []
+    for i in range(x.size):
+        while len(out) >= 2:
+            a, b = out[-2], out[-1]
+            cross = (x[b] - x[a]) * (y[i] - y[a]) - (y[b] - y[a]) * (x[i] - x[a])
+            if cross < 0:
+                break
+            out.pop()
+        out.append(i)
+    return out
+
+
+def _outer_edges(edges) -> set:
+    """The leading rising edge and the trailing falling edge, where present."""
+    return {edges[i] for i in _outer_indices([e.direction for e in edges])}
+
+
+def _outer_indices(directions) -> dict:
+    """Index -> "high-pass"/"low-pass" for the pass band's outer edges."""
+    out = {}
+    if directions and directions[0] == "rising":
+        out[0] = "high-pass"
+    if directions and directions[-1] == "falling":
+        out[len(directions) - 1] = "low-pass"
+    return out
+
+
+def passband_edges(realized: dict) -> list:
+    """The pass band's outer edges of a characteristics dict (``to_dict()``
+    or a recorded step's ``realized``): ``[(name, hz, half-power hz or None,
+    roll-off or None)]`` for the leading rising ("high-pass") and trailing
+    falling ("low-pass") half-amplitude edges.
+
+    Examples
+    --------
+    >>> passband_edges({"half_amplitude": [1.0, 49.0, 51.0], "half_power": [1.3, 48.7, 51.3],
+    ...                 "half_amplitude_direction": ["rising", "falling", "rising"],
+    ...                 "rolloff": [12.0, 900.0, 900.0]})
+    [('high-pass', 1.0, 1.3, 12.0)]
+    """
+    edges = list(realized.get("half_amplitude", []))
+    half_power, rolloff = list(realized.get("half_power", [])), list(realized.get("rolloff", []))
+    outer = _outer_indices(list(realized.get("half_amplitude_direction", [])))
+    return [(name, edges[i], half_power[i] if len(half_power) == len(edges) else None,
+             rolloff[i] if i < len(rolloff) else None) for i, name in outer.items()]
+
+
+def removed_bands(realized: dict) -> list:
+    """Notches and band-stops (not the skirts beyond the pass band) of a
+    characteristics dict, as ``(low, high, attenuation_db)``.
+
+    >>> removed_bands({"stop_bands": [{"low": 49.0, "high": 51.0, "attenuation_db": 60.0,
+    ...                                 "kind": "notch"}]})
+    [(49.0, 51.0, 60.0)]
+    """
+    return [(b["low"], b["high"], b["attenuation_db"]) for b in realized.get("stop_bands", [])
+            if b["kind"] not in _SKIRTS]
+
+
+def stop_band_words(band: dict) -> str:
+    """One stop band in words.
+
+    >>> stop_band_words({"low": 49.0, "high": 51.0, "attenuation_db": 60.2, "kind": "notch"})
+    '49-51 Hz (notch), at least 60.2 dB down'
+    """
+    return (f"{band['low']:.4g}-{band['high']:.4g} Hz ({band['kind']}), at least "
+            f"{band['attenuation_db']:.1f} dB down")
+
+
+def timing_words(timing: dict) -> str:
+    """One edge's time behaviour in words (see :class:`EdgeTiming`).
+
+    >>> timing_words({"edge": "low-pass", "cutoff": 40.0, "settling_s": None,
+    ...               "opposite_pct": None, "decay_s": 0.028, "overshoot_pct": 8.91})
+    'low-pass edge (40 Hz): impulse response below 1 % of its peak after 28 ms, step overshoot 8.9 %'
+    """
+    head = f"{timing['edge']} edge ({timing['cutoff']:.3g} Hz): "
+    if timing["edge"] == "high-pass":
+        return (head + f"step response within 1 % of its final value after "
+                f"{_seconds_words(timing['settling_s'])}, largest opposite-polarity excursion "
+                f"{timing['opposite_pct']:.1f} % of the step")
+    return (head + f"impulse response below 1 % of its peak after "
+            f"{_seconds_words(timing['decay_s'])}, step overshoot {timing['overshoot_pct']:.1f} %")
+
+
+def _seconds_words(seconds: float) -> str:
+    return f"{seconds * 1000:.3g} ms" if seconds < 1 else f"{seconds:.3g} s"
+
+
+def _hidden_notches(freqs, gain, edges, tol) -> np.ndarray:
+    """Indices of narrow nulls inside stop bands: local minima 20 dB below the
+    gain 10 % of their frequency away on both sides, where that gain stands
+    above 3 x tolerance (so the kernel's error ripple and the foot of a steep
+    edge are not nulls), outside the stop bands between half-amplitude edges
+    (those are listed by their edges)."""
+    inner = np.flatnonzero((gain[1:-1] < gain[:-2]) & (gain[1:-1] <= gain[2:]) & (gain[1:-1] < 0.5)) + 1
+    lo = np.minimum(np.searchsorted(freqs, 0.9 * freqs[inner]), inner - 1)
+    hi = np.minimum(np.searchsorted(freqs, 1.1 * freqs[inner], side="right"), freqs.size - 1)
+    beside = np.minimum(gain[lo], gain[hi])
+    nulls = inner[(beside > 3 * tol) & (gain[inner] < 0.1 * beside)]
+    pairs = [(float(x), float(y)) for x, y in zip(edges[:-1], edges[1:]) if x.direction == "falling"]
+    inside_pair = np.zeros(nulls.size, dtype=bool)
+    for x, y in pairs:
+        inside_pair |= (freqs[nulls] > x) & (freqs[nulls] < y)
+    return nulls[~inside_pair]
+
+
+def _stop_bands(freqs, realized, requested, edges, nulls, tol, curve, response) -> tuple:
+    """Every stop band (see :class:`StopBand`), in order of frequency;
+    ``response(freqs)`` is the exact realized gain, for a finer look."""
+    bounds = [0.0] + [float(e) for e in edges] + [float(freqs[-1])]
+    below = [realized[0] < 0.5] + [e.direction == "falling" for e in edges]
+    bands = []
+    for i, (a, b) in enumerate(zip(bounds[:-1], bounds[1:])):
+        if not below[i] or b <= a:
+            continue
+        kind = ("below the high-pass edge" if i == 0 else "above the low-pass edge"
+                if i == len(edges) else "notch" if (b - a) <= 0.1 * (a + b) / 2 else "band-stop")
+        bands.append((a, b, kind))
+    for i in nulls:  # notches inside wider stop bands, limited at half the gain beside them
+        level = 0.5 * min(realized[np.searchsorted(freqs, 0.9 * freqs[i])],
+                          realized[min(np.searchsorted(freqs, 1.1 * freqs[i]), freqs.size - 1)])
+        left = i - np.argmax(realized[i::-1] >= level)
+        right = i + np.argmax(realized[i:] >= level)
+        band = (float(freqs[left]), float(freqs[right]), "notch inside a stop band")
+        if band not in bands:  # two minima of one notch give the same band
+            bands.append(band)
+    # a band's floor leaves out its notches and their sides (a width either side)
+    inner_notches = [(2 * a - b, 2 * b - a) for a, b, kind in bands
+                     if kind == "notch inside a stop band"]
+    found = []
+    for a, b, kind in sorted(bands):
+        inside = (freqs >= a) & (freqs <= b)
+        if kind != "notch inside a stop band":  # its notches are listed apart
+            for lo, hi in inner_notches:
+                inside &= ~((freqs >= lo) & (freqs <= hi))
+        if not inside.any():
+            continue
+        level = max(tol, requested[inside].min() * _FLOOR_SPAN)
+        floor = inside & (requested <= level)
+        found.append((a, b, kind, floor if floor.any() else inside, level))
+    # the grid can step over the floor's highest point: look again 16 x finer around it
+    out = []
+    for a, b, kind, where, level in found:
+        points = _around(freqs, where)
+        near = response(points)
+        keep = (points >= a) & (points <= b) & (curve(points) <= level)
+        top = max(realized[where].max(), near[keep].max() if keep.any() else 0.0)
+        out.append(StopBand(a, b, float(-20 * np.log10(max(top, 1e-300))), kind))
+    return tuple(out)
+
+
+def _around(freqs, where, per_step=16, at_most=4096) -> np.ndarray:  # evenly spaced
+    """Frequencies ``per_step`` times finer than the grid over the selected
+    points and one grid step beyond (at most ``at_most`` of them)."""
+    idx = np.flatnonzero(where)
+    lo, hi = freqs[max(idx[0] - 1, 0)], freqs[min(idx[-1] + 1, freqs.size - 1)]
+    steps = np.searchsorted(freqs, hi) - np.searchsorted(freqs, lo) + 1
+    return np.linspace(lo, hi, int(min(at_most, per_step * steps)))
+
+
+def _edge_timing(freqs, spectrum, causal, edges, sfreq, removed) -> tuple:
+    """:class:`EdgeTiming` of the pass band's high-pass and low-pass edges.
+
+    ``spectrum`` is the response on the uniform rfft grid ``freqs`` (real
+    for zero phase; complex or magnitude for minimum phase). The ``removed``
+    bands (notches, band-stops: listed as stop bands, with their own
+    ringing) are bridged by straight lines, so each edge is timed alone.
+    """
+    outer = _outer_indices([e.direction for e in edges])
+    named = {name: float(edges[i]) for i, name in outer.items()}
+    split = np.sqrt(np.prod(list(named.values()))) if len(named) == 2 else None
+    n = 2 * (freqs.size - 1)
+    out = []
+    for name, cutoff in named.items():
+        part = spectrum.real.copy() if not causal else np.abs(spectrum)
+        for lo, hi in removed:  # with a width either side: a notch's skirts ring too
+            i, j = np.searchsorted(freqs, 2 * lo - hi) - 1, np.searchsorted(freqs, 2 * hi - lo) + 1
+            i, j = max(i, 0), min(j, freqs.size - 1)
+            part[i : j + 1] = np.linspace(part[i], part[j], j - i + 1)
+        if split is not None:
+            ref = part[np.searchsorted(freqs, split)]
+            keep = freqs < split if name == "high-pass" else freqs >= split
+            part = np.where(keep, part / ref, 1.0)
+        if causal:
+            impulse = sfft.irfft(_cepstral_minimum_phase(np.abs(part), n), n)
+            times = np.arange(n) / sfreq
+        else:
+            impulse = np.roll(sfft.irfft(part, n), n // 2)
+            times = (np.arange(n) - n // 2) / sfreq
+        out.append(_timing_of(name, cutoff, times, impulse))
+    return tuple(out)
+
+
+def _timing_of(name, cutoff, times, impulse) -> EdgeTiming:
+    """Settling and opposite excursion (high-pass), decay and overshoot (low-pass)."""
+    step = np.cumsum(impulse)
+    final = step[-1]
+    after = times >= 0
+    if name == "high-pass":
+        late = np.flatnonzero(after & (np.abs(step - final) > _TIME_LEVEL))
+        settling = float(times[late[-1]]) if late.size else 0.0
+        return EdgeTiming(name, cutoff, settling, float(max(0.0, -step.min()) * 100), None, None)
+    envelope = np.abs(impulse) / np.abs(impulse).max()
+    loud = np.flatnonzero(after & (envelope >= _TIME_LEVEL))
+    decay = float(times[loud[-1]]) if loud.size else 0.0
+    return EdgeTiming(name, cutoff, None, None, decay, float(max(0.0, step.max() - final) * 100))
+
+
+def _kind(edges, gain_dc, gain_nyq, hidden_notches=0) -> str:
+    """Name the realized shape from its half-amplitude edges and hidden nulls."""
+    if not edges:
+        return "notch" if hidden_notches else "custom"
+    dirs = [e.direction for e in edges]
+    parts, inner = [], list(edges)
+    if gain_dc < 0.5 and dirs[0] == "rising":
+        parts.append("high-pass")
+        inner = inner[1:]
+    if gain_nyq < 0.5 and dirs[-1] == "falling":
+        parts.append("low-pass")
+        inner = inner[:-1]
+    if parts == ["high-pass", "low-pass"]:
+        parts = ["band-pass"]
+    if len(inner) % 2 or any(e.direction != d for e, d in zip(inner, ["falling", "rising"] * len(inner))):
+        return "custom"
+    stops = []
+    for a, b in zip(inner[::2], inner[1::2]):
+        stops.append("notch" if (b - a) <= 0.1 * (a + b) / 2 else "band-stop")
+    if hidden_notches:
+        stops.append("notch")
+    for kind in ("band-stop", "notch"):
+        if kind in stops:
+            parts.append(kind)
+    return " + ".join(parts)
+
+
+def _group_delay(kernel, offset, sfreq, causal, n_fft) -> float:
+    if not causal:
+        return 0.0
+    t = (np.arange(kernel.size) - offset).astype(float)
+    h = sfft.rfft(kernel, n_fft)
+    th = sfft.rfft(t * kernel, n_fft)
+    mag2 = np.abs(h) ** 2
+    passband = mag2 >= 0.5
+    gd = np.real(th[passband] / h[passband]) / sfreq
+    return float(np.sum(gd * mag2[passband]) / np.sum(mag2[passband]))
