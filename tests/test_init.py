@@ -3,10 +3,14 @@
 import gainshape as gs
 
 
-def test_all_names_exist_and_are_public():
-    for name in gs.__all__:
-        assert hasattr(gs, name), name
-        assert not name.startswith("_")
+def test_package_exports_exactly_all():
+    # common practice (no source): __init__ re-exports the public API and nothing else
+    import types
+
+    public = {name for name, value in vars(gs).items()
+              if not name.startswith("_") and not isinstance(value, types.ModuleType)}
+    assert public == set(gs.__all__)
+    assert len(gs.__all__) == len(set(gs.__all__))
 
 
 def test_foundation_names_present():

@@ -15,9 +15,9 @@ def test_tutorial_executes(path, tmp_path, monkeypatch):
     nb = nbformat.read(path, as_version=4)
     NotebookClient(nb, timeout=600, kernel_name="python3",
                    resources={"metadata": {"path": str(tmp_path)}}).execute()
-    errors = [o for c in nb.cells if c.cell_type == "code" for o in c.get("outputs", [])
-              if o.get("output_type") == "error"]
-    assert not errors
+    code = [c for c in nb.cells if c.cell_type == "code"]
+    assert code and all(c.execution_count is not None for c in code)  # every cell ran
+    assert any(c.get("outputs") for c in code)  # and the tutorial shows its results
 
 
 def test_there_is_a_first_tutorial():

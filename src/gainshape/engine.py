@@ -11,6 +11,7 @@ nothing of MNE; ``design`` is any object with ``support``, ``sfreq``,
 from __future__ import annotations
 
 import os
+import platform
 from contextlib import contextmanager
 from dataclasses import dataclass
 
@@ -40,6 +41,7 @@ _MIN_BLOCK_BYTES = 8 * 2**20
 _BLOCK_FRACTION = 0.1  # working memory per block, as a fraction of the data
 _SEGMENT_KERNELS = 3  # a segment shorter than this many kernels gets a warning
 _LONG_WORK_ROW_SAMPLES = 10_000_000  # bars for verbose=None only above this much work
+_GLIBC = platform.libc_ver()[0] == "glibc"  # the heap trick below is glibc's behaviour
 _SIMD_BYTES = 16  # pocketfft's vector width in scipy's wheels (SSE2)
 
 
@@ -345,11 +347,10 @@ def _rows_per_block(rows, n_fft, n_rows, workers=1) -> int:
     """Rows per block so that the input/output and spectrum buffers fit the budget.
 
     Rounded down to a multiple of the rows one SIMD register holds (16 bytes:
-    4 float32, 2 float64) times ``workers`` when possible: pocketfft
-    transforms that many rows at once, one group per thread, and a leftover
-    row runs scalar (5 float32 rows take 1.4x as long per sample as 4,
-    measured with scipy.fft 1.17). The budget does not grow with
-    ``workers``: the memory bound holds for any ``n_jobs``.
+    4 float32, 2 float64) times ``workers`` when possible, because pocketfft
+    transforms that many rows together (measurements: benchmarks/README.md).
+    The budget does not grow with ``workers``: the memory bound holds for
+    any ``n_jobs``.
 
     Examples
     --------
@@ -468,15 +469,12 @@ def convolve_rows(buf: np.ndarray, response: np.ndarray, workers: int = 1, spec=
 
 def _keep_scratch_on_heap(nbytes: int) -> None:
     """Allocate and free ``nbytes`` once, so that glibc keeps pocketfft's
-    per-transform scratch (one SIMD register's rows x n_fft) on its heap.
-
-    glibc maps each allocation above its mmap threshold afresh, and raises
-    the threshold to the size of a freed mapped block (mallopt(3)); without
-    this, each block's scratch was mapped anew: 180,000 page faults and twice
-    the time for 64 channels x 10 min in float32. Costs nothing elsewhere
-    (the pages are never touched).
+    per-transform scratch on its heap instead of mapping it afresh for every
+    block (why and how much: benchmarks/README.md). Elsewhere it costs one
+    untouched allocation.
     """
-    np.empty(nbytes, dtype=np.uint8)
+    if _GLIBC:
+        np.empty(nbytes, dtype=np.uint8)
 
 
 def spectrum_buffer(buf: np.ndarray) -> np.ndarray:

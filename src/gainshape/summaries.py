@@ -163,10 +163,9 @@ def observed_gain(before, after, *, sfreq=None) -> xr.DataArray:
     NaN where the input has too little power to measure (below 1e-8 of the
     channel's median power density) and below 8 frequency bins (0.2 Hz),
     where the window's main lobe (+-4 bins) would reach below half the
-    frequency and mix in slower, usually far stronger, drift (measured on
-    simulated raw EEG: at 4 bins, single channels were 7-8 dB off; from 8
-    bins on, within 0.5 dB). Epochs are treated as concatenated records of
-    the same channels.
+    frequency and mix in slower, usually far stronger, drift (measurements:
+    benchmarks/README.md). Epochs are treated as concatenated records of the
+    same channels.
 
     Examples
     --------
@@ -245,10 +244,8 @@ def _bands(bands, signals, after) -> tuple[dict, str]:
 
 def _window_seconds(low: float) -> float:
     """Welch window for a band starting at ``low`` Hz: 16 s, or longer so that
-    the main lobe (4 bins) is at most half of ``low``. Raw EEG drift below a
-    slow band is far stronger than the band; a wider lobe leaks it in (a 16 s
-    window made a 0.1-1 Hz band look 7 dB weaker after a 0.1 Hz high-pass
-    that took 0.6 dB of it)."""
+    the main lobe (4 bins) is at most half of ``low``: raw EEG drift below a
+    slow band is far stronger than the band, and a wider lobe leaks it in."""
     return max(_WINDOW_SECONDS, 2 * _MAIN_LOBE_BINS / low) if low > 0 else _WINDOW_SECONDS
 
 
