@@ -8,9 +8,12 @@ value and says what is accepted.
 from __future__ import annotations
 
 import numbers
+import os
 import warnings
 
 import numpy as np
+
+from ._compat import levels_to_caller_outside
 
 
 class GainshapeWarning(UserWarning):
@@ -21,20 +24,8 @@ def warn(message: str, stacklevel: int | None = None) -> None:
     """Issue a :class:`GainshapeWarning` pointing at the user's line: the first
     caller outside the gainshape package (or ``stacklevel`` when given)."""
     if stacklevel is None:
-        stacklevel = _levels_to_user_code()
+        stacklevel = levels_to_caller_outside(os.path.dirname(os.path.abspath(__file__)))
     warnings.warn(message, GainshapeWarning, stacklevel=stacklevel)
-
-
-def _levels_to_user_code() -> int:
-    """Stack levels from :func:`warn`'s caller up to the first frame outside gainshape."""
-    import os
-    import sys
-
-    package = os.path.dirname(os.path.abspath(__file__))
-    frame, level = sys._getframe(2), 2
-    while frame is not None and os.path.abspath(frame.f_code.co_filename).startswith(package):
-        frame, level = frame.f_back, level + 1
-    return level
 
 
 def check_option(name: str, value, allowed) -> str:

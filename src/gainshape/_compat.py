@@ -10,13 +10,31 @@ from __future__ import annotations
 import numpy as np
 import scipy.fft as sfft
 
-__all__ = ["picks_to_indices", "channel_type_words", "unlocked", "calibrate_into",
+__all__ = ["levels_to_caller_outside", "picks_to_indices", "channel_type_words", "unlocked", "calibrate_into",
            "pocketfft_with_out", "forward_real", "backward_real"]
 
 # pocketfft's r2c/c2r take (input, axes, forward, normalization, output, workers);
 # normalization 0 is none, 2 is 1/n (the inverse of scipy.fft.irfft's default).
 _NO_SCALING, _SCALE_BY_N = 0, 2
 _LAST_AXIS = (1,)
+
+
+def levels_to_caller_outside(folder: str) -> int:
+    """``warnings.warn`` stack level of the first caller whose file is not in ``folder``,
+    as seen from the function that calls this one (``warnings.warn``'s caller).
+
+    Relies on ``sys._getframe`` (CPython; documented as an implementation
+    detail). Elsewhere warnings point at gainshape's own line instead.
+    """
+    import os
+    import sys
+
+    if not hasattr(sys, "_getframe"):
+        return 2
+    frame, level = sys._getframe(2), 2
+    while frame is not None and os.path.abspath(frame.f_code.co_filename).startswith(folder):
+        frame, level = frame.f_back, level + 1
+    return level
 
 
 def picks_to_indices(info, picks, *, none="data", allow_empty=False) -> np.ndarray:

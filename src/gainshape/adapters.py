@@ -19,6 +19,7 @@ from ._compat import channel_type_words, picks_to_indices, unlocked
 from ._checks import check_bool, check_int, check_option, check_positive, warn
 from .curves import GainCurve
 from .design import FilterDesign, check_kernel_request, design
+from .measure import passband_edges
 from .engine import PAD_MODES, Progress, check_finite, fft_workers, filter_array
 from .provenance import RATE_PPM, fingerprint, history, make_step, same_rate, store_step, usable_steps
 
@@ -559,20 +560,12 @@ def _raw_segments(raw):
     ]
 
 
-def _passband_edges(filt: FilterDesign):
-    """Realized (high-pass, low-pass) half-amplitude cutoffs, None where absent."""
-    edges = filt.characteristics.half_amplitude
-    dc, nyq = filt.realized_gain(np.array([0.0, filt.sfreq / 2.0]))
-    highpass = float(edges[0]) if edges and dc < 0.5 and edges[0].direction == "rising" else None
-    lowpass = float(edges[-1]) if edges and nyq < 0.5 and edges[-1].direction == "falling" else None
-    return highpass, lowpass
-
-
 def _update_info(inst, idx, filt):
     data_idx = picks_to_indices(inst.info, "data")
     if not set(data_idx.tolist()) <= set(idx.tolist()):
         return
-    highpass, lowpass = _passband_edges(filt)
+    edges = {name: hz for name, hz, _, _ in passband_edges(filt.characteristics.to_dict())}
+    highpass, lowpass = edges.get("high-pass"), edges.get("low-pass")
     with unlocked(inst.info):
         if highpass is not None:
             inst.info["highpass"] = max(float(inst.info["highpass"] or 0.0), highpass)

@@ -22,6 +22,7 @@ from .adapters import as_arrays
 from .curves import GainCurve
 from .design import FilterDesign, design
 from .engine import filter_array
+from .measure import passband_edges
 
 __all__ = ["audit"]
 
@@ -227,10 +228,10 @@ def _first_last(values, level):
 
 
 def _literature_notes(filt) -> list:
-    edges = filt.characteristics.half_amplitude
-    if not edges or edges[0].direction != "rising" or filt.realized_gain(0.0) >= 0.5:
+    edges = {name: hz for name, hz, _, _ in passband_edges(filt.characteristics.to_dict())}
+    if "high-pass" not in edges:
         return []
-    cutoff = float(edges[0])
+    cutoff = float(edges["high-pass"])
     notes = []
     if cutoff >= 0.3:
         notes.append(
