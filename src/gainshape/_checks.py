@@ -69,19 +69,17 @@ def check_positive(name: str, value, *, below: float | None = None) -> float:
     """
     if isinstance(value, bool) or not isinstance(value, numbers.Real):
         raise TypeError(
-            f"The '{name}' parameter must be a real number, but got "
-            f"{type(value).__name__} ({value!r}) instead."
+            f"The '{name}' parameter takes a real number; "
+            f"{type(value).__name__} ({value!r}) was given."
         )
     value = float(value)
     if not np.isfinite(value) or value <= 0:
         raise ValueError(
-            f"The '{name}' parameter must be a finite number > 0, but got "
-            f"{value!r} instead."
+            f"The '{name}' parameter takes a finite number > 0; {value!r} was given."
         )
     if below is not None and value >= below:
         raise ValueError(
-            f"The '{name}' parameter must be below {below:g}, but got "
-            f"{value:g} instead."
+            f"The '{name}' parameter must stay below {below:g}; {value:g} was given."
         )
     return value
 
@@ -94,12 +92,11 @@ def check_int(name: str, value, *, minimum: int) -> int:
     """
     if isinstance(value, bool) or not isinstance(value, numbers.Integral):
         raise TypeError(
-            f"The '{name}' parameter must be an integer, but got "
-            f"{type(value).__name__} ({value!r}) instead."
+            f"The '{name}' parameter takes an integer; "
+            f"{type(value).__name__} ({value!r}) was given."
         )
     if value < minimum:
         raise ValueError(
-            f"The '{name}' parameter must be an integer >= {minimum}, but got "
-            f"{value!r} instead."
+            f"The '{name}' parameter takes an integer >= {minimum}; {value!r} was given."
         )
     return int(value)

@@ -18,9 +18,9 @@ import numpy as np
 from ._compat import channel_type_words, picks_to_indices, unlocked
 from ._checks import check_bool, check_int, check_option, check_positive, warn
 from .curves import GainCurve
-from .design import FilterDesign, check_kernel_request, design
+from .design import FilterDesign, check_filter, check_kernel_request, design
 from .measure import passband_edges
-from .engine import PAD_MODES, Progress, check_finite, fft_workers, filter_array
+from .engine import PAD_MODES, Progress, check_finite, check_samples, fft_workers, filter_array
 from .provenance import RATE_PPM, fingerprint, history, make_step, same_rate, store_step, usable_steps
 
 __all__ = ["apply", "replay", "as_arrays", "Signals"]
@@ -115,11 +115,7 @@ def apply(
     >>> y.shape, y.dtype
     ((4, 2500), dtype('float64'))
     """
-    if not isinstance(filt, (GainCurve, FilterDesign)):
-        raise TypeError(
-            "The 'filt' parameter must be a GainCurve or a FilterDesign, but got "
-            f"{type(filt).__name__} instead."
-        )
+    check_filter(filt)
     check_option("nan", nan, ("raise", "split"))
     check_option("pad", pad, PAD_MODES)
     copy = check_bool("copy", copy)
@@ -351,7 +347,7 @@ def _progress(verbose, kind, n_rows, n_times, sfreq, n_channels) -> Progress | N
         level = check_int("verbose", verbose, minimum=0)
     if level > logging.INFO:
         return None
-    always = verbose is True or (isinstance(verbose, (bool, np.bool_)) and bool(verbose))
+    always = isinstance(verbose, (bool, np.bool_)) and bool(verbose)
     if kind == "epochs":
         return Progress("epoch", n_rows / n_channels, 1.0 / (n_channels * n_times), always)
     return Progress("s", n_times / sfreq, 1.0 / (n_rows * sfreq), always)
@@ -404,8 +400,8 @@ def _mne_kind(inst, name="inst") -> str:
     if isinstance(inst, mne.Evoked):
         return "evoked"
     raise TypeError(
-        f"The '{name}' parameter must be an mne.io.Raw, mne.Epochs, mne.Evoked or "
-        f"a NumPy array, but got {type(inst).__name__} instead."
+        f"The '{name}' parameter takes an mne.io.Raw, mne.Epochs, mne.Evoked or a "
+        f"NumPy array; a {type(inst).__name__} was given."
     )
 
 
@@ -421,26 +417,17 @@ def _check_steps(steps) -> None:
 
 
 def _native_float(data, copy) -> np.ndarray:
-    """``data`` checked to hold samples of float32/float64; byte-swapped data
-    (e.g. ``>f8`` from a file) in native order, which needs ``copy=True``."""
-    if data.ndim == 0 or 0 in data.shape:
-        raise ValueError(
-            "The 'inst' parameter must hold at least one row of samples along its last "
-            f"axis, but got an array of shape {data.shape}."
-        )
-    if data.dtype.kind != "f" or data.dtype.itemsize not in (4, 8):
-        raise TypeError(
-            "The 'inst' parameter must be float32 or float64, but got dtype "
-            f"{data.dtype}; convert it first, e.g. data.astype(float)."
-        )
-    if data.dtype.isnative:
-        return data
-    if not copy:
-        raise ValueError(
-            f"The 'copy' parameter is False, but the array's byte order ({data.dtype.str}) "
-            "is not this machine's, so it cannot be filtered in place; use copy=True."
-        )
-    return data.astype(data.dtype.newbyteorder("="))
+    """``data`` checked (:func:`gainshape.engine.check_samples`), byte-swapped
+    floats (e.g. ``>f8`` from a file) first put in native order, which needs
+    ``copy=True``."""
+    if data.dtype.kind == "f" and not data.dtype.isnative:
+        if not copy:
+            raise ValueError(
+                f"The 'copy' parameter is False, but the array's byte order ({data.dtype.str}) "
+                "is not this machine's, so it cannot be filtered in place; use copy=True."
+            )
+        data = data.astype(data.dtype.newbyteorder("="))
+    return check_samples(data, "inst")
 
 
 def _array_picks(picks, n_ch) -> np.ndarray:

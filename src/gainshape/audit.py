@@ -19,8 +19,7 @@ import xarray as xr
 
 from ._checks import GainshapeWarning, check_positive, warn
 from .adapters import as_arrays
-from .curves import GainCurve
-from .design import FilterDesign, design
+from .design import FilterDesign, check_filter, design
 from .engine import filter_array
 from .measure import passband_edges
 
@@ -110,6 +109,7 @@ def audit(filt, *, sfreq: float | None = None, waveform=None) -> xr.Dataset:
 
 
 def _design(filt, sfreq, waveform):
+    check_filter(filt)
     if isinstance(filt, FilterDesign):
         if sfreq is not None and check_positive("sfreq", sfreq) != filt.sfreq:
             raise ValueError(
@@ -117,11 +117,6 @@ def _design(filt, sfreq, waveform):
                 f"({filt.sfreq:g} Hz); leave it out or design again."
             )
         return filt, filt.sfreq
-    if not isinstance(filt, GainCurve):
-        raise TypeError(
-            "The 'filt' parameter must be a GainCurve or a FilterDesign, but got "
-            f"{type(filt).__name__} instead."
-        )
     if sfreq is None and waveform is not None and not isinstance(waveform, (np.ndarray, list, tuple)):
         sfreq = as_arrays(waveform, name="waveform").sfreq
     if sfreq is None:

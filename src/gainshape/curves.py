@@ -66,8 +66,8 @@ class GainCurve:
     def __post_init__(self):
         if not callable(self.func):
             raise TypeError(
-                "The 'func' parameter must be a callable mapping frequencies "
-                f"(Hz) to gains, but got {type(self.func).__name__} instead."
+                "The 'func' parameter takes a callable mapping frequencies (Hz) "
+                f"to gains; a {type(self.func).__name__} was given."
             )
 
     # -- construction --------------------------------------------------------
@@ -124,8 +124,8 @@ class GainCurve:
         """
         if not isinstance(data, Mapping) or data.get("format") != _FORMAT:
             raise ValueError(
-                "The 'data' parameter must be a dict made by GainCurve.to_dict "
-                f"(with format {_FORMAT!r}), but got {data!r} instead."
+                "The 'data' parameter takes a dict made by GainCurve.to_dict "
+                f"(format {_FORMAT!r}); {data!r} was given."
             )
         version = data.get("version", _FORMAT_VERSION)
         if version != _FORMAT_VERSION:

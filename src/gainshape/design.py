@@ -242,8 +242,8 @@ def design(
     """
     if not isinstance(curve, GainCurve):
         raise TypeError(
-            "The 'curve' parameter must be a GainCurve (see gainshape.lowpass, "
-            f"GainCurve.from_points), but got {type(curve).__name__} instead."
+            "The 'curve' parameter takes a GainCurve (see gainshape.lowpass, "
+            f"GainCurve.from_points); a {type(curve).__name__} was given."
         )
     sfreq = check_positive("sfreq", sfreq)
     causal = check_bool("causal", causal)
@@ -314,6 +314,21 @@ def _round_up(value: float) -> float:
     """
     scale = 10.0 ** (np.floor(np.log10(value)) - 1)
     return float(np.ceil(value / scale) * scale)
+
+
+def check_filter(filt) -> None:
+    """TypeError unless ``filt`` is a GainCurve or a FilterDesign (what apply and audit take).
+
+    >>> check_filter("lowpass")
+    Traceback (most recent call last):
+    ...
+    TypeError: The 'filt' parameter takes a GainCurve or a FilterDesign; a str was given.
+    """
+    if not isinstance(filt, (GainCurve, FilterDesign)):
+        raise TypeError(
+            f"The 'filt' parameter takes a GainCurve or a FilterDesign; a {type(filt).__name__} "
+            "was given."
+        )
 
 
 def check_kernel_request(kernel):

@@ -21,7 +21,7 @@ import scipy.fft as sfft
 from . import _compat
 from ._checks import check_int, check_option, warn
 
-__all__ = ["Progress", "filter_array", "check_finite", "filter_span", "edge_pads", "block_plan", "PAD_MODES",
+__all__ = ["Progress", "check_samples", "filter_array", "check_finite", "filter_span", "edge_pads", "block_plan", "PAD_MODES",
            "convolve_rows", "spectrum_buffer", "fft_workers"]
 
 LOCAL_PAD_MODES = ("reflect", "symmetric", "edge", "constant")  # need only the ends
@@ -110,7 +110,7 @@ def filter_array(
     >>> filter_array(x, design(lowpass(20.0), 250.0)).shape
     (2, 1000)
     """
-    data = _check_data(data)
+    data = check_samples(data)
     pad = check_option("pad", pad, PAD_MODES)
     nan = check_option("nan", nan, ("raise", "split"))
     workers = fft_workers(n_jobs)
@@ -205,21 +205,24 @@ def check_finite(rows: np.ndarray, row_names=None, sfreq=None, *, picked=None,
     )
 
 
-def _check_data(data) -> np.ndarray:
+def check_samples(data, name: str = "data") -> np.ndarray:
+    """``data`` if it is a float32/float64 array (native byte order) with at
+    least one row of samples along its last axis; else an error naming ``name``.
+
+    >>> check_samples(np.zeros((2, 3))).shape
+    (2, 3)
+    """
     if not isinstance(data, np.ndarray):
-        raise TypeError(
-            "The 'data' parameter must be a NumPy array, but got "
-            f"{type(data).__name__} instead."
-        )
+        raise TypeError(f"The '{name}' parameter takes a NumPy array; a {type(data).__name__} was given.")
     if data.dtype not in (np.float32, np.float64):
         raise TypeError(
-            "The 'data' parameter must be float32 or float64, but got dtype "
-            f"{data.dtype}; convert it first, e.g. data.astype(float)."
+            f"The '{name}' parameter must be float32 or float64 (this machine's byte order), "
+            f"not {data.dtype}; convert it first, e.g. data.astype(float)."
         )
-    if data.ndim < 1 or data.shape[-1] < 1:
+    if data.ndim == 0 or 0 in data.shape:
         raise ValueError(
-            "The 'data' parameter must have samples along its last axis, but "
-            f"got shape {data.shape}."
+            f"The '{name}' parameter must hold at least one row of samples along its last "
+            f"axis, not an array of shape {data.shape}."
         )
     return data
 

@@ -251,7 +251,7 @@ def characterize(curve, kernel, offset, sfreq, causal, tol, exact) -> Characteri
     timing = _edge_timing(*uniform, causal, half_amp, sfreq,
                           [(b.low, b.high) for b in stops if b.kind not in _SKIRTS])
     return Characteristics(
-        kind=_kind(half_amp, realized[0], realized[-1], len(nulls)),
+        kind=_kind(half_amp, realized[0], realized[-1], len(nulls[0])),
         half_amplitude=half_amp,
         half_power=half_pow,
         rolloff=rolloffs,
@@ -289,12 +289,10 @@ def _crossings(freqs, gain, level, fn) -> tuple:
     edges = []
     for i in idx:
         lo, hi = freqs[i], freqs[i + 1]
-        hz = lo + (hi - lo) * (level - gain[i]) / (gain[i + 1] - gain[i])
-        if fn is not None:  # refined on the exact response
-            try:
-                hz = brentq(lambda f: float(fn(np.array([f]))[0]) - level, lo, hi, xtol=1e-9)
-            except ValueError:
-                pass
+        try:
+            hz = brentq(lambda f: float(fn(np.array([f]))[0]) - level, lo, hi, xtol=1e-9)
+        except ValueError:
+            hz = lo + (hi - lo) * (level - gain[i]) / (gain[i + 1] - gain[i])
         edges.append(EdgeFrequency(hz, "rising" if above[i + 1] else "falling"))
     return tuple(edges)
 
@@ -419,26 +417,29 @@ def _seconds_words(seconds: float) -> str:
     return f"{seconds * 1000:.3g} ms" if seconds < 1 else f"{seconds:.3g} s"
 
 
-def _hidden_notches(freqs, gain, edges, tol) -> np.ndarray:
-    """Indices of narrow nulls inside stop bands: local minima 20 dB below the
-    gain 10 % of their frequency away on both sides, where that gain stands
-    above 3 x tolerance (so the kernel's error ripple and the foot of a steep
-    edge are not nulls), outside the stop bands between half-amplitude edges
+def _hidden_notches(freqs, gain, edges, tol) -> tuple[np.ndarray, np.ndarray]:
+    """Indices of narrow nulls inside stop bands, and the gain beside each:
+    local minima 20 dB below the gain 10 % of their frequency away on both
+    sides (the lower of the two is "beside"), where that gain stands above
+    3 x tolerance (so the kernel's error ripple and the foot of a steep edge
+    are not nulls), outside the stop bands between half-amplitude edges
     (those are listed by their edges)."""
     inner = np.flatnonzero((gain[1:-1] < gain[:-2]) & (gain[1:-1] <= gain[2:]) & (gain[1:-1] < 0.5)) + 1
     lo = np.minimum(np.searchsorted(freqs, 0.9 * freqs[inner]), inner - 1)
     hi = np.minimum(np.searchsorted(freqs, 1.1 * freqs[inner], side="right"), freqs.size - 1)
     beside = np.minimum(gain[lo], gain[hi])
-    nulls = inner[(beside > 3 * tol) & (gain[inner] < 0.1 * beside)]
+    deep = (beside > 3 * tol) & (gain[inner] < 0.1 * beside)
+    nulls, beside = inner[deep], beside[deep]
     pairs = [(float(x), float(y)) for x, y in zip(edges[:-1], edges[1:]) if x.direction == "falling"]
     inside_pair = np.zeros(nulls.size, dtype=bool)
     for x, y in pairs:
         inside_pair |= (freqs[nulls] > x) & (freqs[nulls] < y)
-    return nulls[~inside_pair]
+    return nulls[~inside_pair], beside[~inside_pair]
 
 
 def _stop_bands(freqs, realized, requested, edges, nulls, tol, curve, response) -> tuple:
     """Every stop band (see :class:`StopBand`), in order of frequency;
+    ``nulls`` are :func:`_hidden_notches`' (indices, gain beside them) and
     ``response(freqs)`` is the exact realized gain, for a finer look."""
     bounds = [0.0] + [float(e) for e in edges] + [float(freqs[-1])]
     below = [realized[0] < 0.5] + [e.direction == "falling" for e in edges]
@@ -449,17 +450,15 @@ def _stop_bands(freqs, realized, requested, edges, nulls, tol, curve, response) 
         kind = ("below the high-pass edge" if i == 0 else "above the low-pass edge"
                 if i == len(edges) else "notch" if (b - a) <= 0.1 * (a + b) / 2 else "band-stop")
         bands.append((a, b, kind))
-    for i in nulls:  # notches inside wider stop bands, limited at half the gain beside them
-        level = 0.5 * min(realized[np.searchsorted(freqs, 0.9 * freqs[i])],
-                          realized[min(np.searchsorted(freqs, 1.1 * freqs[i]), freqs.size - 1)])
+    for i, beside in zip(*nulls):  # notches inside wider stop bands, limited at half the gain beside
+        level = 0.5 * beside
         left = i - np.argmax(realized[i::-1] >= level)
         right = i + np.argmax(realized[i:] >= level)
         band = (float(freqs[left]), float(freqs[right]), "notch inside a stop band")
         if band not in bands:  # two minima of one notch give the same band
             bands.append(band)
     # a band's floor leaves out its notches and their sides (a width either side)
-    inner_notches = [(2 * a - b, 2 * b - a) for a, b, kind in bands
-                     if kind == "notch inside a stop band"]
+    inner_notches = [_widened(a, b) for a, b, kind in bands if kind == "notch inside a stop band"]
     found = []
     for a, b, kind in sorted(bands):
         inside = (freqs >= a) & (freqs <= b)
@@ -491,6 +490,15 @@ def _around(freqs, where, per_step=16, at_most=4096) -> np.ndarray:  # evenly sp
     return np.linspace(lo, hi, int(min(at_most, per_step * steps)))
 
 
+def _widened(low: float, high: float) -> tuple[float, float]:
+    """A band with its own width added on each side (where a notch's skirts reach).
+
+    >>> _widened(49.0, 51.0)
+    (47.0, 53.0)
+    """
+    return 2 * low - high, 2 * high - low
+
+
 def _edge_timing(freqs, spectrum, causal, edges, sfreq, removed) -> tuple:
     """:class:`EdgeTiming` of the pass band's high-pass and low-pass edges.
 
@@ -506,8 +514,9 @@ def _edge_timing(freqs, spectrum, causal, edges, sfreq, removed) -> tuple:
     out = []
     for name, cutoff in named.items():
         part = spectrum.real.copy() if not causal else np.abs(spectrum)
-        for lo, hi in removed:  # with a width either side: a notch's skirts ring too
-            i, j = np.searchsorted(freqs, 2 * lo - hi) - 1, np.searchsorted(freqs, 2 * hi - lo) + 1
+        for band in removed:  # with a width either side: a notch's skirts ring too
+            lo, hi = _widened(*band)
+            i, j = np.searchsorted(freqs, lo) - 1, np.searchsorted(freqs, hi) + 1
             i, j = max(i, 0), min(j, freqs.size - 1)
             part[i : j + 1] = np.linspace(part[i], part[j], j - i + 1)
         if split is not None:
