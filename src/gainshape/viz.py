@@ -91,7 +91,7 @@ def plot_design(design, *, fmin=None, show=True):
         ax.grid(True, which="both", alpha=0.25)
 
     _time_panels((ax_imp, ax_env, ax_step), design)
-    fig.suptitle(design.describe(), fontsize="medium")
+    _title(fig, design.describe())
     if show:
         plt.show()
     return fig
@@ -394,7 +394,7 @@ def plot_audit(ds, *, tmin=-0.5, tmax=2.0, show=True):
         ax.grid(True, alpha=0.3)
     axes[0, 0].legend(loc="best", fontsize="small")
     axes[-1, 0].set_xlabel("time (s)")
-    fig.suptitle(ds.attrs.get("filter", ""), fontsize="medium")
+    _title(fig, ds.attrs.get("filter", ""))
     if show:
         plt.show()
     return fig
@@ -415,6 +415,13 @@ def _mark_component(ax, t, alone, row):
         ax.plot([t[idx]], [alone[idx]], marker="o", color="C3", linestyle="none")
         ax.annotate(f"{pct:.0f}% {side}", (t[idx], alone[idx]), textcoords="offset points",
                     xytext=(4, -10 * np.sign(peak)), fontsize="x-small", color="C3")
+
+
+def _title(fig, text, width=110):
+    """The figure's title, wrapped so that long filter descriptions stay inside it."""
+    import textwrap
+
+    fig.suptitle(textwrap.fill(text, width, break_on_hyphens=False), fontsize="medium")
 
 
 def _check_result(value, name, needed, made_by):
