@@ -37,9 +37,10 @@ def main(argv=None) -> int:
     parser.add_argument("--seed", type=int, default=1)
     args = parser.parse_args(argv)
     rng = np.random.default_rng(args.seed)
-    seconds, ends, kernels = [], {"met": 0, "said unmet": 0, "refused": 0}, []
+    seconds, ends, kernels, requests = [], {"met": 0, "said unmet": 0, "refused": 0}, [], []
     for _ in range(args.n):
         curve, sfreq, causal = random_request(rng)
+        requests.append(f"{curve!r} at {sfreq:g} Hz, causal={causal}")
         start = time.perf_counter()
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")
@@ -56,6 +57,7 @@ def main(argv=None) -> int:
           f"{np.percentile(seconds, 90):.3f} s, slowest {seconds.max():.2f} s; "
           f"over 1 s: {np.sum(seconds > 1)}, over 2 s: {np.sum(seconds > 2)}")
     print(f"outcomes: {ends}; longest kernel {max(kernels):.0f} s")
+    print("slowest:", requests[int(np.argmax(seconds))])
     return 0
 
 

@@ -17,9 +17,9 @@ import scipy.fft as sfft
 
 from ._checks import check_bool, check_positive, warn
 from .curves import GainCurve
-from .measure import (Characteristics, characterize, passband_edges, removed_bands,
-                      stop_band_words, timing_words)
-from .realize import (_Realizer, _interpolated_dtft, _kernel_spectrum, _minimum_phase_spectrum,
+from .measure import (Characteristics, characterize, max_deviation, passband_edges,
+                      removed_bands, stop_band_words, timing_words)
+from .realize import (KernelResponse, _kernel_spectrum, _minimum_phase_spectrum, _Realizer,
                       _requested_taps, _validated_gain)
 
 __all__ = ["design", "FilterDesign"]
@@ -86,7 +86,8 @@ class FilterDesign:
         """
         if self.exact:
             return self.requested_gain(freqs)
-        return np.abs(self._response(np.asarray(freqs, dtype=float)))
+        response = KernelResponse(self.kernel, self.offset, self.sfreq, self.causal)
+        return np.abs(response.gain_at(freqs))
 
     def spectrum(self, n_fft: int, dtype=np.float64) -> np.ndarray:
         """Response on the ``rfft`` grid of ``n_fft`` points (for the engine).
@@ -109,10 +110,6 @@ class FilterDesign:
                 return gain
             return _minimum_phase_spectrum(self.curve, gain, n_fft, self.sfreq, self.tolerance)
         return _kernel_spectrum(self.kernel, self.offset, n_fft, self.causal)
-
-    def _response(self, freqs: np.ndarray) -> np.ndarray:
-        """Complex DTFT of the kernel at ``freqs`` (real for zero phase)."""
-        return _interpolated_dtft(self.kernel, self.offset, self.sfreq, freqs, self.causal)
 
     def plot(self, *, fmin=None, show=True):
         """Requested and realized gain (linear and dB), impulse and step response.
@@ -260,11 +257,18 @@ def design(
         taps, offset = realizer.shortest()
     else:
         taps, offset = realizer.of_length(n_taps)
-    chars = characterize(curve, taps, offset, sfreq, causal, tolerance, exact)
-    while not fixed and chars.max_deviation > tolerance and taps.size < realizer.n // 2:
-        # the search grid missed a peak the finer check found: lengthen a little
-        taps, offset = realizer.of_length(int(taps.size * 1.05) + 2)
-        chars = characterize(curve, taps, offset, sfreq, causal, tolerance, exact)
+    response = KernelResponse(taps, offset, sfreq, causal)
+    deviation = max_deviation(curve, response)
+    for attempt in range(3):
+        if fixed or exact or deviation <= tolerance or taps.size >= realizer.n // 2:
+            break
+        # the search grid missed a peak the finer check found: lengthen a little,
+        # and at the third attempt to the longest kernel the grid allows
+        longer = int(taps.size * 1.05) + 2 if attempt < 2 else realizer.n // 2
+        taps, offset = realizer.of_length(longer)
+        response = KernelResponse(taps, offset, sfreq, causal)
+        deviation = max_deviation(curve, response)
+    chars = characterize(curve, response, tolerance, exact)
     taps.setflags(write=False)
     if not fixed and chars.max_deviation > tolerance:
         warn(

@@ -16,8 +16,7 @@ import numpy as np
 import scipy.fft as sfft
 from scipy.optimize import brentq, minimize_scalar
 
-from .realize import (_MIN_DENSE, _cepstral_minimum_phase, _dtft, _kernel_spectrum,
-                      _validated_gain, _zoom_gain, _zoom_response)
+from .realize import _cepstral_minimum_phase, _validated_gain
 
 __all__ = ["Characteristics", "EdgeFrequency", "EdgeTiming", "StopBand", "characterize", "passband_edges",
            "removed_bands", "stop_band_words", "timing_words"]
@@ -89,8 +88,9 @@ class EdgeTiming:
     """What one pass-band edge does in time, measured on that edge alone.
 
     The realized response is split at the geometric middle of the pass
-    band, so each edge's part keeps the other side flat. For the high-pass
-    edge, from its unit step response: ``settling_s``, the time after the
+    band (for a high-pass alone, between its edge and Nyquist) and
+    normalized there, so each edge's part keeps the other side flat. For
+    the high-pass edge, from its unit step response: ``settling_s``, the time after the
     step until the response stays within 1 % of its final value, and
     ``opposite_pct``, its largest excursion of the opposite polarity (% of
     the step; for zero phase this includes the part before the step). For
@@ -200,56 +200,42 @@ class Characteristics:
 
 
 # -- characterization -----------------------------------------------------------
-def characterize(curve, kernel, offset, sfreq, causal, tol, exact) -> Characteristics:
-    """Characteristics from the realized gain on an FFT grid at least 8 times
-    denser than the kernel (exact values there), with crossings and the
-    largest deviations refined on the exact response."""
-    nyq = sfreq / 2.0
-    n_fft = max(2 * _MIN_DENSE, sfft.next_fast_len(8 * kernel.size, real=True))
-    freqs = sfft.rfftfreq(n_fft, 1.0 / sfreq)
-    requested = _validated_gain(curve, freqs)
-    if exact:
-        point_fn, signed = curve, requested
-    else:
-        def point_fn(f):
-            return np.abs(_dtft(kernel, offset, sfreq, np.asarray(f, float), causal))
+def characterize(curve, response, tol, exact) -> Characteristics:
+    """Characteristics of the kernel whose :class:`~gainshape.realize.KernelResponse`
+    is ``response``: read on its grid (at least 4 points per kernel sample,
+    32 per grid step below the 64th), with crossings, slopes and the largest
+    deviations refined on the interpolated response. With ``exact`` the
+    request itself is what runs."""
+    sfreq = response.sfreq
+    grid = response.freqs
+    requested = _validated_gain(curve, grid)
+    signed, gain_at = (requested, curve) if exact else (response.gain, response.gain_at)
+    low = np.linspace(0.0, grid[64], 64 * 32 + 1)[1:]
+    freqs = np.concatenate([grid[:1], low, grid[65:]])
+    requested_all = np.concatenate([requested[:1], curve(low), requested[65:]])
+    signed_all = np.concatenate([signed[:1], gain_at(low), signed[65:]])
+    realized = np.abs(signed_all)
 
-        spec = _kernel_spectrum(kernel, offset, n_fft, causal)
-        signed = np.abs(spec) if causal else spec
-    uniform = (freqs, spec if not exact and causal else signed)  # for the time responses
-    # the lowest 64 grid steps hold too few points for slopes: add 32 exact
-    # points per step there (zoom FFT)
-    low = np.linspace(0.0, freqs[64], 2048)[1:]
-    low_signed = curve(low) if exact else _zoom_response(kernel, offset, sfreq, freqs[64], causal)
-    order = np.argsort(np.concatenate([freqs, low]), kind="stable")
-    freqs = np.concatenate([freqs, low])[order]
-    requested = np.concatenate([requested, curve(low)])[order]
-    signed = np.concatenate([signed, np.abs(low_signed) if causal else low_signed])[order]
-    realized = np.abs(signed)
+    def gain_fn(f):
+        return np.abs(gain_at(np.asarray(f, dtype=float)))
 
-    def grid_fn(f):
-        return np.interp(f, freqs, realized)
-
-    half_amp = _crossings(freqs, realized, 0.5, point_fn)
-    half_pow = _crossings(freqs, realized, _HALF_POWER, point_fn)
+    half_amp = _crossings(freqs, realized, 0.5, gain_fn)
+    half_pow = _crossings(freqs, realized, _HALF_POWER, gain_fn)
     floor = min(30 * tol, 0.05)
     outer = _outer_edges(half_amp)
-    rolloffs = tuple(
-        _steepest_slope(e, grid_fn, freqs[1], nyq, floor, half_amp, e in outer)
-        for e in half_amp
-    )
-    passband = requested >= _HALF_POWER
+    rolloffs = tuple(_steepest_slope(e, gain_fn, freqs[1], sfreq / 2.0, floor, half_amp, e in outer)
+                     for e in half_amp)
+    passband = requested_all >= _HALF_POWER
     with np.errstate(divide="ignore", invalid="ignore"):
-        ratio_db = 20 * np.log10(realized[passband] / requested[passband])
+        ratio_db = 20 * np.log10(realized[passband] / requested_all[passband])
     ripple = float(np.max(np.abs(ratio_db))) if passband.any() else float("nan")
     nulls = _hidden_notches(freqs, realized, half_amp, tol)
-    def response(f):  # evenly spaced frequencies: exact by zoom FFT
-        return curve(f) if exact else np.abs(_zoom_gain(kernel, offset, sfreq, f, causal))
-
-    stops = _stop_bands(freqs, realized, requested, half_amp, nulls, tol, curve, response)
+    stops = _stop_bands(freqs, realized, requested_all, half_amp, nulls, tol, curve, gain_fn)
     atten = min((b.attenuation_db for b in stops), default=float("nan"))
-    timing = _edge_timing(*uniform, causal, half_amp, sfreq,
+    timing = _edge_timing(curve, response, exact, half_amp,
                           [(b.low, b.high) for b in stops if b.kind not in _SKIRTS])
+    deviation = (float(np.max(np.abs(realized - requested_all))) if exact
+                 else max_deviation(curve, response, freqs, signed_all, requested_all))
     return Characteristics(
         kind=_kind(half_amp, realized[0], realized[-1], len(nulls[0])),
         half_amplitude=half_amp,
@@ -258,28 +244,32 @@ def characterize(curve, kernel, offset, sfreq, causal, tol, exact) -> Characteri
         passband_ripple_db=ripple,
         stop_bands=stops,
         stopband_attenuation_db=float(atten),
-        max_deviation=_max_deviation(freqs, signed, requested, curve, None if exact else point_fn),
+        max_deviation=deviation,
         edge_timing=timing,
-        group_delay=_group_delay(kernel, offset, sfreq, causal, n_fft),
-        length=kernel.size / sfreq,
+        group_delay=_group_delay(response),
+        length=response.kernel.size / sfreq,
     )
 
 
-def _max_deviation(freqs, realized, requested, curve, point_fn, n_peaks=3) -> float:
-    """Largest |realized - requested|: the grid's largest peaks, each refined
-    by a bounded search on the exact response between its grid neighbours."""
-    dev = np.abs(realized - requested)
-    best = float(dev.max())
-    if point_fn is None:  # applied exactly on the record's grid
-        return best
-    inner = np.flatnonzero((dev[1:-1] >= dev[:-2]) & (dev[1:-1] >= dev[2:])) + 1
-    for i in inner[np.argsort(dev[inner])[-n_peaks:]]:
-        found = minimize_scalar(
-            lambda f: -abs(float(point_fn(np.array([f]))[0]) - float(curve(f))),
-            bounds=(freqs[i - 1], freqs[i + 1]), method="bounded",
-            options={"xatol": 1e-3 * (freqs[1] - freqs[0])})
-        best = max(best, -float(found.fun))
-    return best
+def max_deviation(curve, response, freqs=None, signed=None, requested=None) -> float:
+    """Largest |realized - requested| gain of the kernel behind ``response``.
+
+    The grid's peaks are refined (see :func:`_refined_max`); ``freqs``,
+    ``signed`` and ``requested`` default to the response's own grid.
+
+    Examples
+    --------
+    >>> from gainshape import lowpass
+    >>> from gainshape.realize import KernelResponse
+    >>> k = np.array([0.25, 0.5, 0.25])  # gain cos(pi f / 100) ** 2 at 100 Hz
+    >>> round(max_deviation(lowpass(25.0, rolloff=6.0), KernelResponse(k, 1, 100.0, False)), 4)
+    0.2853
+    """
+    if freqs is None:
+        freqs, signed = response.freqs, response.gain
+        requested = _validated_gain(curve, freqs)
+    return _refined_max(freqs, np.abs(signed - requested),
+                        lambda f: np.abs(response.gain_at(f) - curve(f)))
 
 
 def _crossings(freqs, gain, level, fn) -> tuple:
@@ -470,24 +460,67 @@ def _stop_bands(freqs, realized, requested, edges, nulls, tol, curve, response) 
         level = max(tol, requested[inside].min() * _FLOOR_SPAN)
         floor = inside & (requested <= level)
         found.append((a, b, kind, floor if floor.any() else inside, level))
-    # the grid can step over the floor's highest point: look again 16 x finer around it
-    out = []
-    for a, b, kind, where, level in found:
-        points = _around(freqs, where)
-        near = response(points)
-        keep = (points >= a) & (points <= b) & (curve(points) <= level)
-        top = max(realized[where].max(), near[keep].max() if keep.any() else 0.0)
-        out.append(StopBand(a, b, float(-20 * np.log10(max(top, 1e-300))), kind))
-    return tuple(out)
+    return tuple(StopBand(a, b, -20 * float(np.log10(max(
+        _floor_top(freqs, realized, where, (a, b), level, curve, response), 1e-300))), kind)
+        for a, b, kind, where, level in found)
 
 
-def _around(freqs, where, per_step=16, at_most=4096) -> np.ndarray:  # evenly spaced
-    """Frequencies ``per_step`` times finer than the grid over the selected
-    points and one grid step beyond (at most ``at_most`` of them)."""
-    idx = np.flatnonzero(where)
-    lo, hi = freqs[max(idx[0] - 1, 0)], freqs[min(idx[-1] + 1, freqs.size - 1)]
-    steps = np.searchsorted(freqs, hi) - np.searchsorted(freqs, lo) + 1
-    return np.linspace(lo, hi, int(min(at_most, per_step * steps)))
+def _floor_top(freqs, realized, where, band, level, curve, response) -> float:
+    """The highest realized gain over a stop band's floor (``where`` on the
+    grid): its grid peaks refined, and its ends, where the request crosses
+    ``level``, found exactly (the gain often rises there)."""
+    def allowed(f):
+        return (f >= band[0]) & (f <= band[1]) & (curve(f) <= level)
+
+    def above_level(f):
+        return float(curve(np.array([f]))[0]) - level
+
+    top = _refined_max(freqs, np.where(where, realized, 0.0), response, allowed)
+    for i in np.flatnonzero(where[1:] != where[:-1]):
+        if above_level(freqs[i]) * above_level(freqs[i + 1]) < 0:
+            end = brentq(above_level, freqs[i], freqs[i + 1], xtol=1e-12)
+            top = max(top, float(response(np.array([end]))[0]))
+    return top
+
+
+def _refined_max(freqs, values, fn, allowed=None, n_searched=3, n_looked=256) -> float:
+    """The largest of ``fn`` (a function of frequency; ``values`` on the grid
+    ``freqs``, at least 4 points per kernel sample).
+
+    A kernel's ripple oscillates at most half as fast as its length (it is
+    centred), so the grid holds 8 points per ripple period and a peak's grid
+    value is at least cos(pi / 8) = 0.92 of the peak. The grid peaks within
+    0.9 of the largest (the ``n_looked`` highest) are looked at 16 times
+    finer between their neighbours, and the ``n_searched`` highest are then
+    refined by a bounded search; ``allowed(f)`` limits where it counts.
+
+    >>> f = np.linspace(0.0, 1.0, 11)
+    >>> round(_refined_max(f, np.sin(3 * f), lambda x: np.sin(3 * x)), 9)
+    1.0
+    """
+    best = float(values.max())
+    peaks = np.flatnonzero((values[1:-1] >= values[:-2]) & (values[1:-1] >= values[2:])) + 1
+    peaks = peaks[values[peaks] >= 0.9 * best]
+    peaks = peaks[np.argsort(values[peaks])[-n_looked:]]
+    if peaks.size == 0:
+        return best
+    fine = freqs[peaks - 1, None] + (freqs[peaks + 1] - freqs[peaks - 1])[:, None] * np.linspace(0, 1, 33)
+    fine_values = fn(fine)
+    if allowed is not None:
+        fine_values = np.where(allowed(fine), fine_values, 0.0)
+    best = max(best, float(fine_values.max()))
+
+    def minus_fn(f):
+        inside = allowed is None or bool(allowed(np.array([f]))[0])
+        return -float(fn(np.array([f]))[0]) if inside else 0.0
+
+    for row in np.argsort(fine_values.max(axis=1))[-n_searched:]:
+        j = int(np.argmax(fine_values[row]))
+        lo, hi = fine[row, max(j - 1, 0)], fine[row, min(j + 1, 32)]
+        found = minimize_scalar(minus_fn, bounds=(lo, hi), method="bounded",
+                                options={"xatol": 1e-6 * (hi - lo)})
+        best = max(best, -float(found.fun))
+    return best
 
 
 def _widened(low: float, high: float) -> tuple[float, float]:
@@ -499,38 +532,80 @@ def _widened(low: float, high: float) -> tuple[float, float]:
     return 2 * low - high, 2 * high - low
 
 
-def _edge_timing(freqs, spectrum, causal, edges, sfreq, removed) -> tuple:
+def _edge_timing(curve, response, exact, edges, removed) -> tuple:
     """:class:`EdgeTiming` of the pass band's high-pass and low-pass edges.
 
-    ``spectrum`` is the response on the uniform rfft grid ``freqs`` (real
-    for zero phase; complex or magnitude for minimum phase). The ``removed``
+    Each edge's part of the response keeps the other side flat: the
+    response is split at the geometric middle of the pass band (for a
+    high-pass alone, between its edge and Nyquist), and the ``removed``
     bands (notches, band-stops: listed as stop bands, with their own
-    ringing) are bridged by straight lines, so each edge is timed alone.
+    ringing) are bridged by straight lines. Zero phase: the part's inverse
+    FFT on the response's grid. Minimum phase: a causal kernel with one
+    edge and nothing removed is that edge's response; otherwise the part is
+    rebuilt by the cepstral method, the high-pass part at a rate of 8 times
+    the split with bins at most 1/32 of its edge and 1/16 of the kernel's
+    (coarser grids misplace its settling by seconds), and the second half
+    of each inverse FFT, which holds the cepstrum's wrap-around, is left out.
     """
     outer = _outer_indices([e.direction for e in edges])
     named = {name: float(edges[i]) for i, name in outer.items()}
-    split = np.sqrt(np.prod(list(named.values()))) if len(named) == 2 else None
-    n = 2 * (freqs.size - 1)
+    sfreq, kernel, causal = response.sfreq, response.kernel, response.causal
+    if causal and not exact and len(named) == 1 and not removed:
+        (name, cutoff), = named.items()
+        return (_timing_of(name, cutoff, (np.arange(kernel.size) - response.offset) / sfreq, kernel),)
+    if len(named) == 2:
+        split = np.sqrt(named["high-pass"] * named["low-pass"])
+    else:
+        split = np.sqrt(named["high-pass"] * sfreq / 2) if "high-pass" in named else None
+    gain_at = curve if exact else response.gain_at
+    on_grid = _validated_gain(curve, response.freqs) if exact else response.gain
     out = []
     for name, cutoff in named.items():
-        part = spectrum.real.copy() if not causal else np.abs(spectrum)
-        for band in removed:  # with a width either side: a notch's skirts ring too
-            lo, hi = _widened(*band)
-            i, j = np.searchsorted(freqs, lo) - 1, np.searchsorted(freqs, hi) + 1
-            i, j = max(i, 0), min(j, freqs.size - 1)
-            part[i : j + 1] = np.linspace(part[i], part[j], j - i + 1)
-        if split is not None:
-            ref = part[np.searchsorted(freqs, split)]
-            keep = freqs < split if name == "high-pass" else freqs >= split
-            part = np.where(keep, part / ref, 1.0)
+        if causal and name == "high-pass":
+            rate = min(sfreq, 8 * split)
+            n = _even_fast_len(rate / min(sfreq / (16 * kernel.size), cutoff / 32))
+            freqs = sfft.rfftfreq(n, 1.0 / rate)
+            values = gain_at(freqs)
+        else:
+            rate, n, freqs, values = sfreq, response.n, response.freqs, on_grid
+        part = _edge_part(freqs, values, name, split, removed)
         if causal:
-            impulse = sfft.irfft(_cepstral_minimum_phase(np.abs(part), n), n)
-            times = np.arange(n) / sfreq
+            impulse = sfft.irfft(_cepstral_minimum_phase(np.abs(part), n), n)[: n // 2]
+            times = np.arange(n // 2) / rate
         else:
             impulse = np.roll(sfft.irfft(part, n), n // 2)
-            times = (np.arange(n) - n // 2) / sfreq
+            times = (np.arange(n) - n // 2) / rate
         out.append(_timing_of(name, cutoff, times, impulse))
     return tuple(out)
+
+
+def _edge_part(freqs, values, name, split, removed) -> np.ndarray:
+    """One edge's part of the realized response (``values`` on ``freqs``):
+    removed bands bridged, the other side of ``split`` set to 1 (normalized there)."""
+    part = np.array(values, dtype=float)
+    for band in removed:  # with a width either side: a notch's skirts ring too
+        lo, hi = _widened(*band)
+        i, j = np.searchsorted(freqs, lo) - 1, np.searchsorted(freqs, hi) + 1
+        i, j = max(i, 0), min(j, freqs.size - 1)
+        if j > i:
+            part[i : j + 1] = np.linspace(part[i], part[j], j - i + 1)
+    if split is None:
+        return part
+    ref = float(np.interp(split, freqs, part))
+    keep = freqs < split if name == "high-pass" else freqs >= split
+    return np.where(keep, part / ref, 1.0)
+
+
+def _even_fast_len(n: float) -> int:
+    """The smallest even FFT-friendly length of at least ``n`` (and 2**10).
+
+    >>> _even_fast_len(1000.2)
+    1024
+    """
+    m = sfft.next_fast_len(max(int(np.ceil(n)), 2**10), real=True)
+    while m % 2:
+        m = sfft.next_fast_len(m + 1, real=True)
+    return m
 
 
 def _timing_of(name, cutoff, times, impulse) -> EdgeTiming:
@@ -575,13 +650,10 @@ def _kind(edges, gain_dc, gain_nyq, hidden_notches=0) -> str:
     return " + ".join(parts)
 
 
-def _group_delay(kernel, offset, sfreq, causal, n_fft) -> float:
-    if not causal:
+def _group_delay(response) -> float:
+    """Gain-squared-weighted mean group delay (s) over the half-power pass band; 0 for zero phase."""
+    if not response.causal:
         return 0.0
-    t = (np.arange(kernel.size) - offset).astype(float)
-    h = sfft.rfft(kernel, n_fft)
-    th = sfft.rfft(t * kernel, n_fft)
-    mag2 = np.abs(h) ** 2
-    passband = mag2 >= 0.5
-    gd = np.real(th[passband] / h[passband]) / sfreq
-    return float(np.sum(gd * mag2[passband]) / np.sum(mag2[passband]))
+    weight = response.gain**2
+    passband = weight >= 0.5
+    return float(np.sum(response.group_delay()[passband] * weight[passband]) / np.sum(weight[passband]))

@@ -9,7 +9,7 @@ and NumPy recomputations of the audit's definitions from its own waveforms.
 import numpy as np
 import pytest
 from scipy.optimize import brentq
-from scipy.signal import butter, freqz, group_delay, sosfiltfilt, sosfreqz
+from scipy.signal import butter, freqz, group_delay, lfilter, sosfiltfilt, sosfreqz, zoom_fft
 
 import gainshape as gs
 
@@ -188,3 +188,46 @@ def _check_audit_rows(ds, names):
 def test_minimum_phase_onset_shift_is_recomputed_and_positive():
     ds = gs.audit(gs.design(gs.lowpass(20.0), SFREQ, causal=True))
     assert float(ds.onset_shift_ms.sel(component="pulse")) > 0
+
+
+@pytest.mark.parametrize(("curve", "sfreq"), [
+    (gs.GainCurve.from_points([0.01, 0.25, 9.5, 31.4], [1.0, 0.0, 0.0, 1.0]), 128.0),
+    (gs.highpass(0.1), 500.0),
+], ids=["drawn band-stop", "high-pass"])
+def test_stop_band_attenuation_is_the_highest_gain_over_its_floor(curve, sfreq):
+    # reference: the kernel's DTFT by scipy.signal.zoom_fft at 400001 points over each
+    # band, and by scipy.signal.freqz at the floor's ends (where the request crosses
+    # the floor's level, found by scipy.optimize.brentq; the gain is steep there).
+    # The floor is where the request is within 1 dB of its lowest, or at most the tolerance.
+    f = gs.design(curve, sfreq)
+    for band in f.characteristics.stop_bands:
+        freqs = np.linspace(band.low, band.high, 400001)
+        gain = np.abs(zoom_fft(f.kernel, [band.low, band.high], m=freqs.size, fs=sfreq,
+                               endpoint=True))
+        requested = f.requested_gain(freqs)
+        level = max(f.tolerance, requested.min() * 10 ** (1 / 20))
+        floor = requested <= level
+        ends = [brentq(lambda x: float(curve(np.array([x]))[0]) - level, freqs[i], freqs[i + 1])
+                for i in np.flatnonzero(floor[1:] != floor[:-1])]
+        _, at_ends = freqz(f.kernel, worN=np.array(ends + [band.low]), fs=sfreq)
+        highest = max(gain[floor].max(), np.abs(at_ends[:-1]).max(initial=0.0))
+        assert band.attenuation_db == pytest.approx(-20 * np.log10(highest), abs=0.01)
+
+
+@pytest.mark.parametrize(("low", "high", "rolloff", "sfreq"), [(0.5, 40.0, 12.0, 250.0),
+                                                               (0.1, 30.0, 24.0, 500.0)])
+def test_minimum_phase_band_pass_edges_time_like_each_edge_alone(low, high, rolloff, sfreq):
+    # reference: the step response of each single-edge causal kernel by
+    # scipy.signal.lfilter; each band-pass edge, timed alone, behaves like it
+    timing = gs.design(gs.bandpass(low, high, rolloff=rolloff), sfreq, causal=True)
+    hp_edge, lp_edge = timing.characteristics.edge_timing
+    for kernel_of, edge in ((gs.highpass(low, rolloff=rolloff), hp_edge),
+                            (gs.lowpass(high, rolloff=rolloff), lp_edge)):
+        kernel = gs.design(kernel_of, sfreq, causal=True).kernel
+        step = lfilter(kernel, [1.0], np.ones(kernel.size + 1))
+        if edge.edge == "high-pass":
+            late = np.flatnonzero(np.abs(step - step[-1]) > 0.01)
+            assert edge.settling_s == pytest.approx(late[-1] / sfreq, rel=0.05)
+            assert edge.opposite_pct == pytest.approx(-100 * step.min(), abs=1.0)
+        else:
+            assert edge.overshoot_pct == pytest.approx(100 * (step.max() - step[-1]), abs=0.2)
