@@ -5,14 +5,14 @@ VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 
-.PHONY: demo test venv clean
+.PHONY: demo test docs venv clean
 
 venv: $(STAMP)
 
 $(STAMP): pyproject.toml
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --upgrade pip
-	$(BIN)/python -m pip install --quiet -e ".[test]"
+	$(BIN)/python -m pip install --quiet -e ".[test,docs]"
 	touch $(STAMP)
 
 demo: $(STAMP)
@@ -20,6 +20,14 @@ demo: $(STAMP)
 
 test: $(STAMP)
 	MPLBACKEND=Agg $(BIN)/python -m pytest -q
+	$(MAKE) docs
+
+# the documentation site, built from scratch with warnings as errors into a
+# staging folder that replaces docs/_build/html only when the build succeeded
+docs: $(STAMP)
+	rm -rf docs/_build/html.partial docs/generated
+	MPLBACKEND=Agg $(BIN)/python -m sphinx -E -W --keep-going -q -b html docs docs/_build/html.partial
+	rm -rf docs/_build/html && mv docs/_build/html.partial docs/_build/html
 
 clean:
-	rm -rf $(VENV) demo-output .pytest_cache
+	rm -rf $(VENV) demo-output .pytest_cache docs/_build docs/generated docs/tutorials docs/jupyter_execute

@@ -1,4 +1,5 @@
-"""The public surface is exactly the names DESIGN.md fixes (plus the warning class)."""
+"""The public surface is exactly the names the project plan fixes (plus the warning class);
+the layer rules of docs/architecture.md hold."""
 
 import gainshape as gs
 
@@ -25,7 +26,7 @@ def test_warning_class_is_userwarning():
     assert issubclass(gs.GainshapeWarning, UserWarning)
 
 
-# The layers of DESIGN.md, lowest first; a module may import (at module level)
+# The layers of docs/architecture.md, lowest first; a module may import (at module level)
 # only modules before it. Deferred imports inside functions are the documented
 # exceptions (design -> viz for FilterDesign.plot, adapters -> outofcore).
 LAYERS = ["_compat", "_checks", "_files", "curves", "realize", "measure", "design", "engine", "provenance", "adapters", "outofcore",

@@ -17,7 +17,23 @@ from ._compat import levels_to_caller_outside
 
 
 class GainshapeWarning(UserWarning):
-    """Warning issued by gainshape (filter with ``warnings.filterwarnings``)."""
+    """Warning issued by gainshape (filter with ``warnings.filterwarnings``).
+
+    Raised for what the user should know but can go on with: a tolerance
+    not met, a segment shorter than three kernels, a band too narrow for the
+    data, a damaged history line skipped.
+
+    See Also
+    --------
+    warnings.filterwarnings
+
+    Examples
+    --------
+    >>> import warnings
+    >>> with warnings.catch_warnings():
+    ...     warnings.simplefilter("ignore", GainshapeWarning)
+    ...     warnings.warn("not shown", GainshapeWarning)
+    """
 
 
 def warn(message: str, stacklevel: int | None = None) -> None:

@@ -72,6 +72,9 @@ def apply(
         the second-to-last axis.
     pad : str
         ``numpy.pad`` mode extending each segment by the kernel's support.
+    causal, kernel, tolerance : bool, str or float, float
+        Passed to :func:`gainshape.design` when ``filt`` is a GainCurve
+        (ignored for a FilterDesign, which carries its own).
     nan : {"raise", "split"}
         Non-finite samples raise (naming channels and times), or split the
         data into segments filtered around them (they stay non-finite).
@@ -106,6 +109,16 @@ def apply(
         from the realized half-amplitude cutoffs (never loosened) when the
         picks cover every data channel, and the step is appended to the
         history in ``info["description"]``.
+
+    Raises
+    ------
+    ValueError
+        If the data hold NaN (with ``nan="raise"``), the picks select
+        nothing, or the options are not understood; before any work.
+
+    See Also
+    --------
+    design, replay, history, methods_text
 
     Examples
     --------
@@ -569,11 +582,18 @@ def replay(steps, inst, *, n_jobs: int = 1, verbose=None):
         Steps from :func:`gainshape.history` (or ``apply(..., return_step=True)``).
     inst : mne.io.Raw | mne.Epochs | mne.Evoked | ndarray
         The data as they were before the first step; left untouched.
+    n_jobs, verbose : int, bool or str or int or None
+        As for :func:`gainshape.apply`.
 
     Returns
     -------
-    A filtered copy of ``inst``. A warning says if the input's or the
-    result's fingerprint differs from the recorded one.
+    mne.io.Raw | mne.Epochs | mne.Evoked | ndarray
+        A filtered copy of ``inst``. A warning says if the input's or the
+        result's fingerprint differs from the recorded one.
+
+    See Also
+    --------
+    history, apply
 
     Examples
     --------

@@ -62,6 +62,10 @@ def audit(filt, *, sfreq: float | None = None, waveform=None) -> xr.Dataset:
         and ``time``: ``original`` and ``filtered``; per ``component`` and
         ``time``: ``component_filtered`` (each component filtered alone).
 
+    See Also
+    --------
+    plot_audit, FilterDesign.plot
+
     Examples
     --------
     >>> import gainshape as gs

@@ -35,7 +35,7 @@ _MAX_HARMONICS = 1000  # a 50 Hz comb of 1000 notches reaches 50 kHz
 
 
 @dataclass(frozen=True, slots=True, eq=False)
-class GainCurve:
+class GainCurve:  # numpydoc ignore=PR01
     """A requested gain (0..1) as a function of frequency in Hz.
 
     Parameters
@@ -43,6 +43,10 @@ class GainCurve:
     func : callable
         Vectorized function mapping frequencies (Hz, ndarray, >= 0) to gains
         (>= 0). Negative frequencies are evaluated at their absolute value.
+
+    See Also
+    --------
+    lowpass, highpass, bandpass, bandstop, notch, design
 
     Notes
     -----
@@ -269,6 +273,22 @@ def lowpass(cutoff: float, *, rolloff: float = 12.0) -> GainCurve:
     ``n = rolloff / 6.0206``: a Butterworth-like magnitude of (possibly
     non-integer) order ``n``, scaled so the gain is exactly 0.5 at ``cutoff``.
 
+    Parameters
+    ----------
+    cutoff : float
+        Half-amplitude (-6 dB) cutoff in Hz.
+    rolloff : float
+        Steepness of the edge in dB/octave (12 by default).
+
+    Returns
+    -------
+    GainCurve
+        The requested gain, to realize with :func:`gainshape.design`.
+
+    See Also
+    --------
+    highpass, bandpass, GainCurve.from_points
+
     Examples
     --------
     >>> float(lowpass(30.0)(30.0))
@@ -282,6 +302,24 @@ def lowpass(cutoff: float, *, rolloff: float = 12.0) -> GainCurve:
 def highpass(cutoff: float, *, rolloff: float = 12.0) -> GainCurve:
     """High-pass curve: gain 0.5 at ``cutoff``, rising ``rolloff`` dB/octave.
 
+    The mirror image of :func:`lowpass` in ``cutoff / f``: gain 0 at 0 Hz.
+
+    Parameters
+    ----------
+    cutoff : float
+        Half-amplitude (-6 dB) cutoff in Hz.
+    rolloff : float
+        Steepness of the edge in dB/octave (12 by default).
+
+    Returns
+    -------
+    GainCurve
+        The requested gain, to realize with :func:`gainshape.design`.
+
+    See Also
+    --------
+    lowpass, bandpass
+
     Examples
     --------
     >>> float(highpass(0.1)(0.1)), float(highpass(0.1)(0.0))
@@ -294,6 +332,22 @@ def highpass(cutoff: float, *, rolloff: float = 12.0) -> GainCurve:
 
 def bandpass(low: float, high: float, *, rolloff: float = 12.0) -> GainCurve:
     """Band-pass curve: ``highpass(low) * lowpass(high)``.
+
+    Parameters
+    ----------
+    low, high : float
+        Half-amplitude (-6 dB) edges in Hz, ``low < high``.
+    rolloff : float
+        Steepness of the edge in dB/octave (12 by default).
+
+    Returns
+    -------
+    GainCurve
+        The requested gain, to realize with :func:`gainshape.design`.
+
+    See Also
+    --------
+    bandstop, highpass, lowpass
 
     Examples
     --------
@@ -314,6 +368,22 @@ def bandstop(low: float, high: float, *, rolloff: float = 12.0) -> GainCurve:
     (``y = |f0**2 - f**2| / ((high - low) f)``, ``f0 = sqrt(low * high)``,
     gain ``y**n / sqrt(y**(2n) + 3)``); ``rolloff`` sets the order ``n`` as it
     would for :func:`lowpass`. Gain is 1 at 0 Hz and far above the band.
+
+    Parameters
+    ----------
+    low, high : float
+        Half-amplitude (-6 dB) edges in Hz, ``low < high``.
+    rolloff : float
+        Steepness of the edge in dB/octave (12 by default).
+
+    Returns
+    -------
+    GainCurve
+        The requested gain, to realize with :func:`gainshape.design`.
+
+    See Also
+    --------
+    bandpass, notch
 
     Examples
     --------
@@ -345,6 +415,15 @@ def notch(
     rolloff : float
         Steepness of the sides, as the order of the low-pass prototype
         (``n = rolloff / 6.0206``); larger is narrower at the base.
+
+    Returns
+    -------
+    GainCurve
+        The product of the notches, to realize with :func:`gainshape.design`.
+
+    See Also
+    --------
+    bandstop
 
     Examples
     --------

@@ -29,11 +29,42 @@ _LONG_KERNEL_SECONDS = 60.0  # longer kernels get a note
 
 
 @dataclass(frozen=True, slots=True)
-class FilterDesign:
+class FilterDesign:  # numpydoc ignore=PR01
     """A gain curve realized as a finite kernel at one sampling rate.
 
-    Made by :func:`design`; see there. ``kernel`` is read-only;
-    ``kernel[offset]`` is the sample at t = 0.
+    Made by :func:`design`; see there.
+
+    Attributes
+    ----------
+    curve : GainCurve
+        The request, with features above Nyquist dropped (see ``notes``).
+    sfreq : float
+        Sampling rate in Hz.
+    causal : bool
+        True for a minimum-phase kernel, False for a zero-phase one.
+    kernel_request : "shortest" | "exact" | float
+        What :func:`design` was asked for (a length in seconds, or a word).
+    tolerance : float
+        Largest accepted gain deviation.
+    kernel : ndarray
+        The finite impulse response (read-only); ``kernel[offset]`` is t = 0.
+    offset : int
+        Index of the kernel sample at t = 0.
+    characteristics : Characteristics
+        The realized filter in the field's terms.
+    notes : tuple of str
+        What :func:`design` changed or wants the user to know.
+
+    See Also
+    --------
+    design, apply
+
+    Examples
+    --------
+    >>> from gainshape import lowpass
+    >>> f = design(lowpass(30.0), 250.0)
+    >>> f.characteristics.kind, bool(f.kernel[f.offset] == f.kernel.max())
+    ('low-pass', True)
     """
 
     curve: GainCurve
@@ -229,6 +260,17 @@ def design(
     Returns
     -------
     FilterDesign
+        The kernel and its measured characteristics.
+
+    Raises
+    ------
+    ValueError
+        If the request cannot be realized within ``tolerance`` by any kernel
+        the design allows, or removes everything.
+
+    See Also
+    --------
+    apply, GainCurve
 
     Examples
     --------

@@ -467,20 +467,13 @@ def _stop_bands(freqs, realized, requested, edges, nulls, tol, curve, response) 
 
 def _floor_top(freqs, realized, where, band, level, curve, response) -> float:
     """The highest realized gain over a stop band's floor (``where`` on the
-    grid): its grid peaks refined, and its ends, where the request crosses
-    ``level``, found exactly (the gain often rises there)."""
+    grid). Its ends, where the request crosses ``level``, are peaks of the
+    masked grid too, so the bounded search of :func:`_refined_max` reaches
+    them (the gain is often steep there)."""
     def allowed(f):
         return (f >= band[0]) & (f <= band[1]) & (curve(f) <= level)
 
-    def above_level(f):
-        return float(curve(np.array([f]))[0]) - level
-
-    top = _refined_max(freqs, np.where(where, realized, 0.0), response, allowed)
-    for i in np.flatnonzero(where[1:] != where[:-1]):
-        if above_level(freqs[i]) * above_level(freqs[i + 1]) < 0:
-            end = brentq(above_level, freqs[i], freqs[i + 1], xtol=1e-12)
-            top = max(top, float(response(np.array([end]))[0]))
-    return top
+    return _refined_max(freqs, np.where(where, realized, 0.0), response, allowed)
 
 
 def _refined_max(freqs, values, fn, allowed=None, n_searched=3, n_looked=256) -> float:

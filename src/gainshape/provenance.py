@@ -195,6 +195,22 @@ def history(inst) -> History:
 
     Damaged or hand-edited lines are skipped with a warning.
 
+    Parameters
+    ----------
+    inst : mne.io.Raw | mne.Epochs | mne.Evoked
+        Data filtered by :func:`gainshape.apply` (the record is in
+        ``info["description"]`` and survives saving to FIF).
+
+    Returns
+    -------
+    History
+        A list of step records (dicts: request, design, realized
+        characteristics, application, software versions).
+
+    See Also
+    --------
+    methods_text, bids_filters, replay
+
     Examples
     --------
     >>> import mne
@@ -235,6 +251,30 @@ def methods_text(inst) -> str:
     (2015, J Neurosci Methods 250:34-46): filter type and family, cutoffs and
     their definition, roll-off, passband ripple and stopband attenuation,
     causality and delay, length, padding, and software versions.
+
+    Parameters
+    ----------
+    inst : mne.io.Raw | mne.Epochs | mne.Evoked
+        Data filtered by :func:`gainshape.apply` (the record is in
+        ``info["description"]`` and survives saving to FIF).
+
+    Returns
+    -------
+    str
+        The paragraph (or a sentence saying no filter was applied).
+
+    See Also
+    --------
+    history, bids_filters
+
+    Examples
+    --------
+    >>> import mne, numpy as np, gainshape as gs
+    >>> raw = mne.io.RawArray(np.zeros((1, 2500)), mne.create_info(["Cz"], 250.0, "eeg"),
+    ...                       verbose=False)
+    >>> filtered = gs.apply(raw, gs.lowpass(30.0))
+    >>> gs.methods_text(filtered).startswith("Data were filtered with gainshape")
+    True
     """
     steps = history(inst)
     if not steps:
@@ -256,6 +296,31 @@ def bids_filters(inst) -> dict | str:
 
     An object of objects (filter name -> parameters, units in the keys), or
     "n/a" when no filter was applied, as the BIDS specification allows.
+
+    Parameters
+    ----------
+    inst : mne.io.Raw | mne.Epochs | mne.Evoked
+        Data filtered by :func:`gainshape.apply` (the record is in
+        ``info["description"]`` and survives saving to FIF).
+
+    Returns
+    -------
+    dict | str
+        The ``SoftwareFilters`` value.
+
+    See Also
+    --------
+    write_bids_filters, methods_text
+
+    Examples
+    --------
+    >>> import mne, numpy as np, gainshape as gs
+    >>> raw = mne.io.RawArray(np.zeros((1, 2500)), mne.create_info(["Cz"], 250.0, "eeg"),
+    ...                       verbose=False)
+    >>> filtered = gs.apply(raw, gs.lowpass(30.0))
+    >>> entry, = gs.bids_filters(filtered).values()
+    >>> round(entry["low-pass half-amplitude cutoff (Hz)"], 1)
+    30.0
     """
     steps = history(inst)
     if not steps:
@@ -300,8 +365,29 @@ def bids_filters(inst) -> dict | str:
 def write_bids_filters(bids_path, inst) -> None:
     """Write :func:`bids_filters` into a BIDS dataset's ``*_eeg.json`` (needs mne-bids).
 
-    ``bids_path`` is an ``mne_bids.BIDSPath`` of the recording. The sidecar is
-    rewritten whole or not at all (see ``gainshape._files``).
+    The sidecar is rewritten whole or not at all; its other keys are kept.
+
+    Parameters
+    ----------
+    bids_path : mne_bids.BIDSPath
+        The recording in a BIDS dataset; its ``*_eeg.json`` sidecar must exist.
+    inst : mne.io.Raw | mne.Epochs | mne.Evoked
+        The filtered data whose record is written.
+
+    Raises
+    ------
+    ValueError
+        If the sidecar does not exist.
+
+    See Also
+    --------
+    bids_filters
+
+    Examples
+    --------
+    >>> from mne_bids import BIDSPath  # doctest: +SKIP
+    >>> path = BIDSPath(subject="01", task="rest", datatype="eeg", root="bids")  # doctest: +SKIP
+    >>> gs.write_bids_filters(path, filtered)  # doctest: +SKIP
     """
     try:
         from mne_bids import BIDSPath
@@ -337,6 +423,7 @@ def export(inst, fname, *, overwrite: bool = False, **export_options) -> list:
     Parameters
     ----------
     inst : mne.io.Raw
+        The filtered recording.
     fname : str | Path
         The export's file name; its extension picks the format (``.vhdr``,
         ``.edf``, ``.set``), as in ``mne.export.export_raw``.
@@ -349,6 +436,10 @@ def export(inst, fname, *, overwrite: bool = False, **export_options) -> list:
     -------
     list of Path
         The sidecar's path, then the export's.
+
+    See Also
+    --------
+    history, bids_filters
 
     Examples
     --------

@@ -67,6 +67,8 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
         Bands in Hz. Default: :data:`DEFAULT_BANDS` plus a "line" band of
         +-1 Hz around ``info["line_freq"]`` when it is set, leaving out (with
         a warning) those reaching above the Nyquist frequency.
+    sfreq : float | None
+        Sampling rate in Hz, for arrays (MNE objects carry theirs).
 
     Returns
     -------
@@ -82,6 +84,10 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
         is wider than the band) are NaN, with a warning. Attrs with the
         sampling rate, window and the ids (comma-separated) of the
         history steps in ``after`` that ``before`` lacks.
+
+    See Also
+    --------
+    observed_gain, plot_band_change
 
     Examples
     --------
@@ -157,7 +163,7 @@ def band_change_map(ds) -> np.ndarray:
 
 
 def observed_gain(before, after, *, sfreq=None) -> xr.DataArray:
-    """The amplitude ratio the data saw, channel by frequency: |P_xy / P_xx|.
+    """The amplitude ratio the data saw, channel by frequency: ``|P_xy / P_xx|``.
 
     Blackman-Harris windows of 40 s (at most the record or epoch length).
     NaN where the input has too little power to measure (below 1e-8 of the
@@ -166,6 +172,22 @@ def observed_gain(before, after, *, sfreq=None) -> xr.DataArray:
     frequency and mix in slower, usually far stronger, drift (measurements:
     benchmarks/README.md). Epochs are treated as concatenated records of the
     same channels.
+
+    Parameters
+    ----------
+    before, after : Raw | Epochs | Evoked | ndarray
+        The same data before and after filtering.
+    sfreq : float | None
+        Sampling rate in Hz, for arrays.
+
+    Returns
+    -------
+    xarray.DataArray
+        Dims ``(channel, frequency)``: the cross-spectral amplitude ratio.
+
+    See Also
+    --------
+    band_change, plot_observed_gain, FilterDesign.realized_gain
 
     Examples
     --------

@@ -253,6 +253,22 @@ def plot_band_change(ds, *, show=True):
     median change across channels with the range from the smallest to the
     largest.
 
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        The result of :func:`gainshape.band_change`.
+    show : bool
+        Call ``plt.show()`` (False in scripts that save the figure).
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        The figure.
+
+    See Also
+    --------
+    band_change
+
     Examples
     --------
     >>> import numpy as np, gainshape as gs
@@ -302,8 +318,28 @@ def plot_band_change(ds, *, show=True):
 
 
 def plot_observed_gain(da, design=None, *, show=True):
-    """Observed gain per channel (thin), its median (thick) and the realized
-    gain (dashed): linear on the left, in dB on the right.
+    """Observed gain per channel, its median and the realized gain, linear and in dB.
+
+    Channels are drawn thin, their median thick, the realized gain dashed;
+    linear on the left, in dB on the right.
+
+    Parameters
+    ----------
+    da : xarray.DataArray
+        The result of :func:`gainshape.observed_gain`.
+    design : FilterDesign | None
+        The filter applied, to draw its realized gain over the observation.
+    show : bool
+        Call ``plt.show()`` (False in scripts that save the figure).
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        The figure.
+
+    See Also
+    --------
+    observed_gain
 
     Examples
     --------
@@ -361,6 +397,24 @@ def plot_audit(ds, *, tmin=-0.5, tmax=2.0, show=True):
     Where a waveform has several components, each one filtered alone is
     drawn thin and dotted; red dots on it mark its largest opposite-polarity
     deflection before and after, labelled in % of its peak (from 5 %).
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        The result of :func:`gainshape.audit`.
+    tmin, tmax : float
+        Time range drawn, in seconds.
+    show : bool
+        Call ``plt.show()`` (False in scripts that save the figure).
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        The figure.
+
+    See Also
+    --------
+    audit
 
     Examples
     --------
