@@ -14,7 +14,6 @@ release = version = gainshape.__version__
 extensions = [
     "sphinx.ext.autodoc",
     "sphinx.ext.autosummary",
-    "sphinx.ext.mathjax",
     "numpydoc",
     "myst_nb",
 ]
@@ -23,6 +22,7 @@ html_theme = "pydata_sphinx_theme"
 html_title = "gainshape"
 html_theme_options = {
     "navigation_with_keys": False,
+    "header_links_before_dropdown": 3,
     "show_toc_level": 2,
     "secondary_sidebar_items": ["page-toc"],
 }
@@ -41,7 +41,6 @@ numpydoc_validation_exclude = {r"\.__\w+__$", r"^gainshape\.(FilterDesign|GainCu
 nb_execution_mode = "force"
 nb_execution_timeout = 600
 nb_execution_raise_on_error = True
-myst_enable_extensions = ["dollarmath"]
 exclude_patterns = ["_build", "**.ipynb_checkpoints"]
 suppress_warnings = ["mystnb.unknown_mime_type"]
 
