@@ -20,7 +20,8 @@ from ._checks import check_bool, check_int, check_option, check_positive, warn
 from .curves import GainCurve
 from .design import FilterDesign, check_filter, check_kernel_request, design
 from .measure import passband_edges
-from .engine import PAD_MODES, Progress, check_finite, check_samples, fft_workers, filter_array
+from .engine import (PAD_MODES, Progress, SegmentWords, check_finite, check_samples, fft_workers,
+                     filter_array)
 from .provenance import RATE_PPM, fingerprint, history, make_step, same_rate, store_step, usable_steps
 
 __all__ = ["apply", "replay", "as_arrays", "Signals"]
@@ -187,11 +188,11 @@ def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
     try:
         filter_array(
             data, filt, pad=pad, segments=segments, nan=nan, n_jobs=n_jobs, rows=rows,
-            out=out_data, row_names=row_names, checked=True,
+            out=out_data, assume_finite=True,
             progress=_progress(verbose, kind, len(rows), data.shape[-1], inst.info["sfreq"], len(idx)),
-            segment_name="Each epoch" if kind == "epochs" else None,
-            short_hint=" ".join(filter(None, [_gentlest_edge(filt),
-                                              _EPOCH_HINT if kind == "epochs" else ""])),
+            words=SegmentWords("Each epoch" if kind == "epochs" else None,
+                               " ".join(filter(None, [_gentlest_edge(filt),
+                                                      _EPOCH_HINT if kind == "epochs" else ""]))),
         )
     except BaseException:
         if out is inst:  # in place: the object itself now holds partly filtered data
@@ -319,7 +320,7 @@ def _apply_array(data, filt, sfreq, picks, pad, options, nan, n_jobs, copy, verb
     before = fingerprint(flat, rows)
     out = filter_array(
         data, filt, pad=pad, nan=nan, n_jobs=n_jobs, rows=rows,
-        out=None if copy else data, short_hint=_gentlest_edge(filt),
+        out=None if copy else data, words=SegmentWords(hint=_gentlest_edge(filt)),
         progress=_progress(verbose, "array", rows.size, data.shape[-1], sfreq, rows.size),
     )
     step = make_step(filt, channels=[f"row {c}" for c in np.atleast_1d(channels)], pad=pad,

@@ -55,10 +55,8 @@ def filter_array(
     n_jobs: int = 1,
     rows=None,
     out: np.ndarray | None = None,
-    row_names=None,
-    segment_name: str | None = None,
-    short_hint: str = "",
-    checked: bool = False,
+    assume_finite: bool = False,
+    words: SegmentWords | None = None,
     progress: Progress | None = None,
 ) -> np.ndarray:
     """Filter ``data`` along its last axis with ``design``.
@@ -85,14 +83,11 @@ def filter_array(
     out : ndarray or None
         Where to write the result (may be ``data`` itself to filter in
         place); a new array of ``data``'s dtype when None.
-    row_names : list of str or None
-        Names for the rows in ``rows`` order, for error messages.
-    segment_name : str or None
-        How warnings name a segment (e.g. "Each epoch"); None: by its times.
-    short_hint : str
-        Advice appended to the warning for segments shorter than the kernel.
-    checked : bool
-        The caller has already checked the rows for non-finite values.
+    assume_finite : bool
+        The caller has already checked the rows for non-finite values (with
+        its own names for them); skips the check.
+    words : SegmentWords | None
+        How the warning about a short segment names it and what it advises.
     progress : Progress | None
         How to show progress (see :class:`Progress`); None: silently.
 
@@ -117,8 +112,8 @@ def filter_array(
     all_rows = data.reshape(-1, data.shape[-1])
     picked = np.arange(all_rows.shape[0]) if rows is None else np.asarray(rows, dtype=int)
     segments = _check_segments(segments, data.shape[-1])
-    if nan == "raise" and not checked:
-        check_finite(all_rows, row_names, picked=picked)
+    if nan == "raise" and not assume_finite:
+        check_finite(all_rows, picked=picked)
     if out is None:
         out = np.empty_like(data)
     out_rows = out.reshape(-1, data.shape[-1])
@@ -129,10 +124,27 @@ def filter_array(
     with _bar(progress, picked.size * data.shape[-1]) as advance:
         for group, group_segments in _row_groups(all_rows, picked, segments, nan):
             for start, stop in group_segments:
-                _warn_if_short(design, start, stop, segment_name, short_hint)
+                _warn_if_short(design, start, stop, words or SegmentWords())
                 _filter_segment(all_rows, out_rows, group, start, stop, design, pad, workers,
                                 advance)
     return out
+
+
+@dataclass(frozen=True)
+class SegmentWords:
+    """How a warning about a segment shorter than the kernel reads.
+
+    ``name`` names the segment (e.g. "Each epoch"; None: by its times);
+    ``hint`` is the advice appended.
+
+    Examples
+    --------
+    >>> SegmentWords("Each epoch").hint
+    ''
+    """
+
+    name: str | None = None
+    hint: str = ""
 
 
 @dataclass(frozen=True)
@@ -274,13 +286,13 @@ def _true_runs(mask: np.ndarray):
     return list(zip(edges[::2].tolist(), edges[1::2].tolist()))
 
 
-def _warn_if_short(design, start, stop, name, hint):
+def _warn_if_short(design, start, stop, words):
     """Warn when the kernel is longer than a third of the segment it filters:
     most of the segment is then within the kernel's reach of its padded ends."""
     n_kernel, sfreq = design.kernel.size, design.sfreq
     if stop - start >= _SEGMENT_KERNELS * n_kernel:
         return
-    name = name or f"The segment at {start / sfreq:.3f}-{stop / sfreq:.3f} s"
+    name, hint = words.name or f"The segment at {start / sfreq:.3f}-{stop / sfreq:.3f} s", words.hint
     warn(
         f"{name} ({stop - start} samples, {(stop - start) / sfreq:.3g} s) is shorter than "
         f"{_SEGMENT_KERNELS} times the filter's kernel ({n_kernel} samples, "
@@ -307,7 +319,7 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ad
         carry = None
         for a in range(0, n_seg, step):
             b = min(a + step, n_seg)
-            filtered = filter_span(seg, edges, a, b, design, n_fft, workers, buf[: block.size],
+            filtered = filter_span(seg, edges, (a, b), design, buf[: block.size], workers=workers,
                                    carry=carry, spec=spec[: block.size])
             if in_place and b < n_seg:  # the next block's left context, before it is overwritten
                 carry = np.array(seg[:, b - design.support : b])
@@ -408,8 +420,8 @@ def edge_pads(seg, n_pad: int, mode: str):
     return padded[:, :n_pad], padded[:, n_pad + n :]
 
 
-def filter_span(seg, edges, a, b, design, n_fft, workers, buf, carry=None, spec=None) -> np.ndarray:
-    """Filtered samples ``[a, b)`` of a padded segment (overlap-save block).
+def filter_span(seg, edges, span, design, buf, *, workers=1, carry=None, spec=None) -> np.ndarray:
+    """Filtered samples ``span = (a, b)`` of a padded segment (overlap-save block).
 
     ``seg[:, lo:hi]`` gives the segment's samples, ``edges`` its padding
     (from :func:`edge_pads`); ``buf`` is a (rows, n_fft) work array and
@@ -418,6 +430,7 @@ def filter_span(seg, edges, a, b, design, n_fft, workers, buf, carry=None, spec=
     ``carry``, if given, replaces the first ``support`` samples of the block's
     input (the previous block's end, saved before filtering in place).
     """
+    (a, b), n_fft = span, buf.shape[-1]
     n_pad, n = design.support, seg.shape[1]
     lo, hi = a - n_pad, b + n_pad  # segment coordinates, padding outside [0, n)
     left, right = edges

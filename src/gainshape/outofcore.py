@@ -133,8 +133,8 @@ class _BlockReader:
                     group = slice(g, g + _ROWS_PER_FFT)
                     k = len(self.rows[group])
                     out[self.rows[group], s + lo - start : s + hi - start] = filter_span(
-                        _RowGroup(view, group, k), (left[group], right[group]), lo, hi,
-                        self.filt, n_fft, self.workers, buf[:k], spec=spec[:k])
+                        _RowGroup(view, group, k), (left[group], right[group]), (lo, hi),
+                        self.filt, buf[:k], workers=self.workers, spec=spec[:k])
         return out
 
 
