@@ -98,6 +98,10 @@ class GainCurve:  # numpydoc ignore=PR01
             Monotone (PCHIP) interpolation between points, flat beyond the
             end points.
 
+        See Also
+        --------
+        lowpass, notch
+
         Examples
         --------
         >>> g = GainCurve.from_points([1, 2, 40, 60], [0, 1, 1, 0])
@@ -119,6 +123,25 @@ class GainCurve:  # numpydoc ignore=PR01
     @classmethod
     def from_dict(cls, data: Mapping) -> GainCurve:
         """Rebuild a curve from :meth:`to_dict` output.
+
+        Parameters
+        ----------
+        data : dict
+            ``{"format": "gainshape.GainCurve", "version": 1, "curve": {...}}``.
+
+        Returns
+        -------
+        GainCurve
+            The curve the recipe describes.
+
+        Raises
+        ------
+        ValueError
+            If the format, version or keys are not those :meth:`to_dict` writes.
+
+        See Also
+        --------
+        GainCurve.to_dict
 
         Examples
         --------
@@ -148,6 +171,20 @@ class GainCurve:  # numpydoc ignore=PR01
     def to_dict(self) -> dict:
         """Return a JSON-serializable dict that :meth:`from_dict` rebuilds.
 
+        Returns
+        -------
+        dict
+            The format name, its version and the curve's recipe.
+
+        Raises
+        ------
+        ValueError
+            For a curve built from a bare callable (it has no recipe).
+
+        See Also
+        --------
+        GainCurve.from_dict
+
         Examples
         --------
         >>> lowpass(30.0, rolloff=24.0).to_dict()["curve"]
@@ -163,7 +200,17 @@ class GainCurve:  # numpydoc ignore=PR01
 
     @property
     def recipe(self) -> dict | None:
-        """The curve's recipe as a fresh dict, or None for a bare callable."""
+        """The curve's recipe as a fresh dict, or None for a bare callable.
+
+        See Also
+        --------
+        GainCurve.to_dict
+
+        Examples
+        --------
+        >>> highpass(0.1).recipe
+        {'kind': 'highpass', 'cutoff': 0.1, 'rolloff': 12.0}
+        """
         return None if self._recipe is None else json.loads(self._recipe)
 
     # -- evaluation and algebra ----------------------------------------------
@@ -221,7 +268,22 @@ class GainCurve:  # numpydoc ignore=PR01
 
     # -- display -------------------------------------------------------------
     def describe(self) -> str:
-        """One line in the field's terms, e.g. 'low-pass 30 Hz, 12 dB/octave'."""
+        """One line in the field's terms, e.g. 'low-pass 30 Hz, 12 dB/octave'.
+
+        Returns
+        -------
+        str
+            The description.
+
+        See Also
+        --------
+        FilterDesign.describe
+
+        Examples
+        --------
+        >>> bandpass(0.1, 40.0).describe()
+        'band-pass 0.1-40 Hz, 12 dB/octave'
+        """
         if self._recipe is None:
             name = getattr(self.func, "__name__", type(self.func).__name__)
             return f"custom curve from callable {name}"
@@ -246,8 +308,26 @@ class GainCurve:  # numpydoc ignore=PR01
     def below_nyquist(self, nyquist: float) -> tuple[GainCurve, tuple[str, ...]]:
         """The curve to realize below ``nyquist`` (Hz), and notes on what changed.
 
-        Raises ValueError for a cutoff or band edge at or above Nyquist; notch
-        harmonics at or above it are dropped, each with a note.
+        Parameters
+        ----------
+        nyquist : float
+            Half the sampling rate, in Hz.
+
+        Returns
+        -------
+        curve : GainCurve
+            The curve without notch harmonics at or above ``nyquist``.
+        notes : tuple of str
+            One note per dropped harmonic.
+
+        Raises
+        ------
+        ValueError
+            For a cutoff or band edge at or above Nyquist.
+
+        See Also
+        --------
+        design
 
         Examples
         --------

@@ -80,26 +80,96 @@ class FilterDesign:  # numpydoc ignore=PR01
 
     @property
     def exact(self) -> bool:
-        """True when the request is applied on each record's own grid (``kernel="exact"``)."""
+        """True when the request is applied on each record's own grid (``kernel="exact"``).
+
+        See Also
+        --------
+        design
+
+        Examples
+        --------
+        >>> from gainshape import lowpass
+        >>> f = design(lowpass(30.0), 250.0)
+        >>> f.exact
+        False
+        """
         return self.kernel_request == "exact"
 
     @property
     def phase_words(self) -> str:
-        """The phase response in words, e.g. "zero-phase (symmetric kernel, no delay)"."""
+        """The phase response in words, as the methods paragraph states it.
+
+        See Also
+        --------
+        methods_text
+
+        Examples
+        --------
+        >>> from gainshape import lowpass
+        >>> f = design(lowpass(30.0), 250.0)
+        >>> f.phase_words
+        'zero-phase (symmetric kernel, no delay)'
+        """
         return phase_words(self.causal, self.characteristics.group_delay)
 
     @property
     def times(self) -> np.ndarray:
-        """Kernel sample times in seconds (0 at the kernel's time origin)."""
+        """Kernel sample times in seconds (0 at the kernel's time origin).
+
+        See Also
+        --------
+        FilterDesign.plot
+
+        Examples
+        --------
+        >>> from gainshape import lowpass
+        >>> f = design(lowpass(30.0), 250.0)
+        >>> float(f.times[f.offset])
+        0.0
+        """
         return (np.arange(self.kernel.size) - self.offset) / self.sfreq
 
     @property
     def support(self) -> int:
-        """Samples of padding the kernel needs on each side of the data."""
+        """Samples of padding the kernel needs on each side of the data.
+
+        See Also
+        --------
+        apply
+
+        Examples
+        --------
+        >>> from gainshape import lowpass
+        >>> f = design(lowpass(30.0), 250.0)
+        >>> f.support == f.offset  # a symmetric kernel reaches as far on both sides
+        True
+        """
         return int(max(self.offset, self.kernel.size - 1 - self.offset))
 
     def requested_gain(self, freqs) -> np.ndarray:
-        """The curve's gain at ``freqs`` (Hz)."""
+        """The curve's gain at ``freqs`` (Hz).
+
+        Parameters
+        ----------
+        freqs : float or array-like of float
+            Frequencies in Hz.
+
+        Returns
+        -------
+        ndarray
+            The requested gain there.
+
+        See Also
+        --------
+        FilterDesign.realized_gain
+
+        Examples
+        --------
+        >>> from gainshape import lowpass
+        >>> f = design(lowpass(30.0), 250.0)
+        >>> float(f.requested_gain(30.0))
+        0.5
+        """
         return self.curve(freqs)
 
     def realized_gain(self, freqs) -> np.ndarray:
@@ -107,6 +177,21 @@ class FilterDesign:  # numpydoc ignore=PR01
 
         With ``kernel="exact"`` the request is applied on each record's own
         frequency grid, so the realized gain is the request.
+
+        Parameters
+        ----------
+        freqs : float or array-like of float
+            Frequencies in Hz.
+
+        Returns
+        -------
+        ndarray
+            The realized gain there (exact: the kernel's DTFT, interpolated
+            on an FFT grid within 3e-11 of its L1 norm).
+
+        See Also
+        --------
+        FilterDesign.requested_gain
 
         Examples
         --------
@@ -125,6 +210,29 @@ class FilterDesign:  # numpydoc ignore=PR01
 
         Real for zero phase, complex for minimum phase, in single precision
         for ``dtype=float32`` data; cached per size and precision.
+
+        Parameters
+        ----------
+        n_fft : int
+            FFT length.
+        dtype : dtype
+            The data's precision (float32 or float64).
+
+        Returns
+        -------
+        ndarray
+            ``n_fft // 2 + 1`` values, t = 0 at the first sample.
+
+        See Also
+        --------
+        FilterDesign.realized_gain
+
+        Examples
+        --------
+        >>> from gainshape import lowpass
+        >>> f = design(lowpass(30.0), 250.0)
+        >>> f.spectrum(4096).shape
+        (2049,)
         """
         key = (n_fft, np.dtype(dtype) == np.float32)
         if key not in self._spectra:
@@ -145,16 +253,51 @@ class FilterDesign:  # numpydoc ignore=PR01
     def plot(self, *, fmin=None, show=True):
         """Requested and realized gain (linear and dB), impulse and step response.
 
+        Parameters
+        ----------
+        fmin : float | None
+            Lowest frequency drawn (Hz); by default a decade below the lowest edge.
+        show : bool
+            Call ``plt.show()``.
+
         Returns
         -------
         matplotlib.figure.Figure
+            The figure.
+
+        See Also
+        --------
+        plot_observed_gain
+
+        Examples
+        --------
+        >>> from gainshape import lowpass
+        >>> f = design(lowpass(30.0), 250.0)
+        >>> fig = f.plot(show=False)
         """
         from .viz import plot_design
 
         return plot_design(self, fmin=fmin, show=show)
 
     def describe(self) -> str:
-        """One line: the kind, cutoffs, roll-off, phase response and length."""
+        """One line: the kind, cutoffs, roll-off, phase response and length.
+
+        Returns
+        -------
+        str
+            The line (also the design's ``repr``).
+
+        See Also
+        --------
+        FilterDesign.summary
+
+        Examples
+        --------
+        >>> from gainshape import lowpass
+        >>> f = design(lowpass(30.0), 250.0)
+        >>> f.describe().split("; ")[0]
+        'low-pass'
+        """
         c = self.characteristics
         realized = c.to_dict()
         passband, stops = passband_edges(realized), removed_bands(realized)
@@ -173,6 +316,15 @@ class FilterDesign:  # numpydoc ignore=PR01
 
     def summary(self) -> list[tuple[str, str]]:
         """The characteristics as (label, value) rows of text, for tables.
+
+        Returns
+        -------
+        list of (str, str)
+            One row per figure, in the order of the notebook table.
+
+        See Also
+        --------
+        FilterDesign.describe
 
         Examples
         --------

@@ -1,0 +1,47 @@
+"""measure: the refined maxima behind deviation and attenuation, and edge timing
+of single-edge kernels."""
+
+import numpy as np
+import pytest
+from scipy.signal import freqz
+
+import gainshape as gs
+from gainshape.measure import _refined_max, max_deviation
+from gainshape.realize import KernelResponse
+
+
+def test_refined_max_finds_a_peak_between_grid_points():
+    # reference: calculus; sin(x) peaks at 1 for x = pi / 2, which no grid point hits
+    grid = np.linspace(0.0, 3.0, 7)
+    assert _refined_max(grid, np.sin(grid), np.sin) == pytest.approx(1.0, abs=1e-12)
+
+
+def test_refined_max_respects_where_it_counts():
+    grid = np.linspace(0.0, 3.0, 31)
+    best = _refined_max(grid, np.where(grid <= 1.0, np.sin(grid), 0.0), np.sin,
+                        allowed=lambda f: f <= 1.0)
+    assert best == pytest.approx(np.sin(1.0), abs=1e-6)
+
+
+def test_max_deviation_equals_a_dense_scan():
+    # reference: scipy.signal.freqz of the kernel on 2**20 points
+    f = gs.design(gs.bandpass(1.0, 40.0), 250.0)
+    freqs, h = freqz(f.kernel, worN=2**20, fs=250.0)
+    dense = np.max(np.abs(np.abs(h) - f.requested_gain(freqs)))
+    measured = max_deviation(f.curve, KernelResponse(f.kernel, f.offset, 250.0, False))
+    assert measured == pytest.approx(dense, rel=1e-4)
+    assert f.characteristics.max_deviation == pytest.approx(dense, rel=1e-4)
+
+
+@pytest.mark.parametrize("curve", [gs.highpass(0.5), gs.lowpass(30.0, rolloff=24.0)])
+def test_causal_single_edge_is_timed_from_its_own_kernel(curve):
+    # reference: definition; a causal kernel's unit step response is its cumulative sum
+    f = gs.design(curve, 250.0, causal=True)
+    timing, = f.characteristics.edge_timing
+    step = np.cumsum(f.kernel)
+    if timing.edge == "high-pass":
+        late = np.flatnonzero(np.abs(step - step[-1]) > 0.01)
+        assert timing.settling_s == pytest.approx(late[-1] / 250.0)
+        assert timing.opposite_pct == pytest.approx(-100 * step.min())
+    else:
+        assert timing.overshoot_pct == pytest.approx(100 * (step.max() - step[-1]))
