@@ -34,6 +34,17 @@ LAYERS = ["_compat", "_checks", "_files", "curves", "realize", "measure", "desig
 MNE_AWARE = {"_compat", "adapters", "outofcore", "provenance", "simulate", "demo"}  # provenance: version, mne-bids
 
 
+def test_architecture_page_lists_the_layers_in_order_and_the_mne_aware_modules():
+    # the page readers see (docs/architecture.md) agrees with the rules enforced here
+    from pathlib import Path
+
+    page = Path(__file__).parent.parent / "docs" / "architecture.md"
+    rows = [line.split("|")[1:-1] for line in page.read_text().splitlines()
+            if line.startswith("| ") and line.split("|")[1].strip().isdigit()]
+    assert [cells[1].strip().strip("`") for cells in rows] == LAYERS
+    assert {cells[1].strip().strip("`") for cells in rows if cells[3].strip() == "MNE"} == MNE_AWARE
+
+
 def _package_imports(path, top_level_only):
     import ast
 

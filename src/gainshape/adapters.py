@@ -74,8 +74,8 @@ def apply(
     pad : str
         ``numpy.pad`` mode extending each segment by the kernel's support.
     causal, kernel, tolerance : bool, str or float, float
-        Passed to :func:`gainshape.design` when ``filt`` is a GainCurve
-        (ignored for a FilterDesign, which carries its own).
+        Passed to :func:`gainshape.design` when ``filt`` is a GainCurve. A
+        FilterDesign carries its own: asking it for another is an error.
     nan : {"raise", "split"}
         Non-finite samples raise (naming channels and times), or split the
         data into segments filtered around them (they stay non-finite).
