@@ -6,6 +6,7 @@ from .curves import GainCurve, bandpass, bandstop, highpass, lowpass, notch
 from .design import FilterDesign, design
 from .audit import audit
 from .provenance import bids_filters, export, history, methods_text, write_bids_filters
+from .recipes import read_recipe, write_recipe
 from .summaries import band_change, observed_gain
 from .viz import plot_audit, plot_band_change, plot_observed_gain
 
@@ -32,6 +33,8 @@ __all__ = [
     "plot_audit",
     "plot_band_change",
     "plot_observed_gain",
+    "read_recipe",
     "replay",
     "write_bids_filters",
+    "write_recipe",
 ]

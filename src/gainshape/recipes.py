@@ -1,0 +1,145 @@
+"""A filter recipe as a small JSON file: the curve and the options of :func:`gainshape.apply`.
+
+Vocabulary: a *recipe* is what a study applies to every recording: the gain
+curve's own recipe (see :meth:`GainCurve.to_dict`) plus ``causal``,
+``kernel``, ``tolerance``, ``pad`` and ``picks``. Read back, it is a dict of
+:func:`gainshape.apply`'s keyword arguments, so ``gs.apply(raw, **recipe)``
+repeats the recorded call.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+from ._checks import check_bool, check_option, check_positive
+from ._files import atomic_output
+from .curves import GainCurve
+from .design import FilterDesign, check_filter, check_kernel_request
+from .engine import PAD_MODES
+
+__all__ = ["read_recipe", "write_recipe"]
+
+_FORMAT, _VERSION = "gainshape.recipe", 1
+_KEYS = ("format", "version", "curve", "causal", "kernel", "tolerance", "pad", "picks")
+
+
+def write_recipe(path, filt, *, causal: bool = False, kernel="shortest", tolerance: float = 0.001,
+                 pad: str = "reflect", picks=None) -> Path:
+    """Write a filter recipe to a JSON file, whole or not at all.
+
+    Parameters
+    ----------
+    path : str | Path
+        The file to write (replaced if it exists).
+    filt : GainCurve | FilterDesign
+        The filter; a design is recorded by its curve and its own
+        ``causal``, ``kernel`` and ``tolerance`` (the recipe is rate-free).
+    causal, kernel, tolerance : bool, str or float, float
+        As for :func:`gainshape.design` (ignored for a design).
+    pad : str
+        As for :func:`gainshape.apply`.
+    picks : str | list of str or int | None
+        As for :func:`gainshape.apply`; names keep best across recordings.
+
+    Returns
+    -------
+    Path
+        The file written.
+
+    Raises
+    ------
+    ValueError
+        For a curve built from a bare callable (it has no recipe) or an
+        option :func:`gainshape.apply` would refuse; nothing is written.
+
+    See Also
+    --------
+    read_recipe, apply
+
+    Examples
+    --------
+    >>> import tempfile, pathlib, gainshape as gs
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "filter.json"
+    >>> _ = gs.write_recipe(path, gs.bandpass(0.1, 40.0), picks="eeg")
+    >>> gs.read_recipe(path)["picks"]
+    'eeg'
+    """
+    check_filter(filt)
+    if isinstance(filt, FilterDesign):
+        filt, causal, kernel, tolerance = filt.curve, filt.causal, filt.kernel_request, filt.tolerance
+    content = {"format": _FORMAT, "version": _VERSION, "curve": filt.to_dict()["curve"],
+               **_checked_options(causal, kernel, tolerance, pad, picks)}
+    path = Path(path)
+    with atomic_output(path) as staged:
+        staged.write_text(json.dumps(content, indent=2) + "\n", encoding="utf-8")
+    return path
+
+
+def read_recipe(path) -> dict:
+    """Read a filter recipe written by :func:`write_recipe`.
+
+    Parameters
+    ----------
+    path : str | Path
+        The JSON file.
+
+    Returns
+    -------
+    dict
+        :func:`gainshape.apply`'s keyword arguments: ``filt`` (a
+        GainCurve), ``causal``, ``kernel``, ``tolerance``, ``pad``, ``picks``.
+
+    Raises
+    ------
+    ValueError
+        If the file is not JSON, is not a gainshape recipe, has another
+        version, lacks or adds keys, or holds an option apply would refuse.
+
+    See Also
+    --------
+    write_recipe, apply
+
+    Examples
+    --------
+    >>> import tempfile, pathlib, gainshape as gs
+    >>> path = gs.write_recipe(pathlib.Path(tempfile.mkdtemp()) / "f.json", gs.lowpass(30.0))
+    >>> recipe = gs.read_recipe(path)
+    >>> recipe["filt"].describe(), recipe["kernel"]
+    ('low-pass 30 Hz, 12 dB/octave', 'shortest')
+    """
+    path = Path(path)
+    try:
+        content = json.loads(path.read_text(encoding="utf-8"))
+    except ValueError as err:
+        raise ValueError(f"{path} is not a JSON file ({err}); a recipe is written by "
+                         "gainshape.write_recipe.") from None
+    if not isinstance(content, dict) or content.get("format") != _FORMAT:
+        raise ValueError(f"{path} is not a filter recipe: its 'format' should be {_FORMAT!r}.")
+    if content.get("version") != _VERSION:
+        raise ValueError(f"{path} is a recipe of version {content.get('version')!r}; this "
+                         f"gainshape reads version {_VERSION}. Upgrade gainshape to read it.")
+    unknown, missing = set(content) - set(_KEYS), set(_KEYS) - set(content)
+    if unknown or missing:
+        raise ValueError(f"{path} holds the keys {sorted(content)}: "
+                         + "; ".join(filter(None, [
+                             unknown and "unknown " + ", ".join(map(repr, sorted(unknown))),
+                             missing and "missing " + ", ".join(map(repr, sorted(missing)))]))
+                         + f". A recipe has exactly {', '.join(_KEYS)}.")
+    curve = GainCurve.from_dict({"format": "gainshape.GainCurve", "version": 1,
+                                 "curve": content["curve"]})
+    return {"filt": curve, **_checked_options(content["causal"], content["kernel"],
+                                              content["tolerance"], content["pad"],
+                                              content["picks"])}
+
+
+def _checked_options(causal, kernel, tolerance, pad, picks) -> dict:
+    """The options as apply checks them, in plain JSON values."""
+    if not (picks is None or isinstance(picks, str)
+            or (isinstance(picks, list) and all(isinstance(p, (str, int)) and not isinstance(p, bool)
+                                                for p in picks))):
+        raise ValueError("The 'picks' of a recipe are None, a channel type or 'all', or a list "
+                         f"of channel names or indices; {picks!r} was given.")
+    return {"causal": check_bool("causal", causal), "kernel": check_kernel_request(kernel),
+            "tolerance": check_positive("tolerance", tolerance, below=1.0),
+            "pad": check_option("pad", pad, PAD_MODES), "picks": picks}
