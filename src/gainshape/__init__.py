@@ -7,6 +7,7 @@ from .design import FilterDesign, design
 from .audit import audit
 from .provenance import bids_filters, export, history, methods_text, write_bids_filters
 from .recipes import read_recipe, write_recipe
+from .study import run_study
 from .summaries import band_change, observed_gain
 from .viz import plot_audit, plot_band_change, plot_observed_gain
 
@@ -35,6 +36,7 @@ __all__ = [
     "plot_observed_gain",
     "read_recipe",
     "replay",
+    "run_study",
     "write_bids_filters",
     "write_recipe",
 ]

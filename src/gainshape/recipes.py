@@ -18,7 +18,7 @@ from .curves import GainCurve
 from .design import FilterDesign, check_filter, check_kernel_request
 from .engine import PAD_MODES
 
-__all__ = ["read_recipe", "write_recipe"]
+__all__ = ["read_recipe", "write_recipe", "recipe_content", "recipe_from_content"]
 
 _FORMAT, _VERSION = "gainshape.recipe", 1
 _KEYS = ("format", "version", "curve", "causal", "kernel", "tolerance", "pad", "picks")
@@ -65,11 +65,8 @@ def write_recipe(path, filt, *, causal: bool = False, kernel="shortest", toleran
     >>> gs.read_recipe(path)["picks"]
     'eeg'
     """
-    check_filter(filt)
-    if isinstance(filt, FilterDesign):
-        filt, causal, kernel, tolerance = filt.curve, filt.causal, filt.kernel_request, filt.tolerance
-    content = {"format": _FORMAT, "version": _VERSION, "curve": filt.to_dict()["curve"],
-               **_checked_options(causal, kernel, tolerance, pad, picks)}
+    content = recipe_content(filt, causal=causal, kernel=kernel, tolerance=tolerance, pad=pad,
+                             picks=picks)
     path = Path(path)
     with atomic_output(path) as staged:
         staged.write_text(json.dumps(content, indent=2) + "\n", encoding="utf-8")
@@ -114,6 +111,31 @@ def read_recipe(path) -> dict:
     except ValueError as err:
         raise ValueError(f"{path} is not a JSON file ({err}); a recipe is written by "
                          "gainshape.write_recipe.") from None
+    return recipe_from_content(content, path)
+
+
+def recipe_content(filt, *, causal=False, kernel="shortest", tolerance=0.001, pad="reflect",
+                   picks=None) -> dict:
+    """The JSON content of a recipe (what :func:`write_recipe` writes), checked.
+
+    >>> from gainshape import lowpass
+    >>> recipe_content(lowpass(30.0))["curve"]
+    {'kind': 'lowpass', 'cutoff': 30.0, 'rolloff': 12.0}
+    """
+    check_filter(filt)
+    if isinstance(filt, FilterDesign):
+        filt, causal, kernel, tolerance = filt.curve, filt.causal, filt.kernel_request, filt.tolerance
+    return {"format": _FORMAT, "version": _VERSION, "curve": filt.to_dict()["curve"],
+            **_checked_options(causal, kernel, tolerance, pad, picks)}
+
+
+def recipe_from_content(content, path="the recipe") -> dict:
+    """Apply's keyword arguments from a recipe's JSON content; ``path`` names it in errors.
+
+    >>> from gainshape import lowpass
+    >>> recipe_from_content(recipe_content(lowpass(30.0)))["filt"] == lowpass(30.0)
+    True
+    """
     if not isinstance(content, dict) or content.get("format") != _FORMAT:
         raise ValueError(f"{path} is not a filter recipe: its 'format' should be {_FORMAT!r}.")
     if content.get("version") != _VERSION:

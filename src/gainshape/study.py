@@ -1,0 +1,246 @@
+"""A whole study filtered with one recipe, one recording per Dask task.
+
+Vocabulary: a *source* is one recording file; its *output* is the filtered
+FIF in the output folder, beside its *sidecar* (JSON: the BIDS
+``SoftwareFilters`` entry, the recipe and the source's fingerprint). An
+output is *up to date* when its sidecar records the same recipe and the same
+source fingerprint, and a re-run leaves it alone. Each recording is read
+lazily and filtered file to file (:mod:`gainshape.outofcore`), so a worker's
+memory does not grow with the recording; each file is written whole or not
+at all.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import json
+import os
+import resource
+import time
+from pathlib import Path
+
+import xxhash
+
+from ._checks import check_bool
+from ._files import atomic_output
+from .adapters import apply
+from .provenance import bids_filters
+from .recipes import read_recipe, recipe_content, recipe_from_content
+
+__all__ = ["run_study"]
+
+COLUMNS = ["source", "status", "seconds", "worker_peak_mb", "output", "error"]
+_HASH_CHUNK = 8 * 2**20
+_SIDECAR_KEY = "gainshape"
+
+
+def run_study(recipe, inputs, out_dir, client=None, *, overwrite: bool = False,
+              raise_errors: bool = False, verbose=None):
+    """Filter every recording of a study with one recipe, on a Dask cluster.
+
+    Parameters
+    ----------
+    recipe : str | Path | dict
+        A recipe file (:func:`gainshape.write_recipe`) or what
+        :func:`gainshape.read_recipe` returned.
+    inputs : list of str | Path
+        Recording files MNE can read (``mne.io.read_raw``).
+    out_dir : str | Path
+        The output folder: one ``<name>_filtered_raw.fif`` per recording,
+        its ``.json`` sidecar, and ``dataset_description.json``.
+    client : distributed.Client | str | None
+        The cluster: a client, a scheduler address, or None for a local
+        cluster of one single-threaded worker process per core, closed at
+        the end.
+    overwrite : bool
+        Redo recordings whose output is up to date.
+    raise_errors : bool
+        Raise a RuntimeError after the run if any recording failed (the
+        others are done all the same).
+    verbose : bool | None
+        False: no progress bar.
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per input, in order: ``source``, ``status`` ("filtered",
+        "up to date" or "failed"), ``seconds``, ``worker_peak_mb`` (the
+        worker process's peak resident memory so far), ``output`` (Path or
+        None) and ``error``.
+
+    Raises
+    ------
+    ValueError
+        Before any work, for a damaged recipe or two inputs that would
+        write the same output.
+
+    See Also
+    --------
+    write_recipe, apply, bids_filters
+
+    Examples
+    --------
+    >>> table = gs.run_study("filter.json", ["a_raw.fif", "b_raw.fif"], "out")  # doctest: +SKIP
+    >>> table[["source", "status", "seconds"]]  # doctest: +SKIP
+    """
+    import pandas as pd
+
+    content = _recipe_content(recipe)
+    overwrite = check_bool("overwrite", overwrite)
+    raise_errors = check_bool("raise_errors", raise_errors)
+    sources = [Path(p) for p in inputs]
+    out_dir = Path(out_dir)
+    outputs = [out_dir / f"{_base_name(s)}_filtered_raw.fif" for s in sources]
+    _check_distinct(sources, outputs)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    _write_dataset_description(out_dir)
+    with _connected(client) as connection:
+        futures = connection.map(_filter_recording, sources, [content] * len(sources), outputs,
+                                 [overwrite] * len(sources), pure=False)
+        try:
+            rows = _gathered(futures, verbose is not False)
+        except BaseException:  # interrupted: what has not started does not start
+            connection.cancel(futures)
+            raise
+    table = pd.DataFrame(rows, columns=COLUMNS)
+    failed = table[table["status"] == "failed"]
+    if raise_errors and len(failed):
+        raise RuntimeError(f"{len(failed)} of {len(table)} recordings failed: "
+                           + "; ".join(failed["error"]))
+    return table
+
+
+def _recipe_content(recipe) -> dict:
+    """The recipe's JSON content, checked (from a file or read_recipe's dict)."""
+    if isinstance(recipe, dict):
+        return recipe_content(**recipe)
+    return recipe_content(**read_recipe(recipe))
+
+
+def _base_name(source: Path) -> str:
+    """The source's name without extensions and a trailing "_raw" or "_eeg".
+
+    >>> _base_name(Path("sub-01_task-rest_eeg.vhdr")), _base_name(Path("rec_raw.fif.gz"))
+    ('sub-01_task-rest', 'rec')
+    """
+    name = source.name.split(".")[0]
+    for tail in ("_raw", "_eeg"):
+        if name.endswith(tail):
+            return name[: -len(tail)]
+    return name
+
+
+def _check_distinct(sources, outputs) -> None:
+    seen = {}
+    for source, output in zip(sources, outputs):
+        if output in seen and seen[output] != source:
+            raise ValueError(f"The inputs {seen[output]} and {source} would both be written to "
+                             f"{output.name}; give recordings distinct names.")
+        seen[output] = source
+
+
+def _write_dataset_description(out_dir: Path) -> None:
+    """BIDS derivatives' dataset_description.json, written once."""
+    from . import __version__
+
+    path = out_dir / "dataset_description.json"
+    if path.exists():
+        return
+    content = {"Name": "Recordings filtered by gainshape", "BIDSVersion": "1.9.0",
+               "DatasetType": "derivative",
+               "GeneratedBy": [{"Name": "gainshape", "Version": __version__,
+                                "Description": "gain-curve FIR filtering (gainshape.run_study)"}]}
+    with atomic_output(path) as staged:
+        staged.write_text(json.dumps(content, indent=2) + "\n", encoding="utf-8")
+
+
+@contextlib.contextmanager
+def _connected(client):
+    """The client to use: the given one, one for an address, or a local cluster."""
+    import distributed
+
+    if isinstance(client, distributed.Client):
+        yield client
+        return
+    if client is None:
+        cluster = distributed.LocalCluster(n_workers=os.cpu_count() or 1, threads_per_worker=1,
+                                           processes=True, dashboard_address=":0")
+        with cluster, distributed.Client(cluster) as own:
+            yield own
+        return
+    with distributed.Client(client) as own:
+        yield own
+
+
+def _gathered(futures, show: bool) -> list:
+    """Each task's row, in input order, with a bar over recordings as they finish."""
+    import distributed
+    from tqdm.std import tqdm
+
+    index = {future.key: i for i, future in enumerate(futures)}
+    rows = [None] * len(futures)
+    with tqdm(total=len(futures), unit="recording", disable=not show) as bar:
+        for future in distributed.as_completed(futures):
+            rows[index[future.key]] = future.result()
+            bar.update(1)
+    return rows
+
+
+def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool) -> list:
+    """One recording filtered file to file (a Dask task); failures become a row."""
+    import mne
+
+    start = time.perf_counter()
+    status, error, written = "filtered", None, output
+    try:
+        fingerprint = file_fingerprint(source)
+        if not overwrite and _up_to_date(output, content, fingerprint):
+            status = "up to date"
+        else:
+            raw = mne.io.read_raw(source, preload=False, verbose=False)
+            filtered = apply(raw, verbose=False, **recipe_from_content(content, source))
+            record = {"SoftwareFilters": bids_filters(filtered),
+                      _SIDECAR_KEY: {"recipe": content, "source": str(source),
+                                     "source_fingerprint": fingerprint}}
+            filtered.save(output, overwrite=True, verbose=False)  # whole or not at all
+            with atomic_output(output.with_suffix(".json")) as staged:
+                staged.write_text(json.dumps(record, indent=2) + "\n", encoding="utf-8")
+    except Exception as err:  # isolated: the other recordings go on
+        status, error, written = "failed", f"{source.name}: {type(err).__name__}: {err}", None
+    peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+    return [str(source), status, time.perf_counter() - start, peak_mb, written, error]
+
+
+def _up_to_date(output: Path, content: dict, fingerprint: str) -> bool:
+    sidecar = output.with_suffix(".json")
+    if not (output.exists() and sidecar.exists()):
+        return False
+    try:
+        record = json.loads(sidecar.read_text(encoding="utf-8"))[_SIDECAR_KEY]
+    except (ValueError, KeyError, TypeError):
+        return False
+    return record.get("recipe") == content and record.get("source_fingerprint") == fingerprint
+
+
+def file_fingerprint(source: Path) -> str:
+    """XXH3-128 of the recording's file and its companions (same stem, same folder).
+
+    BrainVision and EEGLAB keep the data beside the header, so every file
+    named like the source counts.
+
+    >>> import tempfile
+    >>> folder = Path(tempfile.mkdtemp())
+    >>> _ = (folder / "a.vhdr").write_text("header"); _ = (folder / "a.eeg").write_text("data")
+    >>> before = file_fingerprint(folder / "a.vhdr")
+    >>> _ = (folder / "a.eeg").write_text("other data")
+    >>> file_fingerprint(folder / "a.vhdr") == before
+    False
+    """
+    h = xxhash.xxh3_128()
+    stem = source.name.split(".")[0]
+    for path in sorted(p for p in source.parent.glob(stem + ".*") if p.is_file()) or [source]:
+        h.update(path.name.encode())
+        with open(path, "rb") as stream:
+            while chunk := stream.read(_HASH_CHUNK):
+                h.update(chunk)
+    return "xxh3_128:" + h.hexdigest()
