@@ -1,5 +1,7 @@
 """A whole study: every recording filtered file to file on Dask, resumable."""
 
+import json
+
 import mne
 import numpy as np
 import pytest
@@ -111,3 +113,38 @@ def test_the_embedded_cluster_runs_the_same_study(study):
     assert list(table["status"]) == ["filtered", "filtered"]
     expected = gs.apply(mne.io.read_raw_fif(inputs[1], preload=True), **gs.read_recipe(recipe))
     np.testing.assert_allclose(_filtered(table["output"].iloc[1]), expected.get_data(), atol=1e-12)
+
+
+@pytest.fixture
+def bids_root(tmp_path, make_raw):
+    """Two subjects, two sessions each, written with mne-bids (BrainVision)."""
+    mne_bids = pytest.importorskip("mne_bids")
+    root = tmp_path / "bids"
+    for subject in ("01", "02"):
+        for session in ("a", "b"):
+            raw = make_raw(seconds=20.0, seed=int(subject) * 10 + ord(session)).pick("eeg")
+            raw.info["line_freq"] = 50.0
+            path = mne_bids.BIDSPath(subject=subject, session=session, task="rest",
+                                     datatype="eeg", root=root)
+            mne_bids.write_raw_bids(raw, path, format="BrainVision", allow_preload=True,
+                                    verbose=False)
+    return root
+
+
+def test_a_bids_root_is_filtered_into_derivatives_with_its_entities(bids_root, client, tmp_path):
+    recipe = gs.write_recipe(tmp_path / "f.json", gs.highpass(0.5), picks="eeg")
+    out = tmp_path / "derivatives" / "gainshape"
+    table = gs.run_study(recipe, bids_root, out, client=client, subjects=["02"], verbose=False)
+    assert list(table["subject"]) == ["02", "02"] and list(table["session"]) == ["a", "b"]
+    assert list(table["status"]) == ["filtered", "filtered"]
+    output = table["output"].iloc[1]
+    assert output == out / "sub-02" / "ses-b" / "eeg" / "sub-02_ses-b_task-rest_desc-filtered_eeg.fif"
+    # reference: gs.apply on the recording read by MNE from the BIDS folder
+    source = bids_root / "sub-02" / "ses-b" / "eeg" / "sub-02_ses-b_task-rest_eeg.vhdr"
+    expected = gs.apply(mne.io.read_raw(source, preload=True), **gs.read_recipe(recipe))
+    np.testing.assert_allclose(_filtered(output), expected.get_data(), rtol=0, atol=1e-12)
+    description = json.loads((out / "dataset_description.json").read_text())
+    assert description["DatasetType"] == "derivative"
+    assert description["GeneratedBy"][0]["Name"] == "gainshape"
+    sidecar = json.loads(output.with_suffix(".json").read_text())
+    assert sidecar["SoftwareFilters"] == gs.bids_filters(mne.io.read_raw_fif(output))

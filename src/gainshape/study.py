@@ -29,13 +29,16 @@ from .recipes import read_recipe, recipe_content, recipe_from_content
 
 __all__ = ["run_study"]
 
-COLUMNS = ["source", "status", "seconds", "worker_peak_mb", "output", "error"]
+COLUMNS = ["source", "subject", "session", "task", "status", "seconds", "worker_peak_mb",
+           "output", "error"]
+_ENTITIES = ("subject", "session", "task")
+_READABLE = [".vhdr", ".edf", ".bdf", ".set", ".fif", ".cnt", ".mff"]
 _HASH_CHUNK = 8 * 2**20
 _SIDECAR_KEY = "gainshape"
 
 
-def run_study(recipe, inputs, out_dir, client=None, *, overwrite: bool = False,
-              raise_errors: bool = False, verbose=None):
+def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=None, tasks=None,
+              overwrite: bool = False, raise_errors: bool = False, verbose=None):
     """Filter every recording of a study with one recipe, on a Dask cluster.
 
     Parameters
@@ -43,15 +46,21 @@ def run_study(recipe, inputs, out_dir, client=None, *, overwrite: bool = False,
     recipe : str | Path | dict
         A recipe file (:func:`gainshape.write_recipe`) or what
         :func:`gainshape.read_recipe` returned.
-    inputs : list of str | Path
-        Recording files MNE can read (``mne.io.read_raw``).
+    inputs : str | Path | list of str | Path
+        A BIDS root (every EEG recording in it, found with mne-bids), or
+        recording files MNE can read (``mne.io.read_raw``).
     out_dir : str | Path
-        The output folder: one ``<name>_filtered_raw.fif`` per recording,
-        its ``.json`` sidecar, and ``dataset_description.json``.
+        The output folder, a BIDS derivatives folder: for a BIDS root, each
+        recording at its own place (``sub-*/[ses-*/]eeg/*_desc-filtered_eeg.fif``),
+        otherwise ``<name>_filtered_raw.fif``; each with a ``.json`` sidecar
+        (``SoftwareFilters``, the recipe, the source's fingerprint), and
+        ``dataset_description.json``.
     client : distributed.Client | str | None
         The cluster: a client, a scheduler address, or None for a local
         cluster of one single-threaded worker process per core, closed at
         the end.
+    subjects, sessions, tasks : list of str | None
+        For a BIDS root: only these (None: all).
     overwrite : bool
         Redo recordings whose output is up to date.
     raise_errors : bool
@@ -63,7 +72,8 @@ def run_study(recipe, inputs, out_dir, client=None, *, overwrite: bool = False,
     Returns
     -------
     pandas.DataFrame
-        One row per input, in order: ``source``, ``status`` ("filtered",
+        One row per recording, in order: ``source``, ``subject``,
+        ``session``, ``task`` (BIDS entities, None otherwise), ``status`` ("filtered",
         "up to date" or "failed"), ``seconds``, ``worker_peak_mb`` (the
         worker process's peak resident memory so far), ``output`` (Path or
         None) and ``error``.
@@ -88,9 +98,10 @@ def run_study(recipe, inputs, out_dir, client=None, *, overwrite: bool = False,
     content = _recipe_content(recipe)
     overwrite = check_bool("overwrite", overwrite)
     raise_errors = check_bool("raise_errors", raise_errors)
-    sources = [Path(p) for p in inputs]
     out_dir = Path(out_dir)
-    outputs = [out_dir / f"{_base_name(s)}_filtered_raw.fif" for s in sources]
+    found = _recordings(inputs, {"subjects": subjects, "sessions": sessions, "tasks": tasks})
+    sources = [source for source, _, _ in found]
+    outputs = [out_dir / relative for _, relative, _ in found]
     _check_distinct(sources, outputs)
     out_dir.mkdir(parents=True, exist_ok=True)
     _write_dataset_description(out_dir)
@@ -102,7 +113,8 @@ def run_study(recipe, inputs, out_dir, client=None, *, overwrite: bool = False,
         except BaseException:  # interrupted: what has not started does not start
             connection.cancel(futures)
             raise
-    table = pd.DataFrame(rows, columns=COLUMNS)
+    table = pd.DataFrame([[row[0], *entities, *row[1:]] for row, (_, _, entities)
+                          in zip(rows, found)], columns=COLUMNS)
     failed = table[table["status"] == "failed"]
     if raise_errors and len(failed):
         raise RuntimeError(f"{len(failed)} of {len(table)} recordings failed: "
@@ -115,6 +127,40 @@ def _recipe_content(recipe) -> dict:
     if isinstance(recipe, dict):
         return recipe_content(**recipe)
     return recipe_content(**read_recipe(recipe))
+
+
+def _recordings(inputs, selection) -> list:
+    """(source, output path relative to the output folder, (subject, session, task)) per recording."""
+    if isinstance(inputs, (str, Path)) and Path(inputs).is_dir():
+        return _bids_recordings(Path(inputs), selection)
+    if isinstance(inputs, (str, Path)):
+        raise ValueError(f"The 'inputs' parameter is a BIDS root folder or a list of recording "
+                         f"files; {inputs!s} is neither (no such folder).")
+    if any(value is not None for value in selection.values()):
+        raise ValueError("'subjects', 'sessions' and 'tasks' select recordings of a BIDS root; "
+                         "the inputs are a list of files.")
+    return [(Path(p), Path(f"{_base_name(Path(p))}_filtered_raw.fif"), (None, None, None))
+            for p in inputs]
+
+
+def _bids_recordings(root: Path, selection) -> list:
+    """Every EEG recording of a BIDS dataset (the selected ones), with its derivative's place."""
+    import mne_bids
+
+    if not (root / "dataset_description.json").exists():
+        raise ValueError(f"The 'inputs' folder {root} is not a BIDS root (no "
+                         "dataset_description.json); pass the dataset's top folder or a list of files.")
+    paths = mne_bids.find_matching_paths(root, datatypes="eeg", suffixes="eeg",
+                                         extensions=_READABLE, **selection)
+    if not paths:
+        raise ValueError(f"No EEG recording in {root} matches the selection {selection}.")
+    found = []
+    for path in sorted(paths, key=lambda p: str(p.fpath)):
+        folder = path.fpath.parent.relative_to(root)
+        derived = path.copy().update(description="filtered", extension=".fif", check=False)
+        found.append((path.fpath, folder / derived.basename,
+                      (path.subject, path.session, path.task)))
+    return found
 
 
 def _base_name(source: Path) -> str:
@@ -202,6 +248,7 @@ def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool
             record = {"SoftwareFilters": bids_filters(filtered),
                       _SIDECAR_KEY: {"recipe": content, "source": str(source),
                                      "source_fingerprint": fingerprint}}
+            output.parent.mkdir(parents=True, exist_ok=True)
             filtered.save(output, overwrite=True, verbose=False)  # whole or not at all
             with atomic_output(output.with_suffix(".json")) as staged:
                 staged.write_text(json.dumps(record, indent=2) + "\n", encoding="utf-8")
