@@ -96,7 +96,8 @@ def test_a_recording_that_fails_midway_leaves_nothing_and_a_rerun_completes_it(s
     assert list(table["status"]) == ["filtered", "failed", "filtered"]
     assert "worker lost" in table["error"].iloc[1]
     names = sorted(p.name for p in out.iterdir())
-    assert names == ["dataset_description.json", "rec0_filtered_raw.fif", "rec0_filtered_raw.json",
+    assert names == ["band_change.nc", "dataset_description.json", "methods.txt",
+                     "rec0_filtered_raw.fif", "rec0_filtered_raw.json",
                      "rec2_filtered_raw.fif", "rec2_filtered_raw.json"]  # no partial, no staging
     monkeypatch.undo()
     table = gs.run_study(recipe, inputs[:3], out, client=client, verbose=False)
@@ -148,3 +149,27 @@ def test_a_bids_root_is_filtered_into_derivatives_with_its_entities(bids_root, c
     assert description["GeneratedBy"][0]["Name"] == "gainshape"
     sidecar = json.loads(output.with_suffix(".json").read_text())
     assert sidecar["SoftwareFilters"] == gs.bids_filters(mne.io.read_raw_fif(output))
+
+
+def test_the_study_summary_gathers_band_change_and_states_the_filter_once(study, client):
+    recipe, inputs, out = study
+    table = gs.run_study(recipe, inputs, out, client=client, verbose=False)
+    summary = table.attrs["band_change"]
+    assert summary.change_db.dims == ("recording", "channel", "band")
+    assert list(summary.recording.values) == [str(p) for p in inputs[:3]]  # the failed one is left out
+    # reference: gs.band_change on each recording and its output, read whole
+    for source, output in zip(inputs[:3], table["output"].iloc[:3]):
+        whole = gs.band_change(mne.io.read_raw_fif(source, preload=True),
+                               mne.io.read_raw_fif(output, preload=True))
+        np.testing.assert_allclose(summary.change_db.sel(recording=str(source)).sel(
+            channel=whole.channel).values, whole.change_db.values, rtol=1e-10)
+    import xarray as xr
+
+    with xr.open_dataset(out / "band_change.nc") as on_disk:
+        np.testing.assert_allclose(on_disk.change_db.values, summary.change_db.values)
+    methods = table.attrs["methods"]
+    # stated once per realized filter: the recordings at 250 Hz share one, the 500 Hz one has its own
+    assert methods.count("Data were filtered with gainshape") == 2
+    assert "applied to 3 of the 4 recordings" in methods and "broken_raw.fif" in methods
+    assert "2 recordings (rec0_raw.fif, rec1_raw.fif)" in methods
+    assert (out / "methods.txt").read_text() == methods + "\n"

@@ -24,8 +24,9 @@ import xxhash
 from ._checks import check_bool
 from ._files import atomic_output
 from .adapters import apply
-from .provenance import bids_filters
+from .provenance import bids_filters, methods_text
 from .recipes import read_recipe, recipe_content, recipe_from_content
+from .summaries import band_change
 
 __all__ = ["run_study"]
 
@@ -34,6 +35,7 @@ COLUMNS = ["source", "subject", "session", "task", "status", "seconds", "worker_
 _ENTITIES = ("subject", "session", "task")
 _READABLE = [".vhdr", ".edf", ".bdf", ".set", ".fif", ".cnt", ".mff"]
 _HASH_CHUNK = 8 * 2**20
+_CHANNELS_AT_ONCE = 8  # band change reads this many channels of a recording at a time
 _SIDECAR_KEY = "gainshape"
 
 
@@ -76,7 +78,13 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
         ``session``, ``task`` (BIDS entities, None otherwise), ``status`` ("filtered",
         "up to date" or "failed"), ``seconds``, ``worker_peak_mb`` (the
         worker process's peak resident memory so far), ``output`` (Path or
-        None) and ``error``.
+        None) and ``error``. ``table.attrs["band_change"]`` holds
+        :func:`gainshape.band_change` of every filtered recording (dims
+        recording x channel x band, with subject, session and task
+        coordinates; also written as ``band_change.nc``), and
+        ``table.attrs["methods"]`` a methods paragraph for the study (also
+        ``methods.txt``): each realized filter stated once with the
+        recordings it served, and the recordings that failed.
 
     Raises
     ------
@@ -109,12 +117,14 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
         futures = connection.map(_filter_recording, sources, [content] * len(sources), outputs,
                                  [overwrite] * len(sources), pure=False)
         try:
-            rows = _gathered(futures, verbose is not False)
+            results = _gathered(futures, verbose is not False)
         except BaseException:  # interrupted: what has not started does not start
             connection.cancel(futures)
             raise
-    table = pd.DataFrame([[row[0], *entities, *row[1:]] for row, (_, _, entities)
-                          in zip(rows, found)], columns=COLUMNS)
+    table = pd.DataFrame([[row[0], *entities, *row[1:]] for (row, _), (_, _, entities)
+                          in zip(results, found)], columns=COLUMNS)
+    table.attrs["band_change"] = _study_band_change(results, found, out_dir)
+    table.attrs["methods"] = _study_methods(table, out_dir)
     failed = table[table["status"] == "failed"]
     if raise_errors and len(failed):
         raise RuntimeError(f"{len(failed)} of {len(table)} recordings failed: "
@@ -227,17 +237,18 @@ def _gathered(futures, show: bool) -> list:
     rows = [None] * len(futures)
     with tqdm(total=len(futures), unit="recording", disable=not show) as bar:
         for future in distributed.as_completed(futures):
-            rows[index[future.key]] = future.result()
+            rows[index[future.key]] = future.result()  # (row, band change)
             bar.update(1)
     return rows
 
 
-def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool) -> list:
-    """One recording filtered file to file (a Dask task); failures become a row."""
+def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool) -> tuple:
+    """One recording filtered file to file (a Dask task): its table row and
+    its band change (None if it failed); failures become a row."""
     import mne
 
     start = time.perf_counter()
-    status, error, written = "filtered", None, output
+    status, error, written, change = "filtered", None, output, None
     try:
         fingerprint = file_fingerprint(source)
         if not overwrite and _up_to_date(output, content, fingerprint):
@@ -252,10 +263,64 @@ def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool
             filtered.save(output, overwrite=True, verbose=False)  # whole or not at all
             with atomic_output(output.with_suffix(".json")) as staged:
                 staged.write_text(json.dumps(record, indent=2) + "\n", encoding="utf-8")
+        change = _band_change_by_groups(source, output)
     except Exception as err:  # isolated: the other recordings go on
         status, error, written = "failed", f"{source.name}: {type(err).__name__}: {err}", None
     peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
-    return [str(source), status, time.perf_counter() - start, peak_mb, written, error]
+    return [str(source), status, time.perf_counter() - start, peak_mb, written, error], change
+
+
+def _band_change_by_groups(source: Path, output: Path):
+    """:func:`band_change` of a recording and its output, read a few channels at a
+    time (memory bounded by the group, not the recording)."""
+    import mne
+    import xarray as xr
+
+    before = mne.io.read_raw(source, preload=False, verbose=False)
+    after = mne.io.read_raw_fif(output, preload=False, verbose=False)
+    names = [after.ch_names[i] for i in mne.pick_types(after.info, meg=True, eeg=True, seeg=True,
+                                                          ecog=True, dbs=True, fnirs=True)]
+    groups = [names[i : i + _CHANNELS_AT_ONCE] for i in range(0, len(names), _CHANNELS_AT_ONCE)]
+    parts = [band_change(before.copy().pick(group), after.copy().pick(group)) for group in groups]
+    return xr.concat(parts, dim="channel", combine_attrs="drop_conflicts")
+
+
+def _study_band_change(results, found, out_dir: Path):
+    """Every filtered recording's band change along "recording", written as netCDF."""
+    import xarray as xr
+
+    parts = [change.expand_dims(recording=[source_name]).assign_coords(
+                 subject=("recording", [entities[0] or ""]), session=("recording", [entities[1] or ""]),
+                 task=("recording", [entities[2] or ""]))
+             for (row, change), (_, _, entities), source_name
+             in zip(results, found, [r[0] for r, _ in results]) if change is not None]
+    if not parts:
+        return None
+    summary = xr.concat(parts, dim="recording", join="outer", combine_attrs="drop_conflicts")
+    with atomic_output(out_dir / "band_change.nc") as staged:
+        summary.to_netcdf(staged)
+    return summary
+
+
+def _study_methods(table, out_dir: Path) -> str:
+    """The study's methods paragraph: each realized filter once, with the recordings it served."""
+    import mne
+
+    done = table[table["status"] != "failed"]
+    by_text = {}
+    for source, output in zip(done["source"], done["output"]):
+        text = methods_text(mne.io.read_raw_fif(output, preload=False, verbose=False))
+        by_text.setdefault(text, []).append(Path(source).name)
+    failed = [Path(s).name for s in table.loc[table["status"] == "failed", "source"]]
+    parts = [f"One filter recipe was applied to {len(done)} of the {len(table)} recordings"
+             + (f"; {len(failed)} could not be filtered ({', '.join(failed)})." if failed else ".")]
+    for text, names in by_text.items():
+        parts.append(f"For {len(names)} recording{'s' if len(names) > 1 else ''} "
+                     f"({', '.join(names)}): {text}")
+    paragraph = " ".join(parts)
+    with atomic_output(out_dir / "methods.txt") as staged:
+        staged.write_text(paragraph + "\n", encoding="utf-8")
+    return paragraph
 
 
 def _up_to_date(output: Path, content: dict, fingerprint: str) -> bool:
