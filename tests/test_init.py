@@ -30,8 +30,8 @@ def test_warning_class_is_userwarning():
 # only modules before it. Deferred imports inside functions are the documented
 # exceptions (design -> viz for FilterDesign.plot, adapters -> outofcore).
 LAYERS = ["_compat", "_checks", "_files", "curves", "realize", "measure", "design", "engine", "recipes", "provenance", "adapters", "outofcore",
-          "summaries", "audit", "viz", "study", "simulate", "demo"]
-MNE_AWARE = {"_compat", "adapters", "outofcore", "provenance", "study", "simulate", "demo"}  # provenance: version, mne-bids
+          "summaries", "audit", "viz", "study", "cli", "simulate", "demo"]
+MNE_AWARE = {"_compat", "adapters", "outofcore", "provenance", "study", "cli", "simulate", "demo"}  # provenance: version, mne-bids
 
 
 def test_architecture_page_lists_the_layers_in_order_and_the_mne_aware_modules():

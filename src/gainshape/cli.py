@@ -1,0 +1,145 @@
+"""The ``gainshape`` command: a study from a shell or a scheduler script.
+
+    gainshape run RECIPE.json INPUT... --out DIR [--scheduler ADDRESS] [--workers N]
+    gainshape describe RECIPE.json --sfreq 500
+    gainshape history FILE
+
+Exit codes: 0 done; 1 some recordings failed (the others are done, the
+table says which); 2 bad usage or input (nothing was done).
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+__all__ = ["main"]
+
+EXIT_DONE, EXIT_SOME_FAILED, EXIT_USAGE = 0, 1, 2
+
+
+def main(argv=None) -> int:
+    """Run the command line; returns the exit code.
+
+    Examples
+    --------
+    >>> main(["describe", "missing.json", "--sfreq", "250"])  # doctest: +SKIP
+    2
+    """
+    args = _parser().parse_args(argv)
+    try:
+        return args.command(args)
+    except (ValueError, FileNotFoundError, TypeError) as err:
+        print(f"gainshape {args.name}: {err}", file=sys.stderr)
+        return EXIT_USAGE
+
+
+def _parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="gainshape", description="Filter EEG recordings with gain-curve recipes.",
+        epilog="Exit codes: 0 done; 1 some recordings failed (the others are done); "
+               "2 bad usage or input (nothing was done).")
+    commands = parser.add_subparsers(required=True, metavar="COMMAND")
+    run = commands.add_parser("run", help="filter recordings (a BIDS root or files) with a recipe",
+                              description="Filter every recording with a recipe, one Dask task "
+                                          "each; outputs, sidecars, band_change.nc and methods.txt "
+                                          "go to --out.")
+    run.add_argument("recipe", help="a recipe file (gainshape.write_recipe)")
+    run.add_argument("inputs", nargs="+", help="a BIDS root folder, or recording files")
+    run.add_argument("--out", required=True, help="output folder (a BIDS derivatives folder)")
+    run.add_argument("--scheduler", help="address of a running Dask scheduler to use")
+    run.add_argument("--workers", type=int, help="worker processes of the local cluster "
+                                                 "(default: one per core)")
+    for entity in ("subject", "session", "task"):
+        run.add_argument(f"--{entity}", action="append", help=f"only this {entity} of a BIDS "
+                                                             "root (repeatable)")
+    run.add_argument("--overwrite", action="store_true", help="redo recordings that are up to date")
+    run.add_argument("--quiet", action="store_true", help="no progress bar")
+    run.set_defaults(command=_run, name="run")
+    describe = commands.add_parser("describe", help="print the filter a recipe realizes at a rate")
+    describe.add_argument("recipe", help="a recipe file")
+    describe.add_argument("--sfreq", type=float, required=True, help="sampling rate in Hz")
+    describe.set_defaults(command=_describe, name="describe")
+    history = commands.add_parser("history", help="print a file's filter steps and methods paragraph")
+    history.add_argument("file", help="a FIF file written by gainshape")
+    history.set_defaults(command=_history, name="history")
+    return parser
+
+
+def _run(args) -> int:
+    from .recipes import read_recipe
+    from .study import run_study
+
+    recipe = read_recipe(args.recipe)  # a damaged recipe stops here, before a cluster starts
+    inputs = args.inputs[0] if len(args.inputs) == 1 and _is_folder(args.inputs[0]) else args.inputs
+    selection = {"subjects": args.subject, "sessions": args.session, "tasks": args.task}
+    with _client(args) as client:
+        table = run_study(recipe, inputs, args.out, client, overwrite=args.overwrite,
+                          verbose=not args.quiet, **selection)
+    print(table[["source", "status", "seconds", "error"]].to_string(index=False))
+    return EXIT_SOME_FAILED if (table["status"] == "failed").any() else EXIT_DONE
+
+
+def _client(args):
+    """A client for --scheduler or --workers; otherwise run_study's own local cluster."""
+    import contextlib
+
+    if args.scheduler:
+        import distributed
+
+        return distributed.Client(args.scheduler)
+    if args.workers:
+        import distributed
+
+        cluster = distributed.LocalCluster(n_workers=args.workers, threads_per_worker=1,
+                                           processes=True, dashboard_address=":0")
+        return distributed.Client(cluster)
+    return contextlib.nullcontext(None)
+
+
+def _is_folder(path: str) -> bool:
+    from pathlib import Path
+
+    return Path(path).is_dir()
+
+
+def _describe(args) -> int:
+    from .design import design
+    from .recipes import read_recipe
+
+    recipe = read_recipe(args.recipe)
+    realized = design(recipe["filt"], args.sfreq, causal=recipe["causal"], kernel=recipe["kernel"],
+                      tolerance=recipe["tolerance"])
+    print(realized.curve.describe())
+    for label, value in realized.summary():
+        print(f"{label}: {value}")
+    return EXIT_DONE
+
+
+def _history(args) -> int:
+    import mne
+
+    from .provenance import history, methods_text
+
+    raw = mne.io.read_raw_fif(args.file, preload=False, verbose=False)
+    steps = history(raw)
+    print(f"{len(steps)} step{'s' if len(steps) != 1 else ''} recorded in {args.file}")
+    for number, step in enumerate(steps, start=1):
+        print(f"{number}. {step.get('time', '?')}: {step['realized'].get('kind', '?')} filter, "
+              f"{_curve_words(step['curve'])}, designed at {step['design'].get('sfreq', '?')} Hz")
+    print()
+    print(methods_text(raw))
+    return EXIT_DONE
+
+
+def _curve_words(record: dict) -> str:
+    """A recorded curve in words (its recipe rebuilt, or the description kept for a callable)."""
+    from .curves import GainCurve
+
+    if "description" in record:
+        return record["description"]
+    return GainCurve.from_dict(record).describe()
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
