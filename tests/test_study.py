@@ -96,9 +96,9 @@ def test_a_recording_that_fails_midway_leaves_nothing_and_a_rerun_completes_it(s
     assert list(table["status"]) == ["filtered", "failed", "filtered"]
     assert "worker lost" in table["error"].iloc[1]
     names = sorted(p.name for p in out.iterdir())
-    assert names == ["band_change.nc", "dataset_description.json", "methods.txt",
-                     "rec0_filtered_raw.fif", "rec0_filtered_raw.json",
-                     "rec2_filtered_raw.fif", "rec2_filtered_raw.json"]  # no partial, no staging
+    assert names == sorted(["band_change.nc", "dataset_description.json", "methods.txt",
+                            "report.html", "rec0_filtered_raw.fif", "rec0_filtered_raw.json",
+                            "rec2_filtered_raw.fif", "rec2_filtered_raw.json"])  # no partial, no staging
     monkeypatch.undo()
     table = gs.run_study(recipe, inputs[:3], out, client=client, verbose=False)
     assert list(table["status"]) == ["up to date", "filtered", "up to date"]
@@ -173,3 +173,6 @@ def test_the_study_summary_gathers_band_change_and_states_the_filter_once(study,
     assert "applied to 3 of the 4 recordings" in methods and "broken_raw.fif" in methods
     assert "2 recordings (rec0_raw.fif, rec1_raw.fif)" in methods
     assert (out / "methods.txt").read_text() == methods + "\n"
+    report = (out / "report.html").read_text()
+    assert "The realized filter" in report and "broken_raw.fif" in report
+    assert "One filter recipe was applied to 3 of the 4 recordings" in report

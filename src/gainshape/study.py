@@ -84,7 +84,9 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
         coordinates; also written as ``band_change.nc``), and
         ``table.attrs["methods"]`` a methods paragraph for the study (also
         ``methods.txt``): each realized filter stated once with the
-        recordings it served, and the recordings that failed.
+        recordings it served, and the recordings that failed. ``report.html``
+        (an ``mne.Report``) shows the realized filter, the band change by
+        recording, the methods paragraph and the table.
 
     Raises
     ------
@@ -125,6 +127,7 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
                           in zip(results, found)], columns=COLUMNS)
     table.attrs["band_change"] = _study_band_change(results, found, out_dir)
     table.attrs["methods"] = _study_methods(table, out_dir)
+    _write_report(table, content, out_dir)
     failed = table[table["status"] == "failed"]
     if raise_errors and len(failed):
         raise RuntimeError(f"{len(failed)} of {len(table)} recordings failed: "
@@ -356,3 +359,41 @@ def file_fingerprint(source: Path) -> str:
             while chunk := stream.read(_HASH_CHUNK):
                 h.update(chunk)
     return "xxh3_128:" + h.hexdigest()
+
+
+def _write_report(table, content: dict, out_dir: Path) -> None:
+    """The study's ``report.html`` (mne.Report), written whole or not at all."""
+    import html
+
+    import matplotlib.pyplot as plt
+    import mne
+
+    from .design import design
+    from .viz import plot_study_band_change
+
+    report = mne.Report(title="gainshape study", verbose=False)
+    done = table[table["status"] != "failed"]
+    if len(done):
+        sfreq = mne.io.read_raw_fif(done["output"].iloc[0], preload=False, verbose=False).info["sfreq"]
+        recipe = recipe_from_content(content)
+        realized = design(recipe["filt"], sfreq, causal=recipe["causal"], kernel=recipe["kernel"],
+                          tolerance=recipe["tolerance"])
+        figure = realized.plot(show=False)
+        report.add_figure(figure, title="The realized filter",
+                          caption=f"{realized.describe()} (the recordings at {sfreq:g} Hz)")
+        plt.close(figure)
+    if table.attrs.get("band_change") is not None:
+        figure = plot_study_band_change(table.attrs["band_change"], show=False)
+        report.add_figure(figure, title="What changed, by recording and band",
+                          caption="Median over channels of the power change (dB).")
+        plt.close(figure)
+    report.add_html(f"<p>{html.escape(table.attrs['methods'])}</p>", title="Methods")
+    shown = table.assign(source=[Path(s).name for s in table["source"]],
+                         output=[Path(o).name if o is not None else "" for o in table["output"]])
+    shown = shown.drop(columns=[e for e in _ENTITIES if shown[e].isna().all()])
+    report.add_html(shown.to_html(index=False, na_rep="", float_format="{:.3g}".format,
+                                  classes="table table-sm table-striped", border=0),
+                    title="Recordings")
+    with atomic_output(out_dir / "report.html") as staged:
+        report.save(staged, open_browser=False, overwrite=True, verbose=False)
+

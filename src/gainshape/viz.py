@@ -278,12 +278,36 @@ def plot_band_change(ds, *, show=True):
     >>> fig.axes[0].get_xlabel()
     'band'
     """
-    import matplotlib.pyplot as plt
-
     _check_result(ds, "ds", ("change_db", "band_resolved"), "gs.band_change(before, after)")
     from .summaries import band_change_map
 
-    change = band_change_map(ds)
+    return _change_map(ds, band_change_map(ds), [str(c) for c in ds.channel.values], "channel", show)
+
+
+def plot_study_band_change(summary, *, show=True):
+    """Recording x band map of the median (over channels) power change, and a per-band summary.
+
+    ``summary`` is the study's band change (``table.attrs["band_change"]``
+    of :func:`gainshape.run_study`).
+
+    Examples
+    --------
+    >>> import numpy as np, xarray as xr, gainshape as gs
+    >>> x = np.random.default_rng(0).standard_normal((2, 25000))
+    >>> ds = gs.band_change(x, gs.apply(x, gs.lowpass(20.0), sfreq=250.0), sfreq=250.0)
+    >>> summary = xr.concat([ds, ds], dim=xr.DataArray(["a.fif", "b.fif"], dims="recording"))
+    >>> plot_study_band_change(summary, show=False).axes[0].get_ylabel()
+    'recording'
+    """
+    change = summary.change_db.median("channel").transpose("recording", "band").values
+    names = [str(r).replace("\\", "/").rsplit("/", 1)[-1] for r in summary.recording.values]
+    return _change_map(summary, change, names, "recording", show)
+
+
+def _change_map(ds, change, rows, row_name, show):
+    """A (row, band) map of power change in dB and, beside it, each band's median and range."""
+    import matplotlib.pyplot as plt
+
     lim = min(max(float(np.nanmax(np.abs(change))), 0.1), _MAP_LIMIT_DB)
     n_ch, n_band = change.shape
     fig, (ax_map, ax_sum) = plt.subplots(
@@ -292,17 +316,16 @@ def plot_band_change(ds, *, show=True):
     image = ax_map.imshow(change, cmap="RdBu_r", vmin=-lim, vmax=lim, aspect="auto",
                           interpolation="nearest")
     ax_map.set_xticks(range(n_band), [str(b) for b in ds.band.values], rotation=45)
-    ax_map.set_yticks(range(n_ch), [str(c) for c in ds.channel.values],
-                      fontsize="small" if n_ch > 20 else "medium")
+    ax_map.set_yticks(range(n_ch), rows, fontsize="small" if n_ch > 20 else "medium")
     ax_map.set_xlabel("band")
-    ax_map.set_ylabel("channel")
+    ax_map.set_ylabel(row_name)
     fig.colorbar(image, ax=ax_map, label="power change (dB)",
                  extend="both" if np.nanmax(np.abs(change)) > lim else "neither")
 
     median, low, high = (_over_channels(change, fn) for fn in (np.nanmedian, np.nanmin, np.nanmax))
     y = np.arange(n_band)
     ax_sum.barh(y, median, color=["C3" if m > 0 else "C0" for m in median], alpha=0.8,
-                label="median over channels")
+                label=f"median over {row_name}s")
     ax_sum.hlines(y, low, high, color="0.2", linewidth=1.5, label="range")
     ax_sum.axvline(0.0, color="0.5", linewidth=0.8)
     ax_sum.set_yticks(y, [f"{b} ({lo:g}-{hi:g} Hz){'' if ok else ', not resolved'}"
