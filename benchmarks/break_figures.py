@@ -14,7 +14,8 @@ import sys
 breaks = [
  ("group_delay x2", "src/gainshape/measure.py", "group_delay=_group_delay(response),", "group_delay=2 * _group_delay(response),"),
  ("stop-band attenuation 10 log10", "src/gainshape/measure.py", "return tuple(StopBand(a, b, -20 * float(np.log10(max(", "return tuple(StopBand(a, b, -10 * float(np.log10(max("),
- ("stop-band floor: grid only", "src/gainshape/measure.py", "    return _refined_max(freqs, np.where(where, realized, 0.0), response, allowed)", "    return float(np.where(where, realized, 0.0).max())"),
+ ("stop-band floor: grid only", "src/gainshape/measure.py", "    top = _refined_max(freqs, np.where(where, realized, 0.0), response, allowed)", "    top = float(np.where(where, realized, 0.0).max())"),
+ ("stop-band floor ends left out", "src/gainshape/measure.py", "            top = max(top, float(response(np.array([end]))[0]))", "            pass"),
  ("max deviation: grid only", "src/gainshape/measure.py", "    best = max(best, float(fine_values.max()))", "    return best"),
  ("opposite excursion x2", "src/gainshape/measure.py", "return EdgeTiming(name, cutoff, settling, float(max(0.0, -step.min()) * 100), None, None)", "return EdgeTiming(name, cutoff, settling, float(max(0.0, -step.min()) * 200), None, None)"),
  ("passband ripple x2", "src/gainshape/measure.py", "ripple = float(np.max(np.abs(ratio_db)))", "ripple = 2 * float(np.max(np.abs(ratio_db)))"),

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import argparse
 import sys
+from pathlib import Path
 
 __all__ = ["main"]
 
@@ -71,7 +72,7 @@ def _run(args) -> int:
     from .study import run_study
 
     recipe = read_recipe(args.recipe)  # a damaged recipe stops here, before a cluster starts
-    inputs = args.inputs[0] if len(args.inputs) == 1 and _is_folder(args.inputs[0]) else args.inputs
+    inputs = args.inputs[0] if len(args.inputs) == 1 and Path(args.inputs[0]).is_dir() else args.inputs
     selection = {"subjects": args.subject, "sessions": args.session, "tasks": args.task}
     with _client(args) as client:
         table = run_study(recipe, inputs, args.out, client, overwrite=args.overwrite,
@@ -97,19 +98,10 @@ def _client(args):
     return contextlib.nullcontext(None)
 
 
-def _is_folder(path: str) -> bool:
-    from pathlib import Path
-
-    return Path(path).is_dir()
-
-
 def _describe(args) -> int:
-    from .design import design
-    from .recipes import read_recipe
+    from .recipes import read_recipe, recipe_design
 
-    recipe = read_recipe(args.recipe)
-    realized = design(recipe["filt"], args.sfreq, causal=recipe["causal"], kernel=recipe["kernel"],
-                      tolerance=recipe["tolerance"])
+    realized = recipe_design(read_recipe(args.recipe), args.sfreq)
     print(realized.curve.describe())
     for label, value in realized.summary():
         print(f"{label}: {value}")

@@ -452,7 +452,7 @@ def design(
     else:
         taps, offset = realizer.of_length(n_taps)
     response = KernelResponse(taps, offset, sfreq, causal)
-    deviation = max_deviation(curve, response)
+    deviation = None if exact else max_deviation(curve, response)
     for attempt in range(3):
         if fixed or exact or deviation <= tolerance or taps.size >= realizer.n // 2:
             break
@@ -462,7 +462,7 @@ def design(
         taps, offset = realizer.of_length(longer)
         response = KernelResponse(taps, offset, sfreq, causal)
         deviation = max_deviation(curve, response)
-    chars = characterize(curve, response, tolerance, exact)
+    chars = characterize(curve, response, tolerance, exact, deviation)
     taps.setflags(write=False)
     if not fixed and chars.max_deviation > tolerance:
         warn(

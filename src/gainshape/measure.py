@@ -200,11 +200,13 @@ class Characteristics:
 
 
 # -- characterization -----------------------------------------------------------
-def characterize(curve, response, tol, exact) -> Characteristics:
+def characterize(curve, response, tol, exact, grid_deviation=None) -> Characteristics:
     """Characteristics of the kernel whose :class:`~gainshape.realize.KernelResponse`
     is ``response``: read on its grid (at least 4 points per kernel sample,
-    32 per grid step below the 64th), with crossings, slopes and the largest
-    deviations refined on the interpolated response. With ``exact`` the
+    32 per grid step below the 64th), with crossings and slopes refined on the
+    interpolated response. ``grid_deviation`` is :func:`max_deviation` of
+    ``response``, which :func:`~gainshape.design.design` has already measured
+    (the lowest grid steps' extra points are added here). With ``exact`` the
     request itself is what runs."""
     sfreq = response.sfreq
     grid = response.freqs
@@ -232,10 +234,13 @@ def characterize(curve, response, tol, exact) -> Characteristics:
     nulls = _hidden_notches(freqs, realized, half_amp, tol)
     stops = _stop_bands(freqs, realized, requested_all, half_amp, nulls, tol, curve, gain_fn)
     atten = min((b.attenuation_db for b in stops), default=float("nan"))
-    timing = _edge_timing(curve, response, exact, half_amp,
+    timing = _edge_timing(response, signed, gain_at, exact, half_amp,
                           [(b.low, b.high) for b in stops if b.kind not in _SKIRTS])
-    deviation = (float(np.max(np.abs(realized - requested_all))) if exact
-                 else max_deviation(curve, response, freqs, signed_all, requested_all))
+    if exact:
+        deviation = float(np.max(np.abs(realized - requested_all)))
+    else:
+        in_low = slice(1, 1 + low.size)
+        deviation = max(grid_deviation, float(np.max(np.abs(signed_all[in_low] - requested_all[in_low]))))
     return Characteristics(
         kind=_kind(half_amp, realized[0], realized[-1], len(nulls[0])),
         half_amplitude=half_amp,
@@ -251,11 +256,10 @@ def characterize(curve, response, tol, exact) -> Characteristics:
     )
 
 
-def max_deviation(curve, response, freqs=None, signed=None, requested=None) -> float:
+def max_deviation(curve, response) -> float:
     """Largest |realized - requested| gain of the kernel behind ``response``.
 
-    The grid's peaks are refined (see :func:`_refined_max`); ``freqs``,
-    ``signed`` and ``requested`` default to the response's own grid.
+    The grid's peaks are refined (see :func:`_refined_max`).
 
     Examples
     --------
@@ -265,10 +269,8 @@ def max_deviation(curve, response, freqs=None, signed=None, requested=None) -> f
     >>> round(max_deviation(lowpass(25.0, rolloff=6.0), KernelResponse(k, 1, 100.0, False)), 4)
     0.2853
     """
-    if freqs is None:
-        freqs, signed = response.freqs, response.gain
-        requested = _validated_gain(curve, freqs)
-    return _refined_max(freqs, np.abs(signed - requested),
+    requested = _validated_gain(curve, response.freqs)
+    return _refined_max(response.freqs, np.abs(response.gain - requested),
                         lambda f: np.abs(response.gain_at(f) - curve(f)))
 
 
@@ -467,13 +469,21 @@ def _stop_bands(freqs, realized, requested, edges, nulls, tol, curve, response) 
 
 def _floor_top(freqs, realized, where, band, level, curve, response) -> float:
     """The highest realized gain over a stop band's floor (``where`` on the
-    grid). Its ends, where the request crosses ``level``, are peaks of the
-    masked grid too, so the bounded search of :func:`_refined_max` reaches
-    them (the gain is often steep there)."""
+    grid): its grid peaks refined, and its ends, where the request crosses
+    ``level``, found exactly (the gain often rises steeply there, so a grid
+    point just inside can be far below the end's value)."""
     def allowed(f):
         return (f >= band[0]) & (f <= band[1]) & (curve(f) <= level)
 
-    return _refined_max(freqs, np.where(where, realized, 0.0), response, allowed)
+    def above_level(f):
+        return float(curve(np.array([f]))[0]) - level
+
+    top = _refined_max(freqs, np.where(where, realized, 0.0), response, allowed)
+    for i in np.flatnonzero(where[1:] != where[:-1]):
+        if above_level(freqs[i]) * above_level(freqs[i + 1]) < 0:
+            end = brentq(above_level, freqs[i], freqs[i + 1], xtol=1e-12)
+            top = max(top, float(response(np.array([end]))[0]))
+    return top
 
 
 def _refined_max(freqs, values, fn, allowed=None, n_searched=3, n_looked=256) -> float:
@@ -525,14 +535,16 @@ def _widened(low: float, high: float) -> tuple[float, float]:
     return 2 * low - high, 2 * high - low
 
 
-def _edge_timing(curve, response, exact, edges, removed) -> tuple:
+def _edge_timing(response, on_grid, gain_at, exact, edges, removed) -> tuple:
     """:class:`EdgeTiming` of the pass band's high-pass and low-pass edges.
 
     Each edge's part of the response keeps the other side flat: the
     response is split at the geometric middle of the pass band (for a
     high-pass alone, between its edge and Nyquist), and the ``removed``
     bands (notches, band-stops: listed as stop bands, with their own
-    ringing) are bridged by straight lines. Zero phase: the part's inverse
+    ringing) are bridged by straight lines. ``on_grid`` is the response on
+    ``response.freqs`` and ``gain_at`` the response anywhere (the request
+    itself with ``exact``). Zero phase: the part's inverse
     FFT on the response's grid. Minimum phase: a causal kernel with one
     edge and nothing removed is that edge's response; otherwise the part is
     rebuilt by the cepstral method, the high-pass part at a rate of 8 times
@@ -550,8 +562,6 @@ def _edge_timing(curve, response, exact, edges, removed) -> tuple:
         split = np.sqrt(named["high-pass"] * named["low-pass"])
     else:
         split = np.sqrt(named["high-pass"] * sfreq / 2) if "high-pass" in named else None
-    gain_at = curve if exact else response.gain_at
-    on_grid = _validated_gain(curve, response.freqs) if exact else response.gain
     out = []
     for name, cutoff in named.items():
         if causal and name == "high-pass":

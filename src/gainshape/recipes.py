@@ -15,10 +15,10 @@ from pathlib import Path
 from ._checks import check_bool, check_option, check_positive
 from ._files import atomic_output
 from .curves import GainCurve
-from .design import FilterDesign, check_filter, check_kernel_request
+from .design import FilterDesign, check_filter, check_kernel_request, design
 from .engine import PAD_MODES
 
-__all__ = ["read_recipe", "write_recipe", "recipe_content", "recipe_from_content"]
+__all__ = ["read_recipe", "write_recipe", "recipe_content", "recipe_from_content", "recipe_design"]
 
 _FORMAT, _VERSION = "gainshape.recipe", 1
 _KEYS = ("format", "version", "curve", "causal", "kernel", "tolerance", "pad", "picks")
@@ -153,6 +153,17 @@ def recipe_from_content(content, path="the recipe") -> dict:
     return {"filt": curve, **_checked_options(content["causal"], content["kernel"],
                                               content["tolerance"], content["pad"],
                                               content["picks"])}
+
+
+def recipe_design(recipe: dict, sfreq: float) -> FilterDesign:
+    """The filter a recipe (:func:`read_recipe`'s dict) realizes at ``sfreq``.
+
+    >>> from gainshape import lowpass
+    >>> recipe_design(recipe_from_content(recipe_content(lowpass(30.0))), 250.0).sfreq
+    250.0
+    """
+    return design(recipe["filt"], sfreq, causal=recipe["causal"], kernel=recipe["kernel"],
+                  tolerance=recipe["tolerance"])
 
 
 def _checked_options(causal, kernel, tolerance, pad, picks) -> dict:

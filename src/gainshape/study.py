@@ -25,7 +25,7 @@ from ._checks import check_bool
 from ._files import atomic_output
 from .adapters import apply
 from .provenance import bids_filters, methods_text
-from .recipes import read_recipe, recipe_content, recipe_from_content
+from .recipes import read_recipe, recipe_content, recipe_design, recipe_from_content
 from .summaries import band_change
 
 __all__ = ["run_study"]
@@ -292,11 +292,9 @@ def _study_band_change(results, found, out_dir: Path):
     """Every filtered recording's band change along "recording", written as netCDF."""
     import xarray as xr
 
-    parts = [change.expand_dims(recording=[source_name]).assign_coords(
-                 subject=("recording", [entities[0] or ""]), session=("recording", [entities[1] or ""]),
-                 task=("recording", [entities[2] or ""]))
-             for (row, change), (_, _, entities), source_name
-             in zip(results, found, [r[0] for r, _ in results]) if change is not None]
+    parts = [change.expand_dims(recording=[row[0]]).assign_coords(
+                 {name: ("recording", [value or ""]) for name, value in zip(_ENTITIES, entities)})
+             for (row, change), (_, _, entities) in zip(results, found) if change is not None]
     if not parts:
         return None
     summary = xr.concat(parts, dim="recording", join="outer", combine_attrs="drop_conflicts")
@@ -368,16 +366,13 @@ def _write_report(table, content: dict, out_dir: Path) -> None:
     import matplotlib.pyplot as plt
     import mne
 
-    from .design import design
     from .viz import plot_study_band_change
 
     report = mne.Report(title="gainshape study", verbose=False)
     done = table[table["status"] != "failed"]
     if len(done):
         sfreq = mne.io.read_raw_fif(done["output"].iloc[0], preload=False, verbose=False).info["sfreq"]
-        recipe = recipe_from_content(content)
-        realized = design(recipe["filt"], sfreq, causal=recipe["causal"], kernel=recipe["kernel"],
-                          tolerance=recipe["tolerance"])
+        realized = recipe_design(recipe_from_content(content), sfreq)
         figure = realized.plot(show=False)
         report.add_figure(figure, title="The realized filter",
                           caption=f"{realized.describe()} (the recordings at {sfreq:g} Hz)")

@@ -9,6 +9,8 @@ the kernel (impulse response) and its running sum (step response).
 
 from __future__ import annotations
 
+from pathlib import PurePath
+
 import numpy as np
 
 __all__ = [
@@ -300,7 +302,7 @@ def plot_study_band_change(summary, *, show=True):
     'recording'
     """
     change = summary.change_db.median("channel").transpose("recording", "band").values
-    names = [str(r).replace("\\", "/").rsplit("/", 1)[-1] for r in summary.recording.values]
+    names = [PurePath(str(r)).name for r in summary.recording.values]
     return _change_map(summary, change, names, "recording", show)
 
 

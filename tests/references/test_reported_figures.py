@@ -190,16 +190,18 @@ def test_minimum_phase_onset_shift_is_recomputed_and_positive():
     assert float(ds.onset_shift_ms.sel(component="pulse")) > 0
 
 
-@pytest.mark.parametrize(("curve", "sfreq"), [
-    (gs.GainCurve.from_points([0.01, 0.25, 9.5, 31.4], [1.0, 0.0, 0.0, 1.0]), 128.0),
-    (gs.highpass(0.1), 500.0),
-], ids=["drawn band-stop", "high-pass"])
-def test_stop_band_attenuation_is_the_highest_gain_over_its_floor(curve, sfreq):
+@pytest.mark.parametrize(("curve", "sfreq", "causal"), [
+    (gs.GainCurve.from_points([0.01, 0.25, 9.5, 31.4], [1.0, 0.0, 0.0, 1.0]), 128.0, False),
+    (gs.highpass(0.1), 500.0, False),
+    (gs.GainCurve.from_points([0.0143, 0.0603, 0.987, 29.33, 38.03, 56.64], [1.0, 0.0, 1.0, 0.0, 0.0, 1.0],
+                              freq_scale="log"), 256.0, True),
+], ids=["drawn band-stop", "high-pass", "drawn causal, steep floor ends"])
+def test_stop_band_attenuation_is_the_highest_gain_over_its_floor(curve, sfreq, causal):
     # reference: the kernel's DTFT by scipy.signal.zoom_fft at 400001 points over each
     # band, and by scipy.signal.freqz at the floor's ends (where the request crosses
     # the floor's level, found by scipy.optimize.brentq; the gain is steep there).
     # The floor is where the request is within 1 dB of its lowest, or at most the tolerance.
-    f = gs.design(curve, sfreq)
+    f = gs.design(curve, sfreq, causal=causal)
     for band in f.characteristics.stop_bands:
         freqs = np.linspace(band.low, band.high, 400001)
         gain = np.abs(zoom_fft(f.kernel, [band.low, band.high], m=freqs.size, fs=sfreq,
