@@ -35,6 +35,6 @@ def rng():
     return np.random.default_rng(12345)
 
 
-@pytest.fixture
+@pytest.fixture(scope="session")
 def make_raw():
     return simulated_raw

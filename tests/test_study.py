@@ -13,7 +13,8 @@ distributed = pytest.importorskip("distributed")
 
 @pytest.fixture(scope="module")
 def client():
-    with distributed.Client(processes=False, n_workers=1, threads_per_worker=2,
+    # one thread: each task's warnings are caught apart (the warnings filters are per process)
+    with distributed.Client(processes=False, n_workers=1, threads_per_worker=1,
                             dashboard_address=None) as c:
         yield c
 
@@ -116,39 +117,137 @@ def test_the_embedded_cluster_runs_the_same_study(study):
     np.testing.assert_allclose(_filtered(table["output"].iloc[1]), expected.get_data(), atol=1e-12)
 
 
-@pytest.fixture
-def bids_root(tmp_path, make_raw):
-    """Two subjects, two sessions each, written with mne-bids (BrainVision)."""
+@pytest.fixture(scope="module")
+def bids_root(tmp_path_factory, make_raw):
+    """Six recordings written with mne-bids (BrainVision): two subjects, two
+    sessions, a second task in two of them, one at 500 Hz and one whose
+    header is corrupt."""
     mne_bids = pytest.importorskip("mne_bids")
-    root = tmp_path / "bids"
-    for subject in ("01", "02"):
-        for session in ("a", "b"):
-            raw = make_raw(seconds=20.0, seed=int(subject) * 10 + ord(session)).pick("eeg")
-            raw.info["line_freq"] = 50.0
-            path = mne_bids.BIDSPath(subject=subject, session=session, task="rest",
-                                     datatype="eeg", root=root)
-            mne_bids.write_raw_bids(raw, path, format="BrainVision", allow_preload=True,
-                                    verbose=False)
+    root = tmp_path_factory.mktemp("bids")
+    recordings = [("01", "a", "rest"), ("01", "a", "oddball"), ("01", "b", "rest"),
+                  ("02", "a", "rest"), ("02", "b", "rest"), ("02", "b", "oddball")]
+    for seed, (subject, session, task) in enumerate(recordings):
+        sfreq = 500.0 if (subject, session) == ("02", "a") else 250.0
+        raw = make_raw(sfreq=sfreq, seconds=20.0, seed=seed).pick("eeg")
+        raw.info["line_freq"] = 50.0
+        path = mne_bids.BIDSPath(subject=subject, session=session, task=task,
+                                 datatype="eeg", root=root)
+        mne_bids.write_raw_bids(raw, path, format="BrainVision", allow_preload=True,
+                                verbose=False)
+    _eeg_file(root, "01", "b", "rest", ".vhdr").write_text("not a BrainVision header\n")
     return root
 
 
-def test_a_bids_root_is_filtered_into_derivatives_with_its_entities(bids_root, client, tmp_path):
-    recipe = gs.write_recipe(tmp_path / "f.json", gs.highpass(0.5), picks="eeg")
+def _eeg_file(root, subject, session, task, extension):
+    name = f"sub-{subject}_ses-{session}_task-{task}_eeg{extension}"
+    return root / f"sub-{subject}" / f"ses-{session}" / "eeg" / name
+
+
+@pytest.fixture
+def bids_recipe(tmp_path):
+    return gs.write_recipe(tmp_path / "f.json", gs.highpass(0.5), picks="eeg")
+
+
+def _outputs_equal_apply(table, recipe):
+    """Reference: gs.apply on each recording read whole by MNE from its source."""
+    for source, output in zip(table["source"], table["output"]):
+        if output is not None:
+            expected = gs.apply(mne.io.read_raw(source, preload=True), **gs.read_recipe(recipe))
+            np.testing.assert_allclose(_filtered(output), expected.get_data(), rtol=0, atol=1e-12)
+
+
+def test_a_bids_root_is_filtered_into_derivatives_and_the_corrupt_file_is_reported(
+        bids_root, bids_recipe, client, tmp_path):
     out = tmp_path / "derivatives" / "gainshape"
-    table = gs.run_study(recipe, bids_root, out, client=client, subjects=["02"], verbose=False)
-    assert list(table["subject"]) == ["02", "02"] and list(table["session"]) == ["a", "b"]
-    assert list(table["status"]) == ["filtered", "filtered"]
-    output = table["output"].iloc[1]
-    assert output == out / "sub-02" / "ses-b" / "eeg" / "sub-02_ses-b_task-rest_desc-filtered_eeg.fif"
-    # reference: gs.apply on the recording read by MNE from the BIDS folder
-    source = bids_root / "sub-02" / "ses-b" / "eeg" / "sub-02_ses-b_task-rest_eeg.vhdr"
-    expected = gs.apply(mne.io.read_raw(source, preload=True), **gs.read_recipe(recipe))
-    np.testing.assert_allclose(_filtered(output), expected.get_data(), rtol=0, atol=1e-12)
+    table = gs.run_study(bids_recipe, bids_root, out, client=client, verbose=False)
+    assert list(zip(table["subject"], table["session"], table["task"])) == [
+        ("01", "a", "oddball"), ("01", "a", "rest"), ("01", "b", "rest"),
+        ("02", "a", "rest"), ("02", "b", "oddball"), ("02", "b", "rest")]
+    assert list(table["status"]) == ["filtered"] * 2 + ["failed"] + ["filtered"] * 3
+    assert "sub-01_ses-b_task-rest_eeg.vhdr" in table["error"].iloc[2]
+    assert table["output"].iloc[3] == (out / "sub-02" / "ses-a" / "eeg"
+                                       / "sub-02_ses-a_task-rest_desc-filtered_eeg.fif")
+    assert mne.io.read_raw_fif(table["output"].iloc[3]).info["sfreq"] == 500.0
+    _outputs_equal_apply(table, bids_recipe)
     description = json.loads((out / "dataset_description.json").read_text())
     assert description["DatasetType"] == "derivative"
     assert description["GeneratedBy"][0]["Name"] == "gainshape"
-    sidecar = json.loads(output.with_suffix(".json").read_text())
-    assert sidecar["SoftwareFilters"] == gs.bids_filters(mne.io.read_raw_fif(output))
+    sidecar = json.loads(table["output"].iloc[5].with_suffix(".json").read_text())
+    assert sidecar["SoftwareFilters"] == gs.bids_filters(mne.io.read_raw_fif(table["output"].iloc[5]))
+    again = gs.run_study(bids_recipe, bids_root, out, client=client, verbose=False)
+    assert list(again["status"]) == ["up to date"] * 2 + ["failed"] + ["up to date"] * 3
+
+
+def test_bids_entities_select_recordings(bids_root, bids_recipe, client, tmp_path):
+    table = gs.run_study(bids_recipe, bids_root, tmp_path / "out", client=client,
+                         subjects=["02"], tasks=["rest"], verbose=False)
+    assert list(zip(table["subject"], table["session"], table["task"])) == [
+        ("02", "a", "rest"), ("02", "b", "rest")]
+
+
+def test_warnings_on_the_workers_reach_the_table(bids_root, bids_recipe, client, tmp_path):
+    table = gs.run_study(bids_recipe, bids_root, tmp_path / "out", client=client,
+                         subjects=["02"], sessions=["b"], tasks=["rest"], verbose=False)
+    # reference: the warnings gs.band_change gives in this process on the same pair
+    with pytest.warns(gs.GainshapeWarning) as caught:
+        gs.band_change(mne.io.read_raw(table["source"].iloc[0], preload=True),
+                       mne.io.read_raw_fif(table["output"].iloc[0], preload=True))
+    assert caught and all(str(w.message) in table["warnings"].iloc[0] for w in caught)
+
+
+def test_the_progress_bar_counts_recordings_unless_silenced(bids_root, bids_recipe, client,
+                                                           tmp_path, capsys):
+    gs.run_study(bids_recipe, bids_root, tmp_path / "out", client=client, subjects=["02"])
+    assert "3/3" in capsys.readouterr().err
+    gs.run_study(bids_recipe, bids_root, tmp_path / "out", client=client, subjects=["02"],
+                 verbose=False)
+    assert capsys.readouterr().err == ""
+
+
+def test_a_worker_killed_while_writing_loses_one_recording_and_a_rerun_completes_it(
+        bids_root, bids_recipe, tmp_path, client, monkeypatch):
+    import os
+
+    import dask
+
+    from gainshape import study as study_module
+
+    uninterrupted = gs.run_study(bids_recipe, bids_root, tmp_path / "whole", client=client,
+                                 verbose=False)
+    real = study_module._filter_recording
+
+    def dies_while_writing(source, content, output, overwrite):  # pickled by value
+        if "ses-b_task-oddball" in str(source):
+            staging = output.parent / f".{output.name}.killed.partial"
+            staging.mkdir(parents=True)
+            (staging / output.name).write_bytes(b"half a recording")
+            os._exit(1)  # the worker process dies mid-write
+        return real(source, content, output, overwrite)
+
+    out = tmp_path / "out"
+    monkeypatch.setattr(study_module, "_filter_recording", dies_while_writing)
+    # no retry of the dying task, and one task at a time on the worker (none lost beside it)
+    with dask.config.set({"distributed.scheduler.allowed-failures": 0,
+                          "distributed.scheduler.worker-saturation": 1.0}), \
+            distributed.LocalCluster(n_workers=1, threads_per_worker=1, processes=True,
+                                     dashboard_address=":0") as cluster, \
+            distributed.Client(cluster) as processes:
+        table = gs.run_study(bids_recipe, bids_root, out, client=processes, verbose=False)
+    # the recording finished just before the death may be run again by Dask if its result had
+    # not reached the client yet: it then finds its output written and up to date
+    assert table["status"].iloc[3] in ("filtered", "up to date")
+    assert list(table["status"].drop(index=3)) == ["filtered"] * 2 + ["failed"] * 2 + ["filtered"]
+    assert "KilledWorker" in table["error"].iloc[4]
+    lost = uninterrupted["output"].iloc[4].relative_to(tmp_path / "whole")
+    assert not (out / lost).exists() and not (out / lost).with_suffix(".json").exists()
+    monkeypatch.undo()
+    table = gs.run_study(bids_recipe, bids_root, out, client=client, verbose=False)
+    assert list(table["status"]) == ["up to date"] * 2 + ["failed", "up to date", "filtered",
+                                                          "up to date"]
+    assert not list((out / lost).parent.glob(".*.partial"))  # the stale staging folder is gone
+    for mine, reference in zip(table["output"], uninterrupted["output"]):
+        if mine is not None:
+            np.testing.assert_array_equal(_filtered(mine), _filtered(reference))
 
 
 def test_the_study_summary_gathers_band_change_and_states_the_filter_once(study, client):

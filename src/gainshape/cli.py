@@ -78,6 +78,9 @@ def _run(args) -> int:
         table = run_study(recipe, inputs, args.out, client, overwrite=args.overwrite,
                           verbose=not args.quiet, **selection)
     print(table[["source", "status", "seconds", "error"]].to_string(index=False))
+    for source, said in zip(table["source"], table["warnings"]):
+        if said:
+            print(f"\nWarnings for {Path(source).name}:\n  " + said.replace("\n", "\n  "))
     return EXIT_SOME_FAILED if (table["status"] == "failed").any() else EXIT_DONE
 
 

@@ -16,7 +16,9 @@ import contextlib
 import json
 import os
 import resource
+import shutil
 import time
+import warnings
 from pathlib import Path
 
 import xxhash
@@ -31,7 +33,7 @@ from .summaries import band_change
 __all__ = ["run_study"]
 
 COLUMNS = ["source", "subject", "session", "task", "status", "seconds", "worker_peak_mb",
-           "output", "error"]
+           "output", "error", "warnings"]
 _ENTITIES = ("subject", "session", "task")
 _READABLE = [".vhdr", ".edf", ".bdf", ".set", ".fif", ".cnt", ".mff"]
 _HASH_CHUNK = 8 * 2**20
@@ -78,7 +80,11 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
         ``session``, ``task`` (BIDS entities, None otherwise), ``status`` ("filtered",
         "up to date" or "failed"), ``seconds``, ``worker_peak_mb`` (the
         worker process's peak resident memory so far), ``output`` (Path or
-        None) and ``error``. ``table.attrs["band_change"]`` holds
+        None), ``error`` and ``warnings`` (what the filtering and the band
+        change warned about, one message per line, "" if nothing).
+        A recording whose worker died (after Dask's retries) is "failed"
+        like any other; one whose output was written but whose row was lost
+        with its worker is run again by Dask and then reads "up to date". ``table.attrs["band_change"]`` holds
         :func:`gainshape.band_change` of every filtered recording (dims
         recording x channel x band, with subject, session and task
         coordinates; also written as ``band_change.nc``), and
@@ -116,13 +122,8 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
     out_dir.mkdir(parents=True, exist_ok=True)
     _write_dataset_description(out_dir)
     with _connected(client) as connection:
-        futures = connection.map(_filter_recording, sources, [content] * len(sources), outputs,
-                                 [overwrite] * len(sources), pure=False)
-        try:
-            results = _gathered(futures, verbose is not False)
-        except BaseException:  # interrupted: what has not started does not start
-            connection.cancel(futures)
-            raise
+        results = _gathered(connection, sources, [content, outputs, overwrite],
+                            verbose is not False)
     table = pd.DataFrame([[row[0], *entities, *row[1:]] for (row, _), (_, _, entities)
                           in zip(results, found)], columns=COLUMNS)
     table.attrs["band_change"] = _study_band_change(results, found, out_dir)
@@ -231,18 +232,43 @@ def _connected(client):
         yield own
 
 
-def _gathered(futures, show: bool) -> list:
-    """Each task's row, in input order, with a bar over recordings as they finish."""
+def _gathered(connection, sources, task_arguments, show: bool) -> list:
+    """Each recording's (row, band change) from one task per recording, in
+    input order, with a bar over recordings as they finish.
+
+    A result is let go of as soon as it is gathered, so a worker that dies
+    later does not make the cluster run finished recordings again; a task
+    lost with its worker (after Dask's retries) becomes a failed row.
+    """
     import distributed
     from tqdm.std import tqdm
 
-    index = {future.key: i for i, future in enumerate(futures)}
-    rows = [None] * len(futures)
-    with tqdm(total=len(futures), unit="recording", disable=not show) as bar:
-        for future in distributed.as_completed(futures):
-            rows[index[future.key]] = future.result()  # (row, band change)
-            bar.update(1)
+    content, outputs, overwrite = task_arguments
+    count = len(sources)
+    pending = {future.key: (i, future) for i, future in enumerate(connection.map(
+        _filter_recording, sources, [content] * count, outputs, [overwrite] * count, pure=False))}
+    rows = [None] * count
+    try:
+        with tqdm(total=count, unit="recording", disable=not show) as bar:
+            for future in distributed.as_completed([f for _, f in pending.values()]):
+                i, _ = pending.pop(future.key)
+                rows[i] = _task_result(future, sources[i])
+                bar.update(1)
+    except BaseException:  # interrupted: what has not started does not start
+        connection.cancel([f for _, f in pending.values()])
+        raise
     return rows
+
+
+def _task_result(future, source: Path) -> tuple:
+    """The task's (row, band change), or a failed row if its worker died."""
+    try:
+        return future.result()
+    except Exception as err:  # e.g. KilledWorker: the process died running it
+        error = f"{source.name}: {type(err).__name__}: {err}"
+        return [str(source), "failed", float("nan"), float("nan"), None, error, ""], None
+    finally:
+        future.release()
 
 
 def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool) -> tuple:
@@ -252,25 +278,43 @@ def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool
 
     start = time.perf_counter()
     status, error, written, change = "filtered", None, output, None
-    try:
-        fingerprint = file_fingerprint(source)
-        if not overwrite and _up_to_date(output, content, fingerprint):
-            status = "up to date"
-        else:
-            raw = mne.io.read_raw(source, preload=False, verbose=False)
-            filtered = apply(raw, verbose=False, **recipe_from_content(content, source))
-            record = {"SoftwareFilters": bids_filters(filtered),
-                      _SIDECAR_KEY: {"recipe": content, "source": str(source),
-                                     "source_fingerprint": fingerprint}}
-            output.parent.mkdir(parents=True, exist_ok=True)
-            filtered.save(output, overwrite=True, verbose=False)  # whole or not at all
-            with atomic_output(output.with_suffix(".json")) as staged:
-                staged.write_text(json.dumps(record, indent=2) + "\n", encoding="utf-8")
-        change = _band_change_by_groups(source, output)
-    except Exception as err:  # isolated: the other recordings go on
-        status, error, written = "failed", f"{source.name}: {type(err).__name__}: {err}", None
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        try:
+            fingerprint = file_fingerprint(source)
+            if not overwrite and _up_to_date(output, content, fingerprint):
+                status = "up to date"
+            else:
+                _remove_stale_staging(output)
+                raw = mne.io.read_raw(source, preload=False, verbose=False)
+                _write_filtered(raw, content, source, fingerprint, output)
+            change = _band_change_by_groups(source, output)
+        except Exception as err:  # isolated: the other recordings go on
+            status, error, written = "failed", f"{source.name}: {type(err).__name__}: {err}", None
+    said = "\n".join(dict.fromkeys(str(w.message) for w in caught))
     peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
-    return [str(source), status, time.perf_counter() - start, peak_mb, written, error], change
+    return [str(source), status, time.perf_counter() - start, peak_mb, written, error,
+            said], change
+
+
+def _write_filtered(raw, content: dict, source: Path, fingerprint: str, output: Path) -> None:
+    """The filtered recording and its sidecar, each written whole or not at all."""
+    filtered = apply(raw, verbose=False, **recipe_from_content(content, source))
+    record = {"SoftwareFilters": bids_filters(filtered),
+              _SIDECAR_KEY: {"recipe": content, "source": str(source),
+                             "source_fingerprint": fingerprint}}
+    output.parent.mkdir(parents=True, exist_ok=True)
+    filtered.save(output, overwrite=True, verbose=False)
+    with atomic_output(output.with_suffix(".json")) as staged:
+        staged.write_text(json.dumps(record, indent=2) + "\n", encoding="utf-8")
+
+
+def _remove_stale_staging(output: Path) -> None:
+    """Staging folders a killed worker left for this output (its task is the
+    only writer of the output, so none of them is in use)."""
+    for name in (output.name, output.with_suffix(".json").name):
+        for stale in output.parent.glob(f".{name}.*.partial"):
+            shutil.rmtree(stale, ignore_errors=True)
 
 
 def _band_change_by_groups(source: Path, output: Path):
