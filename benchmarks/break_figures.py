@@ -2,9 +2,10 @@
 
 Each entry replaces one line of the package (x2, a wrong log base, ...), runs
 the test suite (without the tutorials), restores the line, and prints whether
-a test caught it. Run from the repository root:
+a test caught it. Run from the repository root (the names given select the
+entries whose name contains one of them):
 
-    python benchmarks/break_figures.py
+    python benchmarks/break_figures.py [NAME ...]
 """
 
 import os
@@ -27,10 +28,17 @@ breaks = [
  ("audit peak_change_pct x1.5", "src/gainshape/audit.py", '"peak_change_pct": 100 * (ys[j_peak] - peak) / peak,', '"peak_change_pct": 150 * (ys[j_peak] - peak) / peak,'),
  ("audit onset_shift_ms x3", "src/gainshape/audit.py", '"onset_shift_ms": 1000 * (t[j_onset] - t[i_onset]),', '"onset_shift_ms": 3000 * (t[j_onset] - t[i_onset]),'),
  ("plot_audit marker height", "src/gainshape/viz.py", "[peak * (1 + float(row.peak_change_pct) / 100)],", "[peak * (1 + float(row.peak_change_pct) / 50)],"),
+ ("line height_db x2", "src/gainshape/lines.py", '"height_db": 10 * np.log10(1.0 + top)', '"height_db": 20 * np.log10(1.0 + top)'),
+ ("line width x2", "src/gainshape/lines.py", '    return {"frequency": frequency, "height_db"', '    width = 2 * width\n    return {"frequency": frequency, "height_db"'),
+ ("line frequency half a bin off", "src/gainshape/lines.py", "frequency = freqs[peak] + shift * df", "frequency = freqs[peak] + (shift + 0.5) * df"),
+ ("line background: median, not mean", "src/gainshape/lines.py", "return median / (stats.chi2.median(dof) / dof)", "return median"),
+ ("line reasons: height x2", "src/gainshape/lines.py", '{float(line.height_db):.1f} dB above', '{2 * float(line.height_db):.1f} dB above'),
+ ("plot_lines label height x2", "src/gainshape/viz.py", 'Hz\\n+{h:.1f} dB"', 'Hz\\n+{2 * h:.1f} dB"'),
  ("history table roll-off x2", "src/gainshape/provenance.py", 'f"{slope:.1f}" for _, _, _, slope in passband if slope is not None', 'f"{2 * slope:.1f}" for _, _, _, slope in passband if slope is not None'),
 ]
+chosen = [b for b in breaks if not sys.argv[1:] or any(n in b[0] for n in sys.argv[1:])]
 caught = 0
-for name, path, old, new in breaks:
+for name, path, old, new in chosen:
     p = pathlib.Path(path); text = p.read_text()
     assert text.count(old) == 1, name
     p.write_text(text.replace(old, new))
@@ -44,4 +52,4 @@ for name, path, old, new in breaks:
     ok = r.returncode != 0
     caught += ok
     print(f"{'CAUGHT' if ok else 'MISSED'}  {name}: {failed[:1]}", flush=True)
-print(f"{caught}/{len(breaks)} caught")
+print(f"{caught}/{len(chosen)} caught")

@@ -58,3 +58,10 @@ def test_not_json_and_bare_callables_are_refused(tmp_path):
     with pytest.raises(ValueError, match="callable"):
         gs.write_recipe(tmp_path / "c.json", gs.GainCurve(lambda f: np.ones_like(f)))
     assert not (tmp_path / "c.json").exists()
+
+
+def test_a_missing_folder_is_named_before_anything_is_written(tmp_path):
+    target = tmp_path / "no_such_folder" / "filter.json"
+    with pytest.raises(FileNotFoundError, match="the folder .*no_such_folder does not exist"):
+        gs.write_recipe(target, gs.lowpass(30.0))
+    assert not (tmp_path / "no_such_folder").exists()

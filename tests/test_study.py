@@ -159,7 +159,9 @@ def _outputs_equal_apply(table, recipe):
 def test_a_bids_root_is_filtered_into_derivatives_and_the_corrupt_file_is_reported(
         bids_root, bids_recipe, client, tmp_path):
     out = tmp_path / "derivatives" / "gainshape"
-    table = gs.run_study(bids_recipe, bids_root, out, client=client, verbose=False)
+    # a limit below every recording's size: each is filtered file to file, out of core
+    table = gs.run_study(bids_recipe, bids_root, out, client=client, in_memory_mb=0.05,
+                         verbose=False)
     assert list(zip(table["subject"], table["session"], table["task"])) == [
         ("01", "a", "oddball"), ("01", "a", "rest"), ("01", "b", "rest"),
         ("02", "a", "rest"), ("02", "b", "oddball"), ("02", "b", "rest")]
@@ -216,13 +218,13 @@ def test_a_worker_killed_while_writing_loses_one_recording_and_a_rerun_completes
                                  verbose=False)
     real = study_module._filter_recording
 
-    def dies_while_writing(source, content, output, overwrite):  # pickled by value
+    def dies_while_writing(source, content, output, overwrite, limits):  # pickled by value
         if "ses-b_task-oddball" in str(source):
             staging = output.parent / f".{output.name}.killed.partial"
             staging.mkdir(parents=True)
             (staging / output.name).write_bytes(b"half a recording")
             os._exit(1)  # the worker process dies mid-write
-        return real(source, content, output, overwrite)
+        return real(source, content, output, overwrite, limits)
 
     out = tmp_path / "out"
     monkeypatch.setattr(study_module, "_filter_recording", dies_while_writing)
@@ -256,12 +258,18 @@ def test_the_study_summary_gathers_band_change_and_states_the_filter_once(study,
     summary = table.attrs["band_change"]
     assert summary.change_db.dims == ("recording", "channel", "band")
     assert list(summary.recording.values) == [str(p) for p in inputs[:3]]  # the failed one is left out
-    # reference: gs.band_change on each recording and its output, read whole
+    # reference: gs.band_change on each recording and its output file, read whole (the file
+    # holds float32 samples, the study measured the float64 result: 1e-6 dB apart at most)
     for source, output in zip(inputs[:3], table["output"].iloc[:3]):
         whole = gs.band_change(mne.io.read_raw_fif(source, preload=True),
                                mne.io.read_raw_fif(output, preload=True))
         np.testing.assert_allclose(summary.change_db.sel(recording=str(source)).sel(
-            channel=whole.channel).values, whole.change_db.values, rtol=1e-10)
+            channel=whole.channel).values, whole.change_db.values, rtol=0, atol=1e-6)
+    # out of core (a limit below the recordings' size), the band change is read from the files
+    small = gs.run_study(recipe, inputs[:1], out.parent / "small", client=client,
+                         in_memory_mb=0.01, verbose=False).attrs["band_change"]
+    np.testing.assert_allclose(small.change_db.sel(recording=str(inputs[0])).values,
+                               summary.change_db.sel(recording=str(inputs[0])).values, atol=1e-6)
     import xarray as xr
 
     with xr.open_dataset(out / "band_change.nc") as on_disk:

@@ -5,11 +5,12 @@ from .adapters import apply, replay
 from .curves import GainCurve, bandpass, bandstop, highpass, lowpass, notch
 from .design import FilterDesign, design
 from .audit import audit
+from .lines import find_lines, suggest_notches
 from .provenance import bids_filters, export, history, methods_text, write_bids_filters
 from .recipes import read_recipe, write_recipe
 from .study import run_study
 from .summaries import band_change, observed_gain
-from .viz import plot_audit, plot_band_change, plot_observed_gain
+from .viz import plot_audit, plot_band_change, plot_lines, plot_observed_gain
 
 __version__ = "0.1.0"
 
@@ -25,6 +26,7 @@ __all__ = [
     "bandstop",
     "design",
     "export",
+    "find_lines",
     "highpass",
     "history",
     "lowpass",
@@ -33,10 +35,12 @@ __all__ = [
     "observed_gain",
     "plot_audit",
     "plot_band_change",
+    "plot_lines",
     "plot_observed_gain",
     "read_recipe",
     "replay",
     "run_study",
+    "suggest_notches",
     "write_bids_filters",
     "write_recipe",
 ]

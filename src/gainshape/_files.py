@@ -36,6 +36,9 @@ def atomic_output(final):
     ('complete', ['notes.txt'])
     """
     final = Path(final)
+    if not final.parent.is_dir():
+        raise FileNotFoundError(f"Cannot write {final.name}: the folder {final.parent} does not "
+                                "exist; create it first or choose another path.")
     staging = Path(tempfile.mkdtemp(prefix=f".{final.name}.", suffix=".partial", dir=final.parent))
     try:
         yield staging / final.name

@@ -213,6 +213,23 @@ class GainCurve:  # numpydoc ignore=PR01
         """
         return None if self._recipe is None else json.loads(self._recipe)
 
+    @property
+    def reasons(self) -> tuple[str, ...]:
+        """Why the curve has its shape, for curves proposed from data (such as
+        :func:`gainshape.suggest_notches`); empty otherwise.
+
+        See Also
+        --------
+        gainshape.suggest_notches
+
+        Examples
+        --------
+        >>> lowpass(30.0).reasons
+        ()
+        """
+        recipe = self.recipe or {}
+        return tuple((recipe.get("origin") or {}).get("reasons", ()))
+
     # -- evaluation and algebra ----------------------------------------------
     def __call__(self, freqs) -> np.ndarray:
         """Evaluate the gain at ``freqs`` (Hz); returns a float64 array."""
@@ -537,6 +554,28 @@ def notch(
     )
 
 
+def comb(freqs, widths, *, rolloff: float = 24.0, origin: dict | None = None) -> GainCurve:
+    """Notches at any frequencies, each with its own width (the product of
+    single notches); ``origin`` (JSON-ready) records where they came from.
+
+    >>> g = comb([50.0, 131.3], [0.5, 0.8])
+    >>> [round(float(v), 3) for v in g([50.0, 50.25, 131.3, 131.7, 90.0])]
+    [0.0, 0.5, 0.0, 0.5, 1.0]
+    """
+    freqs = [check_positive("freqs", f) for f in freqs]
+    widths = [check_positive("widths", w) for w in widths]
+    if not freqs or len(freqs) != len(widths):
+        raise ValueError(f"A comb takes one width per notch and at least one notch; "
+                         f"{len(freqs)} frequencies and {len(widths)} widths were given.")
+    for f, w in zip(freqs, widths):
+        if w >= 2 * f:
+            raise ValueError(f"The notch at {f:g} Hz must be narrower than {2 * f:g} Hz "
+                             f"(twice its frequency); {w:g} Hz was given.")
+    rolloff = check_positive("rolloff", rolloff)
+    return _shape("comb", _comb_func(freqs, widths, rolloff), freqs=freqs, widths=widths,
+                  rolloff=rolloff, origin=origin)
+
+
 # -- shape functions (f >= 0 arrays in, gains out) ----------------------------
 def _order(rolloff: float) -> float:
     return rolloff / _DB_PER_OCTAVE_PER_ORDER
@@ -584,6 +623,18 @@ def _notch_func(freq, width, harmonics, rolloff):
         out = np.ones_like(f)
         for c in centres:
             out = out * _rising(np.abs(f - c) / (width / 2.0), n)
+        return out
+
+    return func
+
+
+def _comb_func(freqs, widths, rolloff):
+    n = _order(rolloff)
+
+    def func(f):
+        out = np.ones_like(f)
+        for c, w in zip(freqs, widths):
+            out = out * _rising(np.abs(f - c) / (w / 2.0), n)
         return out
 
     return func
@@ -668,6 +719,8 @@ _BUILDERS = {
     "points": lambda r: GainCurve.from_points(
         r["freqs"], r["gains"], freq_scale=r["freq_scale"], gain_scale=r["gain_scale"]
     ),
+    "comb": lambda r: comb(r["freqs"], r["widths"], rolloff=r["rolloff"],
+                           origin=r.get("origin")),
     "product": _build_product,
     "complement": lambda r: 1 - _build(r["curve"]),
 }
@@ -684,6 +737,11 @@ def _describe(r: Mapping) -> str:
     if kind == "notch":
         freqs = ", ".join(f"{r['freq'] * k:g}" for k in range(1, r["harmonics"] + 1))
         return f"notch at {freqs} Hz, width {r['width']:g} Hz"
+    if kind == "comb":
+        notches = ", ".join(f"{f:.4g}" for f in r["freqs"])
+        widths = ", ".join(f"{w:.2g}" for w in r["widths"])
+        found = " found in the data" if (r.get("origin") or {}).get("found_by") else ""
+        return f"notch comb at {notches} Hz{found}, widths {widths} Hz"
     if kind == "points":
         return (
             f"drawn through {len(r['freqs'])} points, "
@@ -710,6 +768,15 @@ def _fit_below(r: dict, nyquist: float, notes: list) -> dict:
                 f"Nyquist frequency ({nyquist:g} Hz) and is dropped"
             )
         return {**r, "harmonics": kept}
+    if r["kind"] == "comb":
+        kept = [i for i, f in enumerate(r["freqs"]) if f + r["widths"][i] / 2 < nyquist]
+        notes.extend(f"notch at {f:g} Hz reaches the Nyquist frequency ({nyquist:g} Hz) and "
+                     "is dropped" for i, f in enumerate(r["freqs"]) if i not in kept)
+        if not kept:
+            raise ValueError(f"Every notch of the {_describe(r)} curve reaches the Nyquist "
+                             f"frequency ({nyquist:g} Hz).")
+        return {**r, "freqs": [r["freqs"][i] for i in kept],
+                "widths": [r["widths"][i] for i in kept]}
     if r["kind"] == "product":
         return {**r, "factors": [_fit_below(f, nyquist, notes) for f in r["factors"]]}
     if r["kind"] == "complement":

@@ -28,11 +28,15 @@ def _mean_spectra(raw, filtered):
     return freqs, before.mean(axis=0), after.mean(axis=0)
 
 
-def demo_curve():
-    """Band-pass 0.1-40 Hz (12 dB/octave) times a 50 Hz notch with 3 harmonics."""
+def demo_curve(notches=None):
+    """Band-pass 0.1-40 Hz (12 dB/octave) times ``notches`` (a GainCurve,
+    such as the comb :func:`gainshape.suggest_notches` proposes), or by
+    default a 50 Hz notch with 3 harmonics."""
     from . import bandpass, notch
 
-    return bandpass(0.1, 40.0, rolloff=12.0) * notch(50.0, width=2.0, harmonics=3)
+    if notches is None:
+        notches = notch(50.0, width=2.0, harmonics=3)
+    return bandpass(0.1, 40.0, rolloff=12.0) * notches
 
 
 def main(argv=None) -> int:
@@ -42,8 +46,9 @@ def main(argv=None) -> int:
     matplotlib.use("Agg")
     import mne
 
-    from . import apply, audit, band_change, design, methods_text, observed_gain
-    from .viz import (plot_audit, plot_band_change, plot_design, plot_erp_pair,
+    from . import (apply, audit, band_change, design, find_lines, methods_text, observed_gain,
+                   suggest_notches)
+    from .viz import (plot_audit, plot_band_change, plot_design, plot_erp_pair, plot_lines,
                       plot_observed_gain, plot_spectrum_pair)
 
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
@@ -57,8 +62,16 @@ def main(argv=None) -> int:
     raw = simulate_workshop_recording()
     print(f"Simulated {len(raw.ch_names)} channels, {raw.times[-1]:.0f} s at "
           f"{raw.info['sfreq']:g} Hz (workshop tone session).")
-    curve = demo_curve()
-    print(f"Requested: {curve.describe()}")
+    found = find_lines(raw)
+    _save_figure(plot_lines(found, show=False), out / "lines_found.png")
+    print(f"\nLines found before filtering (at least {found.attrs['threshold_db']:.1f} dB above "
+          f"the background in at least half the channels)")
+    print(found[["frequency", "height_db", "width", "harmonic_of", "n_channels"]]
+          .to_dataframe().round(3).to_string(index=False))
+    proposal = suggest_notches(found)
+    print("Proposed notches:\n  " + "\n  ".join(proposal.reasons))
+    curve = demo_curve(proposal)
+    print(f"\nRequested: {curve.describe()}")
     filt = design(curve, raw.info["sfreq"])
     print("\nRealized filter")
     width = max(len(label) for label, _ in filt.summary())
@@ -85,15 +98,15 @@ def main(argv=None) -> int:
     print(f"\ninfo: highpass {filtered.info['highpass']:.4g} Hz, lowpass "
           f"{filtered.info['lowpass']:.4g} Hz")
 
-    change = band_change(raw, filtered)
+    change = band_change(raw, filtered, lines=found)
     with atomic_output(out / "band_change.nc") as staged:
         change.to_netcdf(staged)
     _save_figure(plot_band_change(change, show=False), out / "band_change.png")
     print("\nBand power change, dB (median and range over the 32 EEG channels)")
     for band in change.band.values:
         values = change.change_db.sel(band=band)
-        print(f"  {band:<6} {float(change.band_low.sel(band=band)):>5g}-"
-              f"{float(change.band_high.sel(band=band)):<5g} Hz  {float(values.median()):8.2f}"
+        print(f"  {band:<12} {float(change.band_low.sel(band=band)):>5.4g}-"
+              f"{float(change.band_high.sel(band=band)):<5.4g} Hz  {float(values.median()):8.2f}"
               f"   [{float(values.min()):.2f}, {float(values.max()):.2f}]")
     gain = observed_gain(raw, filtered)
     _save_figure(plot_observed_gain(gain, filt, show=False), out / "observed_gain.png")
@@ -105,7 +118,7 @@ def main(argv=None) -> int:
                        "opposite_before_pct", "opposite_after_pct", "ringing_s"]]
     print(table.to_dataframe().drop(columns="component_waveform").round(2).to_string())
     print("\nMethods paragraph\n" + methods_text(filtered))
-    print(f"\nWrote {fif}, band_change.nc and 6 figures to {out}/ in "
+    print(f"\nWrote {fif}, band_change.nc and 7 figures to {out}/ in "
           f"{time.perf_counter() - start:.1f} s.")
     return 0
 

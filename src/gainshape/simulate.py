@@ -2,7 +2,9 @@
 
 Scenario (invented for the demo only): an apprentice in a joinery workshop
 listens to tone pips through earphones while a 50 Hz bandsaw motor runs two
-metres away. The 32-channel recording carries mains hum at 50, 100 and 150 Hz,
+metres away and a dust extractor hums in the corner (its fan at 31.7 Hz, with
+a harmonic at 63.4 Hz, written down nowhere). The 32-channel recording
+carries mains hum at 50, 100 and 150 Hz, the extractor's two lines,
 slow skin-potential drift from a warm room, posterior alpha, eye blinks, and
 auditory responses to the tones (a sharp negativity near 100 ms, a positivity
 near 180 ms and a slow late positivity).
@@ -21,6 +23,7 @@ _CHANNELS = [
 ]
 _TONE_ID = 1
 TONE_CHANNEL = "Tones"  # the stim channel marking tone onsets (code 1)
+EXTRACTOR_HZ = 31.7  # the dust extractor's fan
 
 
 def simulate_workshop_recording(seconds: float = 180.0, sfreq: float = 500.0, seed: int = 7):
@@ -50,11 +53,13 @@ def simulate_workshop_recording(seconds: float = 180.0, sfreq: float = 500.0, se
 
     eeg = 6e-6 * _pink_noise(rng, len(_CHANNELS), n)
     alpha_env = 1.0 + 0.6 * np.sin(2 * np.pi * 0.07 * t + rng.uniform(0, 6))
-    eeg += np.outer(8e-6 * (1.0 - front), alpha_env * np.sin(2 * np.pi * 10.2 * t))
+    eeg += np.outer(8e-6 * (1.0 - front), alpha_env * _alpha_rhythm(np.random.default_rng(seed + 2),
+                                                                     n, sfreq))
     for k, amp in ((1, 25e-6), (2, 7e-6), (3, 3e-6)):  # bandsaw hum and harmonics
         gains = amp * rng.uniform(0.5, 1.5, len(_CHANNELS))
         eeg += np.outer(gains, np.sin(2 * np.pi * 50.0 * k * t + rng.uniform(0, 6)))
     eeg += _drift(rng, len(_CHANNELS), n, sfreq) * 40e-6
+    eeg += _extractor(np.random.default_rng(seed + 1), len(_CHANNELS), t)
 
     onsets = np.cumsum(rng.uniform(1.1, 1.5, int(seconds / 1.1)))
     onsets = onsets[onsets < seconds - 1.0]
@@ -77,6 +82,24 @@ def simulate_workshop_recording(seconds: float = 180.0, sfreq: float = 500.0, se
     raw = mne.io.RawArray(np.vstack([eeg, eog, stim]), info, verbose=False)
     raw.info["line_freq"] = 50.0  # the workshop's mains
     return raw
+
+
+def _alpha_rhythm(rng, n, sfreq):
+    """A rhythm near 10.2 Hz that wanders in frequency (a Gaussian band about
+    1.5 Hz wide at half power), scaled to the RMS of a unit sine."""
+    freqs = np.fft.rfftfreq(n, 1 / sfreq)
+    band = np.exp(-0.5 * ((freqs - 10.2) / 0.9) ** 2)
+    rhythm = np.fft.irfft(band * (rng.standard_normal(freqs.size)
+                                  + 1j * rng.standard_normal(freqs.size)), n)
+    return rhythm / (np.sqrt(2) * rhythm.std())
+
+
+def _extractor(rng, n_ch, t):
+    """The dust extractor: 31.7 Hz and its harmonic, stronger on the left."""
+    side = np.linspace(1.0, 0.4, n_ch)
+    lines = sum(amp * np.sin(2 * np.pi * freq * t + rng.uniform(0, 6))
+                for freq, amp in ((EXTRACTOR_HZ, 1.2e-6), (2 * EXTRACTOR_HZ, 0.6e-6)))
+    return np.outer(side, lines)
 
 
 def _pink_noise(rng, n_ch, n):

@@ -17,13 +17,14 @@ import json
 import os
 import resource
 import shutil
+import sys
 import time
 import warnings
 from pathlib import Path
 
 import xxhash
 
-from ._checks import check_bool
+from ._checks import check_bool, check_positive
 from ._files import atomic_output
 from .adapters import apply
 from .provenance import bids_filters, methods_text
@@ -37,12 +38,27 @@ COLUMNS = ["source", "subject", "session", "task", "status", "seconds", "worker_
 _ENTITIES = ("subject", "session", "task")
 _READABLE = [".vhdr", ".edf", ".bdf", ".set", ".fif", ".cnt", ".mff"]
 _HASH_CHUNK = 8 * 2**20
-_CHANNELS_AT_ONCE = 8  # band change reads this many channels of a recording at a time
+_MB = 2**20
+# How the local cluster's workers start. On Linux they are forked from this
+# process: they start in 0.2 s instead of 2.8 s and find NumPy, SciPy, MNE and
+# gainshape already imported (elsewhere fork is unsafe, so they are spawned).
+# Spawned workers get glibc settings: Dask sets MALLOC_TRIM_THRESHOLD_ to 64 KiB,
+# which freezes glibc's mmap threshold at 128 KiB, so every larger array is a
+# fresh mmap whose pages fault in on first use: 1.1 s instead of 0.65 s per
+# 10-minute, 32-channel recording (benchmarks/study.py). Forked workers keep
+# this process's allocator as it is.
+_LOCAL_WORKERS = {
+    "distributed.worker.multiprocessing-method": "fork" if sys.platform == "linux" else "spawn",
+    **{f"distributed.nanny.pre-spawn-environ.{key}": value for key, value in {
+        "MALLOC_TRIM_THRESHOLD_": 2**28, "MALLOC_MMAP_THRESHOLD_": 2**25,
+        "MALLOC_ARENA_MAX": 1}.items()},
+}
 _SIDECAR_KEY = "gainshape"
 
 
 def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=None, tasks=None,
-              overwrite: bool = False, raise_errors: bool = False, verbose=None):
+              overwrite: bool = False, in_memory_mb: float = 1024.0, summary: bool = True,
+              raise_errors: bool = False, verbose=None):
     """Filter every recording of a study with one recipe, on a Dask cluster.
 
     Parameters
@@ -67,6 +83,16 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
         For a BIDS root: only these (None: all).
     overwrite : bool
         Redo recordings whose output is up to date.
+    in_memory_mb : float
+        Recordings whose data take at most this many MB (in float64) are
+        loaded and filtered in memory, the fastest way; larger ones are
+        read lazily and filtered file to file (out of core), and their band
+        change is read in groups of channels of at most this size, so a
+        worker's memory stays within a few times this limit whatever the
+        recording's length.
+    summary : bool
+        Measure each recording's band change and gather it (False: skip
+        this, the slowest part after the filtering itself).
     raise_errors : bool
         Raise a RuntimeError after the run if any recording failed (the
         others are done all the same).
@@ -113,6 +139,8 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
 
     content = _recipe_content(recipe)
     overwrite = check_bool("overwrite", overwrite)
+    limits = {"in_memory_bytes": check_positive("in_memory_mb", in_memory_mb) * _MB,
+              "summary": check_bool("summary", summary)}
     raise_errors = check_bool("raise_errors", raise_errors)
     out_dir = Path(out_dir)
     found = _recordings(inputs, {"subjects": subjects, "sessions": sessions, "tasks": tasks})
@@ -122,13 +150,20 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
     out_dir.mkdir(parents=True, exist_ok=True)
     _write_dataset_description(out_dir)
     with _connected(client) as connection:
-        results = _gathered(connection, sources, [content, outputs, overwrite],
+        # the report's filter figure is drawn on the cluster beside the recordings
+        figure = connection.submit(_filter_figure, content, sources, pure=False)
+        results = _gathered(connection, sources, [content, outputs, overwrite, limits],
                             verbose is not False)
+        try:
+            figure = figure.result()
+        except Exception:  # the report goes without it; the recordings' rows say why
+            figure = None
     table = pd.DataFrame([[row[0], *entities, *row[1:]] for (row, _), (_, _, entities)
                           in zip(results, found)], columns=COLUMNS)
     table.attrs["band_change"] = _study_band_change(results, found, out_dir)
-    table.attrs["methods"] = _study_methods(table, out_dir)
-    _write_report(table, content, out_dir)
+    table.attrs["methods"] = _study_methods(table, [extras["methods"] for _, extras in results],
+                                            out_dir)
+    _write_report(table, figure, out_dir)
     failed = table[table["status"] == "failed"]
     if raise_errors and len(failed):
         raise RuntimeError(f"{len(failed)} of {len(table)} recordings failed: "
@@ -223,9 +258,11 @@ def _connected(client):
         yield client
         return
     if client is None:
-        cluster = distributed.LocalCluster(n_workers=os.cpu_count() or 1, threads_per_worker=1,
-                                           processes=True, dashboard_address=":0")
-        with cluster, distributed.Client(cluster) as own:
+        import dask
+
+        with dask.config.set(_LOCAL_WORKERS), distributed.LocalCluster(
+                n_workers=os.cpu_count() or 1, threads_per_worker=1, processes=True,
+                dashboard_address=":0") as cluster, distributed.Client(cluster) as own:
             yield own
         return
     with distributed.Client(client) as own:
@@ -233,7 +270,7 @@ def _connected(client):
 
 
 def _gathered(connection, sources, task_arguments, show: bool) -> list:
-    """Each recording's (row, band change) from one task per recording, in
+    """Each recording's (row, extras) from one task per recording, in
     input order, with a bar over recordings as they finish.
 
     A result is let go of as soon as it is gathered, so a worker that dies
@@ -243,10 +280,11 @@ def _gathered(connection, sources, task_arguments, show: bool) -> list:
     import distributed
     from tqdm.std import tqdm
 
-    content, outputs, overwrite = task_arguments
+    content, outputs, overwrite, limits = task_arguments
     count = len(sources)
     pending = {future.key: (i, future) for i, future in enumerate(connection.map(
-        _filter_recording, sources, [content] * count, outputs, [overwrite] * count, pure=False))}
+        _filter_recording, sources, [content] * count, outputs, [overwrite] * count,
+        [limits] * count, pure=False))}
     rows = [None] * count
     try:
         with tqdm(total=count, unit="recording", disable=not show) as bar:
@@ -261,43 +299,59 @@ def _gathered(connection, sources, task_arguments, show: bool) -> list:
 
 
 def _task_result(future, source: Path) -> tuple:
-    """The task's (row, band change), or a failed row if its worker died."""
+    """The task's (row, extras), or a failed row if its worker died."""
     try:
         return future.result()
     except Exception as err:  # e.g. KilledWorker: the process died running it
         error = f"{source.name}: {type(err).__name__}: {err}"
-        return [str(source), "failed", float("nan"), float("nan"), None, error, ""], None
+        return [str(source), "failed", float("nan"), float("nan"), None, error, ""], {
+            "band_change": None, "methods": None}
     finally:
         future.release()
 
 
-def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool) -> tuple:
-    """One recording filtered file to file (a Dask task): its table row and
-    its band change (None if it failed); failures become a row."""
+def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool,
+                      limits: dict) -> tuple:
+    """One recording filtered (a Dask task): its table row, and extras: its
+    band change (None if it failed or ``limits["summary"]`` is False) and its
+    methods paragraph (None if it failed). Failures become a row."""
     import mne
 
     start = time.perf_counter()
-    status, error, written, change = "filtered", None, output, None
+    status, error, written, change, text = "filtered", None, output, None, None
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         try:
             fingerprint = file_fingerprint(source)
+            pair = None  # (before, after) in memory, when the recording was filtered there
             if not overwrite and _up_to_date(output, content, fingerprint):
                 status = "up to date"
             else:
                 _remove_stale_staging(output)
                 raw = mne.io.read_raw(source, preload=False, verbose=False)
-                _write_filtered(raw, content, source, fingerprint, output)
-            change = _band_change_by_groups(source, output)
+                if _data_bytes(raw) <= limits["in_memory_bytes"]:
+                    raw.load_data(verbose=False)
+                filtered = _write_filtered(raw, content, source, fingerprint, output)
+                pair = (raw, filtered) if raw.preload else None
+            text = methods_text(pair[1] if pair else mne.io.read_raw_fif(output, verbose=False))
+            if limits["summary"]:
+                change = band_change(*pair) if pair else _band_change_by_groups(
+                    source, output, limits["in_memory_bytes"])
         except Exception as err:  # isolated: the other recordings go on
-            status, error, written = "failed", f"{source.name}: {type(err).__name__}: {err}", None
+            status, error, written, text = ("failed", f"{source.name}: {type(err).__name__}: {err}",
+                                            None, None)
     said = "\n".join(dict.fromkeys(str(w.message) for w in caught))
     peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
     return [str(source), status, time.perf_counter() - start, peak_mb, written, error,
-            said], change
+            said], {"band_change": change, "methods": text}
 
 
-def _write_filtered(raw, content: dict, source: Path, fingerprint: str, output: Path) -> None:
+def _data_bytes(raw) -> int:
+    """The size of a Raw's samples in float64."""
+    return 8 * len(raw.ch_names) * raw.n_times
+
+
+def _write_filtered(raw, content: dict, source: Path, fingerprint: str, output: Path):
     """The filtered recording and its sidecar, each written whole or not at all."""
     filtered = apply(raw, verbose=False, **recipe_from_content(content, source))
     record = {"SoftwareFilters": bids_filters(filtered),
@@ -307,6 +361,7 @@ def _write_filtered(raw, content: dict, source: Path, fingerprint: str, output: 
     filtered.save(output, overwrite=True, verbose=False)
     with atomic_output(output.with_suffix(".json")) as staged:
         staged.write_text(json.dumps(record, indent=2) + "\n", encoding="utf-8")
+    return filtered
 
 
 def _remove_stale_staging(output: Path) -> None:
@@ -317,9 +372,11 @@ def _remove_stale_staging(output: Path) -> None:
             shutil.rmtree(stale, ignore_errors=True)
 
 
-def _band_change_by_groups(source: Path, output: Path):
-    """:func:`band_change` of a recording and its output, read a few channels at a
-    time (memory bounded by the group, not the recording)."""
+def _band_change_by_groups(source: Path, output: Path, group_bytes: float):
+    """:func:`band_change` of a recording and its output, read a group of
+    channels at a time (both files' samples of a group take at most
+    ``group_bytes``, one channel at least), so memory is bounded by the
+    group, not the recording."""
     import mne
     import xarray as xr
 
@@ -327,7 +384,8 @@ def _band_change_by_groups(source: Path, output: Path):
     after = mne.io.read_raw_fif(output, preload=False, verbose=False)
     names = [after.ch_names[i] for i in mne.pick_types(after.info, meg=True, eeg=True, seeg=True,
                                                           ecog=True, dbs=True, fnirs=True)]
-    groups = [names[i : i + _CHANNELS_AT_ONCE] for i in range(0, len(names), _CHANNELS_AT_ONCE)]
+    size = max(1, int(group_bytes // (2 * 8 * after.n_times)))
+    groups = [names[i : i + size] for i in range(0, len(names), size)]
     parts = [band_change(before.copy().pick(group), after.copy().pick(group)) for group in groups]
     return xr.concat(parts, dim="channel", combine_attrs="drop_conflicts")
 
@@ -336,9 +394,10 @@ def _study_band_change(results, found, out_dir: Path):
     """Every filtered recording's band change along "recording", written as netCDF."""
     import xarray as xr
 
-    parts = [change.expand_dims(recording=[row[0]]).assign_coords(
+    parts = [extras["band_change"].expand_dims(recording=[row[0]]).assign_coords(
                  {name: ("recording", [value or ""]) for name, value in zip(_ENTITIES, entities)})
-             for (row, change), (_, _, entities) in zip(results, found) if change is not None]
+             for (row, extras), (_, _, entities) in zip(results, found)
+             if extras["band_change"] is not None]
     if not parts:
         return None
     summary = xr.concat(parts, dim="recording", join="outer", combine_attrs="drop_conflicts")
@@ -347,15 +406,14 @@ def _study_band_change(results, found, out_dir: Path):
     return summary
 
 
-def _study_methods(table, out_dir: Path) -> str:
-    """The study's methods paragraph: each realized filter once, with the recordings it served."""
-    import mne
-
+def _study_methods(table, texts, out_dir: Path) -> str:
+    """The study's methods paragraph: each realized filter once, with the
+    recordings it served (``texts``: each recording's paragraph, None if it failed)."""
     done = table[table["status"] != "failed"]
     by_text = {}
-    for source, output in zip(done["source"], done["output"]):
-        text = methods_text(mne.io.read_raw_fif(output, preload=False, verbose=False))
-        by_text.setdefault(text, []).append(Path(source).name)
+    for source, text in zip(table["source"], texts):
+        if text is not None:
+            by_text.setdefault(text, []).append(Path(source).name)
     failed = [Path(s).name for s in table.loc[table["status"] == "failed", "source"]]
     parts = [f"One filter recipe was applied to {len(done)} of the {len(table)} recordings"
              + (f"; {len(failed)} could not be filtered ({', '.join(failed)})." if failed else ".")]
@@ -403,7 +461,43 @@ def file_fingerprint(source: Path) -> str:
     return "xxh3_128:" + h.hexdigest()
 
 
-def _write_report(table, content: dict, out_dir: Path) -> None:
+def _filter_figure(content: dict, sources) -> tuple | None:
+    """The realized filter's figure as PNG bytes and its caption, at the rate of
+    the first recording whose header can be read (a Dask task); None if none can."""
+    import matplotlib.pyplot as plt
+    import mne
+
+    for source in sources:
+        try:
+            sfreq = mne.io.read_raw(source, preload=False, verbose=False).info["sfreq"]
+        except Exception:  # the recording's own task reports it
+            continue
+        realized = recipe_design(recipe_from_content(content), sfreq)
+        figure = realized.plot(show=False)
+        png = _png(figure)
+        plt.close(figure)
+        return png, f"{realized.describe()} (the recordings at {sfreq:g} Hz)"
+    return None
+
+
+def _png(figure) -> bytes:
+    import io
+
+    buffer = io.BytesIO()
+    figure.savefig(buffer, format="png", dpi=100)
+    return buffer.getvalue()
+
+
+def _figure_html(png: bytes, caption: str) -> str:
+    import base64
+    import html
+
+    return (f'<figure><img style="max-width:100%" alt="{html.escape(caption)}" '
+            f'src="data:image/png;base64,{base64.b64encode(png).decode()}">'
+            f"<figcaption>{html.escape(caption)}</figcaption></figure>")
+
+
+def _write_report(table, filter_figure, out_dir: Path) -> None:
     """The study's ``report.html`` (mne.Report), written whole or not at all."""
     import html
 
@@ -413,18 +507,12 @@ def _write_report(table, content: dict, out_dir: Path) -> None:
     from .viz import plot_study_band_change
 
     report = mne.Report(title="gainshape study", verbose=False)
-    done = table[table["status"] != "failed"]
-    if len(done):
-        sfreq = mne.io.read_raw_fif(done["output"].iloc[0], preload=False, verbose=False).info["sfreq"]
-        realized = recipe_design(recipe_from_content(content), sfreq)
-        figure = realized.plot(show=False)
-        report.add_figure(figure, title="The realized filter",
-                          caption=f"{realized.describe()} (the recordings at {sfreq:g} Hz)")
-        plt.close(figure)
+    if filter_figure is not None:
+        report.add_html(_figure_html(*filter_figure), title="The realized filter")
     if table.attrs.get("band_change") is not None:
         figure = plot_study_band_change(table.attrs["band_change"], show=False)
-        report.add_figure(figure, title="What changed, by recording and band",
-                          caption="Median over channels of the power change (dB).")
+        report.add_html(_figure_html(_png(figure), "Median over channels of the power change "
+                                     "(dB)."), title="What changed, by recording and band")
         plt.close(figure)
     report.add_html(f"<p>{html.escape(table.attrs['methods'])}</p>", title="Methods")
     shown = table.assign(source=[Path(s).name for s in table["source"]],
@@ -435,4 +523,3 @@ def _write_report(table, content: dict, out_dir: Path) -> None:
                     title="Recordings")
     with atomic_output(out_dir / "report.html") as staged:
         report.save(staged, open_browser=False, overwrite=True, verbose=False)
-

@@ -13,6 +13,7 @@ import xarray as xr
 from scipy.signal import csd, welch
 
 from ._checks import warn
+from ._spectra import welch_density
 from .adapters import as_arrays
 
 __all__ = ["band_change", "band_change_map", "observed_gain", "DEFAULT_BANDS", "spectral_settings"]
@@ -54,7 +55,7 @@ def spectral_settings(n_times: int, sfreq: float, seconds: float = _WINDOW_SECON
             "detrend": "constant", "scaling": "density", "average": "mean"}
 
 
-def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
+def band_change(before, after, bands=None, *, sfreq=None, lines=None) -> xr.Dataset:
     """Per channel and band: power before and after filtering, and the change.
 
     Parameters
@@ -69,6 +70,10 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
         a warning) those reaching above the Nyquist frequency.
     sfreq : float | None
         Sampling rate in Hz, for arrays (MNE objects carry theirs).
+    lines : xarray.Dataset | None
+        What :func:`gainshape.find_lines` found: one band per line, named
+        "line <frequency> Hz", +-1 Hz or +- the line's width if wider
+        (instead of the "line" band of ``info["line_freq"]``).
 
     Returns
     -------
@@ -99,7 +104,7 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
     True
     """
     a, b = _matched(before, after, sfreq)
-    bands, line_source = _bands(bands, a, b)
+    bands, line_source = _bands(bands, a, b, lines)
     lows = np.array([lo for lo, _ in bands.values()])
     highs = np.array([hi for _, hi in bands.values()])
     windows = [spectral_settings(a.data.shape[-1], a.sfreq, _window_seconds(lo)) for lo in lows]
@@ -111,8 +116,9 @@ def band_change(before, after, bands=None, *, sfreq=None) -> xr.Dataset:
         if not resolved[i]:
             continue
         if w["nperseg"] not in spectra:
-            freqs, p_before = welch(a.data, fs=a.sfreq, **w)
-            spectra[w["nperseg"]] = (freqs, p_before, welch(b.data, fs=a.sfreq, **w)[1])
+            freqs, p_before = welch_density(a.data, a.sfreq, w["nperseg"], w["window"])
+            p_after = welch_density(b.data, a.sfreq, w["nperseg"], w["window"])[1]
+            spectra[w["nperseg"]] = (freqs, p_before, p_after)
         freqs, p_before, p_after = spectra[w["nperseg"]]
         in_band = (freqs >= lo) & (freqs < hi)
         power_b[..., i] = p_before[..., in_band].sum(axis=-1) * freqs[1]
@@ -236,11 +242,15 @@ def _matched(before, after, sfreq):
     return a, b
 
 
-def _bands(bands, signals, after) -> tuple[dict, str]:
+def _bands(bands, signals, after, lines=None) -> tuple[dict, str]:
     """The bands checked against the data, and where the line band came from."""
     source = "given in 'bands'"
     if bands is None:
         bands, source = _default_bands(signals, after)
+        if lines is not None:
+            bands.pop("line", None)
+    if lines is not None:
+        bands, source = {**bands, **_line_bands(lines)}, "the lines found by find_lines"
     if not isinstance(bands, dict) or not bands:
         raise TypeError(
             "The 'bands' parameter must be a dict of name -> (low, high) in Hz, "
@@ -300,6 +310,22 @@ def _at_most(value: float, limit: float) -> bool:
     return value <= limit * (1 + 1e-6)
 
 
+def _line_bands(lines) -> dict:
+    """One band per line :func:`gainshape.find_lines` found.
+
+    >>> import xarray as xr
+    >>> found = xr.Dataset({"frequency": ("line", [50.0, 31.73]), "width": ("line", [0.2, 1.5])})
+    >>> _line_bands(found)
+    {'line 50 Hz': (49.0, 51.0), 'line 31.73 Hz': (30.23, 33.23)}
+    """
+    if not isinstance(lines, xr.Dataset) or not {"frequency", "width"} <= set(lines.data_vars):
+        raise TypeError("The 'lines' parameter takes what gainshape.find_lines returned; "
+                        f"a {type(lines).__name__} was given.")
+    return {f"line {f:.4g} Hz": (round(f - max(_LINE_HALF_WIDTH, w), 6),
+                                 round(f + max(_LINE_HALF_WIDTH, w), 6))
+            for f, w in zip(lines.frequency.values.tolist(), lines.width.values.tolist())}
+
+
 def _default_bands(signals, after) -> tuple[dict, str]:
     """DEFAULT_BANDS plus the line band, without those reaching above Nyquist
     (warned), and where the line band came from: ``info["line_freq"]``, else
@@ -328,7 +354,7 @@ def _attrs(a, b, method, settings=None) -> dict:
     between = [i for i in b.history_ids if i not in a.history_ids]
     attrs = {
         "sfreq": a.sfreq,
-        "spectral_method": f"scipy.signal.welch ({method})",
+        "spectral_method": f"Welch, as scipy.signal.welch ({method})",
         "window": _WINDOW,
         "overlap": 0.5,
         "history_steps_between": ", ".join(between),

@@ -20,6 +20,7 @@ __all__ = [
     "plot_band_change",
     "plot_observed_gain",
     "plot_audit",
+    "plot_lines",
 ]
 
 _LABEL_PCT = 5.0  # opposite deflections smaller than this are not labelled
@@ -494,6 +495,100 @@ def _mark_component(ax, t, alone, row):
         ax.plot([t[idx]], [alone[idx]], marker="o", color="C3", linestyle="none")
         ax.annotate(f"{pct:.0f}% {side}", (t[idx], alone[idx]), textcoords="offset points",
                     xytext=(4, -10 * np.sign(peak)), fontsize="x-small", color="C3")
+
+
+def plot_lines(found, *, show=True):
+    """The spectrum, its background and the lines :func:`gainshape.find_lines` found.
+
+    Top: the median spectrum over channels (a line) within the spread of
+    the channels (10th to 90th percentile, shaded) and the median background
+    (dashed), in dB on a log-frequency axis; each line found is marked
+    above its peak with its frequency and height. Bottom: the typical excess
+    over the background (dB) with the threshold a line must pass.
+
+    Parameters
+    ----------
+    found : xarray.Dataset
+        What :func:`gainshape.find_lines` returned.
+    show : bool
+        Call ``plt.show()`` (False in scripts that save the figure).
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+
+    See Also
+    --------
+    gainshape.find_lines, gainshape.suggest_notches
+
+    Examples
+    --------
+    >>> import numpy as np, gainshape as gs
+    >>> t = np.arange(60 * 250) / 250.0
+    >>> x = np.random.default_rng(0).standard_normal((4, t.size)) + np.sin(2 * np.pi * 50 * t)
+    >>> fig = plot_lines(gs.find_lines(x, sfreq=250.0), show=False)
+    >>> fig.axes[0].texts[0].get_text().splitlines()
+    ['50.00 Hz', '+26.3 dB']
+    """
+    import matplotlib.pyplot as plt
+
+    _check_result(found, "found", ("psd", "background", "height_db"), "gainshape.find_lines")
+    freqs = found.freq.values
+    keep = freqs > 0
+    unit = found.psd.attrs.get("units", "")
+    scale, unit_db = (1e12, "dB re 1 µV²/Hz") if unit.startswith("V") else (1.0, "dB re 1 unit²/Hz")
+    psd_db = _power_db(found.psd.values[:, keep] * scale)
+    fig, (ax, ax_excess) = plt.subplots(2, 1, figsize=(9, 5.5), sharex=True, layout="constrained",
+                                        height_ratios=(3, 1.3))
+    low, high = np.percentile(psd_db, [10, 90], axis=0)
+    ax.fill_between(freqs[keep], low, high, color="C0", alpha=0.18, linewidth=0,
+                    label="channels, 10th-90th percentile")
+    ax.semilogx(freqs[keep], np.median(psd_db, axis=0), color="C0", linewidth=0.9,
+                label="median over channels")
+    ax.semilogx(freqs[keep], _power_db(np.median(found.background.values[:, keep], axis=0) * scale),
+                color="0.25", linestyle="--", linewidth=1.0, label="background (running median)")
+    top = np.max(high)
+    for f, h, row in zip(found.frequency.values, found.height_db.values,
+                         _label_rows(found.frequency.values)):
+        ax.plot([f], [top + 3], marker="v", color="C3", markersize=6)
+        ax.annotate(f"{f:.2f} Hz\n+{h:.1f} dB", (f, top + 3), xytext=(0, 7 + 22 * row),
+                    textcoords="offset points", ha="center", fontsize="x-small", color="C3")
+    ax.set_ylim(top=top + 22)
+    ax.set_ylabel(f"power ({unit_db})")
+    ax.legend(loc="lower left", fontsize="small")
+    ax.grid(True, which="both", alpha=0.3)
+    typical_db = _power_db(np.quantile(found.psd.values[:, keep] / found.background.values[:, keep],
+                                       1 - found.attrs["presence"], axis=0))
+    ax_excess.semilogx(freqs[keep], typical_db, color="C0", linewidth=0.8)
+    ax_excess.axhline(found.attrs["threshold_db"], color="C3", linestyle=":",
+                      label=f"threshold {found.attrs['threshold_db']:.1f} dB")
+    low_edge, high_edge = found.attrs["freq_range"]
+    ax_excess.axvspan(freqs[keep][0], low_edge, color="0.85", linewidth=0)
+    ax_excess.axvspan(high_edge, freqs[-1], color="0.85", linewidth=0)
+    ax_excess.set_ylabel("excess (dB)")
+    ax_excess.set_xlabel("frequency (Hz)")
+    ax_excess.legend(loc="upper left", fontsize="small")
+    ax_excess.grid(True, which="both", alpha=0.3)
+    _title(fig, f"{found.sizes['line']} line(s) found; spectrum: {found.attrs['window']}, "
+                f"{found.attrs['segments']} segments averaged")
+    if show:
+        plt.show()
+    return fig
+
+
+def _label_rows(freqs, apart=0.25) -> list:
+    """Row (0 or 1) of each label on a log-frequency axis: a label closer than
+    ``apart`` decades to the previous one in its row goes to the other row.
+
+    >>> _label_rows([31.7, 50.0, 63.4, 100.0, 150.0])
+    [0, 1, 0, 1, 0]
+    """
+    rows, last = [], [-np.inf, -np.inf]
+    for f in np.log10(freqs):
+        row = 0 if f - last[0] >= apart else 1
+        rows.append(row)
+        last[row] = f
+    return rows
 
 
 def _title(fig, text, width=110):

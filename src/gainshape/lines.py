@@ -1,0 +1,439 @@
+"""Narrow lines in a recording's spectrum: mains hum and other interference,
+found and measured before anything is filtered, and the notch comb that
+removes exactly them.
+
+Vocabulary: each channel's *spectrum* is its Welch power density (Hann
+windows of ``1 / resolution`` seconds, 50 % overlap). Its *background* is
+the broadband part: a running median of the spectrum over a window 8x as
+wide as the widest line, scaled from median to mean for the spread of a
+Welch estimate. The *excess* is spectrum / background; the *typical excess*
+at a frequency is its ``1 - presence`` quantile over channels (the median
+for ``presence=0.5``: at least half the channels stand that high). A *line*
+is a run of frequencies whose typical excess passes the threshold, at most
+``max_width`` wide at half its height.
+
+Why a running median: a line covers at most an eighth of the window, so the
+median passes under it; EEG's broadband spectrum is smooth and mostly
+monotone over a few hertz, and the median of a monotone run is its middle
+value, so the background follows the 1/f slope without bias. Broad peaks
+such as alpha stand out of so wide a window nearly whole, and are wider
+than any line (an alpha peak narrower than ``max_width`` at half height
+would pass for one).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import xarray as xr
+from scipy import ndimage, stats
+
+from ._checks import check_positive, warn
+from ._spectra import welch_density
+from .adapters import as_arrays
+from .curves import GainCurve, comb
+
+__all__ = ["find_lines", "suggest_notches"]
+
+_WINDOW = "hann"  # main lobe +-2 bins: the finest resolution for a segment length
+_HALF_HEIGHT_NARROW_BINS = 3.0  # up to this width a line is a tone: its peak is interpolated
+_WINDOW_WIDTHS = 4.0  # the background's median runs over +- this many max_width
+_MIN_SEGMENTS_WARNED = 8  # fewer averaged segments: a noisy spectrum, weak lines are missed
+
+
+def find_lines(inst, *, sfreq=None, resolution=None, freq_range=(1.0, None),
+               min_height_db: float = 5.0, max_width: float = 1.0, presence: float = 0.5,
+               chance: float = 0.01) -> xr.Dataset:
+    """Find narrow lines (mains hum, equipment) in the data channels' spectra.
+
+    Parameters
+    ----------
+    inst : Raw | Epochs | Evoked | ndarray
+        The recording before filtering; arrays are (channels, times) and
+        need ``sfreq``. Epochs' spectra are averaged over epochs.
+    sfreq : float | None
+        Sampling rate in Hz, for arrays.
+    resolution : float | None
+        Spacing of the spectrum's frequencies in Hz: Hann windows of
+        ``1 / resolution`` seconds. None: 0.1 Hz, or coarser when a record
+        (an epoch) is shorter than 10 s. A finer resolution separates close
+        lines and locates them better but needs longer records.
+    freq_range : (float, float | None)
+        Where to look, in Hz (None: up to 98 % of the Nyquist frequency).
+    min_height_db : float
+        The least typical excess of a line, in dB above the background.
+    max_width : float
+        The widest a line may be at half its height, in Hz; broader peaks
+        (alpha, beta) are not lines.
+    presence : float
+        The fraction of channels (0 to 1) in which a line must stand out.
+    chance : float
+        How many lines background fluctuations alone may produce per
+        spectrum, on average: the threshold is raised above
+        ``min_height_db`` when the spectrum averages few segments.
+
+    Returns
+    -------
+    xarray.Dataset
+        Dimension ``line`` (by frequency): ``frequency`` (Hz, the
+        interpolated peak of a tone or the middle of a wider line),
+        ``height_db`` (the typical excess at the peak), ``width`` (Hz, full
+        width at half the excess power; a steady tone shows the window's
+        1.44 bins), ``harmonic_of`` (the lowest line found it is a whole
+        multiple of, else NaN), ``n_channels`` and ``present`` (line x
+        channel: the channel's own excess at the line passes half the
+        threshold, in dB). Also
+        ``psd`` and ``background`` (channel x ``freq``). Attrs: the settings,
+        ``threshold_db``, ``segments``, ``sfreq`` and ``line_freq`` (from
+        ``info``, NaN if missing).
+
+    Raises
+    ------
+    ValueError
+        Before any spectrum is estimated: records shorter than one window at
+        the ``resolution`` asked, a ``freq_range`` beyond the Nyquist
+        frequency or empty, parameters out of range.
+
+    See Also
+    --------
+    suggest_notches, plot_lines, notch
+
+    Examples
+    --------
+    >>> import numpy as np, gainshape as gs
+    >>> t = np.arange(60 * 250) / 250.0
+    >>> x = np.random.default_rng(0).standard_normal((4, t.size)) + np.sin(2 * np.pi * 50 * t)
+    >>> found = gs.find_lines(x, sfreq=250.0)
+    >>> [round(float(f), 2) for f in found.frequency]
+    [50.0]
+    """
+    presence = _check_fraction("presence", presence)
+    chance = check_positive("chance", chance)
+    min_height_db = check_positive("min_height_db", min_height_db)
+    max_width = check_positive("max_width", max_width)
+    signals = as_arrays(inst, sfreq=sfreq)
+    nperseg, resolution = _window(signals, resolution)
+    band = _band(freq_range, signals.sfreq, resolution)
+    freqs, psd = welch_density(signals.data, signals.sfreq, nperseg, _WINDOW)
+    if psd.ndim == 3:  # epochs: their spectra averaged
+        psd = psd.mean(axis=0)
+    segments = _segment_count(signals.data, nperseg)
+    dof = _degrees_of_freedom(nperseg, segments, n_records=_records(signals.data))
+    averaged = segments * _records(signals.data)
+    if averaged < _MIN_SEGMENTS_WARNED:
+        warn(f"The spectrum averages only {averaged} segment{'s' if averaged > 1 else ''} of "
+             f"{nperseg / signals.sfreq:g} s: the threshold rises to keep chance lines out "
+             "and weak lines may be missed; a coarser 'resolution' averages more.")
+    background = _background(psd, freqs, max_width, dof)
+    searched = (freqs >= band[0]) & (freqs <= band[1])
+    threshold = _threshold(min_height_db, chance, int(searched.sum()), dof)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        excess = psd / background
+    typical = np.quantile(excess, 1.0 - presence, axis=0)
+    found = [_measure(typical, freqs, run, threshold) for run in _runs(typical, searched, threshold)]
+    found = [line for line in found if line["width"] <= max_width]
+    return _dataset(found, excess, threshold, {
+        "signals": signals, "freqs": freqs, "psd": psd, "background": background,
+        "settings": {"resolution": resolution, "window": f"{_WINDOW}, {nperseg} samples, "
+                     "50 % overlap", "freq_range": list(band), "min_height_db": min_height_db,
+                     "max_width": max_width, "presence": presence, "chance": chance},
+        "segments": averaged})
+
+
+def suggest_notches(found: xr.Dataset, *, margin: float = 2.0, min_width: float = 0.5,
+                    rolloff: float = 24.0) -> GainCurve:
+    """The notch comb that removes the lines :func:`find_lines` found, and only them.
+
+    Parameters
+    ----------
+    found : xarray.Dataset
+        What :func:`find_lines` returned (edit it first to drop a line).
+    margin : float
+        Each notch's width (between its half-amplitude points) is this many
+        times the line's width, and at least ``min_width``.
+    min_width : float
+        The narrowest notch, in Hz (narrower notches need longer kernels).
+    rolloff : float
+        Steepness of each notch's sides (dB/octave); at 24 the gain stays
+        below 0.1 (-20 dB) over the middle 64 % of the notch's width.
+
+    Returns
+    -------
+    GainCurve
+        One notch per line found (harmonics that did not stand out get
+        none). Its ``reasons`` say why each notch is there and whether
+        ``info["line_freq"]`` is missing or disagrees with the lines; its
+        recipe records the detection settings, so the filter's history
+        says where the notches came from.
+
+    See Also
+    --------
+    find_lines, notch
+
+    Examples
+    --------
+    >>> import numpy as np, gainshape as gs
+    >>> t = np.arange(60 * 250) / 250.0
+    >>> x = np.random.default_rng(0).standard_normal((4, t.size)) + np.sin(2 * np.pi * 50 * t)
+    >>> comb = gs.suggest_notches(gs.find_lines(x, sfreq=250.0))
+    >>> print(comb.reasons[0][:46])
+    notch at 50.00 Hz, 0.5 Hz wide: a line 26.0 dB
+    """
+    margin = check_positive("margin", margin)
+    min_width = check_positive("min_width", min_width)
+    rolloff = check_positive("rolloff", rolloff)
+    if not isinstance(found, xr.Dataset) or "height_db" not in found:
+        raise TypeError("The 'found' parameter takes what gainshape.find_lines returned; "
+                        f"a {type(found).__name__} was given.")
+    if found.sizes["line"] == 0:
+        raise ValueError("No line was found, so there is nothing to notch; lower "
+                         "'min_height_db' in find_lines to look for weaker lines.")
+    freqs = [float(f) for f in found.frequency.values]
+    widths = [max(min_width, margin * float(w)) for w in found.width.values]
+    reasons = [_reason(found, i, w) for i, w in enumerate(widths)]
+    reasons.append(_line_freq_note(found))
+    origin = {"found_by": "gainshape.find_lines", "settings": _plain(found.attrs),
+              "reasons": reasons}
+    return comb(freqs, widths, rolloff=rolloff, origin=origin)
+
+
+def _check_fraction(name, value) -> float:
+    value = check_positive(name, value)
+    if value > 1:
+        raise ValueError(f"The '{name}' parameter takes a fraction between 0 and 1; "
+                         f"{value!r} was given.")
+    return value
+
+
+def _records(data) -> int:
+    return data.shape[0] if data.ndim == 3 else 1
+
+
+def _window(signals, resolution) -> tuple[int, float]:
+    """Window length (samples) and the resolution it gives, checked against the record."""
+    n_times, sfreq = signals.data.shape[-1], signals.sfreq
+    seconds = n_times / sfreq
+    if resolution is None:
+        resolution = max(0.1, 1.0 / seconds)
+    resolution = check_positive("resolution", resolution)
+    nperseg = int(round(sfreq / resolution))
+    if nperseg > n_times:
+        what = "epochs are" if signals.data.ndim == 3 else "record is"
+        raise ValueError(f"The 'resolution' of {resolution:g} Hz needs records of at least "
+                         f"{1 / resolution:g} s, but the {what} {seconds:g} s long; "
+                         f"ask for {1 / seconds:.3g} Hz or coarser.")
+    return nperseg, sfreq / nperseg
+
+
+def _band(freq_range, sfreq, resolution) -> tuple[float, float]:
+    nyquist = sfreq / 2.0
+    try:
+        low, high = freq_range
+    except (TypeError, ValueError):
+        raise ValueError("The 'freq_range' parameter takes (low, high) in Hz (high may be "
+                         f"None); {freq_range!r} was given.") from None
+    high = 0.98 * nyquist if high is None else float(high)
+    low = float(low)
+    if high > nyquist:
+        raise ValueError(f"The 'freq_range' reaches {high:g} Hz, beyond the Nyquist frequency "
+                         f"({nyquist:g} Hz); nothing above it is in the data.")
+    if not 0 <= low < high - 4 * resolution:
+        raise ValueError(f"The 'freq_range' ({low:g}, {high:g}) Hz must run upwards from 0 Hz "
+                         f"over more than 4 bins of {resolution:g} Hz.")
+    return low, high
+
+
+def _segment_count(data, nperseg) -> int:
+    step = nperseg - nperseg // 2
+    return (data.shape[-1] - nperseg) // step + 1
+
+
+def _degrees_of_freedom(nperseg: int, segments: int, n_records: int) -> float:
+    """Equivalent degrees of freedom of a Welch average (Hann, 50 % overlap).
+
+    nu = 2K / (1 + 2 sum_m (1 - m/K) rho(m)^2), rho(m) the window's overlap
+    correlation at a shift of m steps (Percival & Walden 1993, from memory);
+    records (epochs) are independent, so their dofs add.
+
+    >>> round(float(_degrees_of_freedom(1000, 1, 1)), 2), round(float(_degrees_of_freedom(1000, 21, 1)), 1)
+    (2.0, 39.9)
+    """
+    from scipy.signal import get_window
+
+    w = get_window(_WINDOW, nperseg)
+    step = nperseg - nperseg // 2
+    energy = np.sum(w**2)
+    rho = [np.sum(w[m * step :] * w[: nperseg - m * step]) / energy
+           for m in range(1, min(segments, -(-nperseg // step)))]
+    denominator = 1 + 2 * sum((1 - m / segments) * r**2 for m, r in enumerate(rho, start=1))
+    return n_records * 2 * segments / denominator
+
+
+def _background(psd, freqs, max_width, dof) -> np.ndarray:
+    """Running median over +-4 ``max_width`` Hz (symmetric, shrinking near 0
+    Hz and Nyquist), raised from median to mean of a chi-square(dof)/dof."""
+    half = max(1, int(round(_WINDOW_WIDTHS * max_width / freqs[1])))
+    median = ndimage.median_filter(psd, size=(1, 2 * half + 1), mode="nearest")
+    n = psd.shape[-1]
+    for i in list(range(1, half)) + list(range(n - half, n - 1)):
+        k = min(i - 1, n - 2 - i)  # the widest symmetric window inside bins 1..n-2
+        median[:, i] = np.median(psd[:, i - k : i + k + 1], axis=-1)
+    median[:, [0, -1]] = median[:, [1, -2]]
+    return median / (stats.chi2.median(dof) / dof)
+
+
+def _threshold(min_height_db, chance, n_searched, dof) -> float:
+    """The typical excess (ratio) a line must pass: ``min_height_db``, or
+    higher where a single channel's background alone would pass it more than
+    ``chance`` times in the searched bins."""
+    by_chance = stats.chi2.isf(chance / max(n_searched, 1), dof) / dof
+    return max(10 ** (min_height_db / 10), by_chance)
+
+
+def _runs(typical, searched, threshold) -> list:
+    """Runs of bins (start, stop) above the threshold inside the searched range,
+    widened to where the excess falls below half the threshold (in dB)."""
+    above = np.flatnonzero(searched & (typical >= threshold))
+    if above.size == 0:
+        return []
+    lower = np.sqrt(threshold)
+    runs = []
+    for piece in np.split(above, np.flatnonzero(np.diff(above) > 1) + 1):
+        start, stop = piece[0], piece[-1] + 1
+        while start > 1 and typical[start - 1] >= lower:
+            start -= 1
+        while stop < typical.size - 1 and typical[stop] >= lower:
+            stop += 1
+        if runs and start <= runs[-1][1]:  # joined through a dip above half the threshold
+            runs[-1] = (runs[-1][0], stop)
+        else:
+            runs.append((start, stop))
+    return runs
+
+
+def _measure(typical, freqs, run, threshold) -> dict:
+    """A line's frequency, height and width from the typical excess in its run."""
+    start, stop = run
+    excess = typical[start:stop] - 1.0
+    peak = start + int(np.argmax(excess))
+    top = typical[peak] - 1.0
+    left, right = _half_height_edges(typical - 1.0, freqs, peak, top, start, stop)
+    width = right - left
+    df = freqs[1]
+    if width <= _HALF_HEIGHT_NARROW_BINS * df and 0 < peak < typical.size - 1:
+        shift, top = _parabola_peak(np.log(np.maximum(typical[peak - 1 : peak + 2] - 1.0,
+                                                      1e-12)))
+        frequency = freqs[peak] + shift * df
+    else:
+        frequency = 0.5 * (left + right)
+    return {"frequency": frequency, "height_db": 10 * np.log10(1.0 + top), "width": width,
+            "peak_bin": peak, "bins": (start, stop)}
+
+
+def _half_height_edges(excess, freqs, peak, top, start, stop) -> tuple[float, float]:
+    """Where the excess falls to half ``top`` on either side, interpolated
+    linearly between bins (the outermost crossing inside the run)."""
+    half = top / 2.0
+    inside = np.flatnonzero(excess[start:stop] >= half) + start
+    lo, hi = inside[0], inside[-1]
+
+    def crossing(a, b):  # between bins a (below half) and b (above)
+        if excess[a] >= half:
+            return freqs[a]
+        return freqs[a] + (half - excess[a]) / (excess[b] - excess[a]) * (freqs[b] - freqs[a])
+
+    return crossing(lo - 1, lo), crossing(hi + 1, hi)
+
+
+def _parabola_peak(values) -> tuple[float, float]:
+    """Offset (bins) and height (exp of the value) of the parabola's top
+    through three equally spaced log values.
+
+    >>> shift, top = _parabola_peak(np.log([1.0, 4.0, 1.0]))
+    >>> abs(shift), float(top)
+    (0.0, 4.0)
+    """
+    a, b, c = values
+    curvature = a - 2 * b + c
+    shift = 0.0 if curvature >= 0 else 0.5 * (a - c) / curvature
+    shift = float(np.clip(shift, -0.5, 0.5))
+    return shift, float(np.exp(b - 0.25 * (a - c) * shift))
+
+
+def _harmonics(frequencies, tolerance) -> list:
+    """For each line (ascending), the lowest earlier fundamental it is a whole
+    multiple (2 or more) of, within ``tolerance`` x the multiple; else NaN.
+
+    >>> _harmonics([50.0, 100.02, 131.0, 150.0], 0.05)
+    [nan, 50.0, nan, 50.0]
+    """
+    out = []
+    for f in frequencies:
+        match = np.nan
+        for fundamental, of in zip(frequencies, out):
+            if fundamental >= f or not np.isnan(of):
+                continue
+            n = round(f / fundamental)
+            if n >= 2 and abs(f - n * fundamental) <= tolerance * n:
+                match = fundamental
+                break
+        out.append(match)
+    return out
+
+
+def _dataset(found, excess, threshold, parts) -> xr.Dataset:
+    signals, freqs = parts["signals"], parts["freqs"]
+    frequency = [line["frequency"] for line in found]
+    present = np.array([excess[:, line["peak_bin"]] >= np.sqrt(threshold) for line in found],
+                       dtype=bool).reshape(len(found), len(signals.ch_names))
+    tolerance = max(0.05, freqs[1] / 2)
+    line_freq = signals.line_freq if signals.line_freq else np.nan
+    return xr.Dataset(
+        {
+            "frequency": ("line", np.array(frequency, float), {"units": "Hz"}),
+            "height_db": ("line", np.array([line["height_db"] for line in found], float),
+                          {"units": "dB", "long_name": "typical excess over the background"}),
+            "width": ("line", np.array([line["width"] for line in found], float),
+                      {"units": "Hz", "long_name": "full width at half the excess power"}),
+            "harmonic_of": ("line", np.array(_harmonics(frequency, tolerance), float),
+                            {"units": "Hz"}),
+            "n_channels": ("line", present.sum(axis=1)),
+            "present": (("line", "channel"), present),
+            "psd": (("channel", "freq"), parts["psd"], {"units": f"{signals.unit}^2/Hz"}),
+            "background": (("channel", "freq"), parts["background"],
+                           {"units": f"{signals.unit}^2/Hz"}),
+        },
+        coords={"line": np.arange(len(found)), "channel": signals.ch_names, "freq": freqs},
+        attrs={**parts["settings"], "threshold_db": 10 * np.log10(threshold),
+               "segments": parts["segments"], "sfreq": signals.sfreq,
+               "line_freq": float(line_freq), "kind": signals.kind},
+    )
+
+
+def _reason(found, i, notch_width) -> str:
+    line = found.isel(line=i)
+    harmonic = float(line.harmonic_of)
+    of = f", harmonic of {harmonic:.2f} Hz" if np.isfinite(harmonic) else ""
+    return (f"notch at {float(line.frequency):.2f} Hz, {notch_width:.2g} Hz wide: a line "
+            f"{float(line.height_db):.1f} dB above the background, {float(line.width):.2g} Hz "
+            f"wide, in {int(line.n_channels)} of {found.sizes['channel']} channels{of}")
+
+
+def _line_freq_note(found) -> str:
+    """Whether ``info["line_freq"]`` agrees with the lines found."""
+    stated = found.attrs["line_freq"]
+    mains = [float(f) for f in found.frequency.values if abs(f - 50) <= 0.5 or abs(f - 60) <= 0.5]
+    seen = f"mains at {mains[0]:.2f} Hz" if mains else "no line at 50 or 60 Hz"
+    if not np.isfinite(stated):
+        return f"info['line_freq'] is missing; the data show {seen}"
+    if mains and abs(mains[0] - stated) <= 0.5:
+        return f"info['line_freq'] ({stated:g} Hz) agrees with the lines found"
+    return f"info['line_freq'] says {stated:g} Hz, but the data show {seen}"
+
+
+def _plain(attrs) -> dict:
+    """Dataset attrs as JSON-ready values (NaN as None)."""
+    out = {}
+    for key, value in attrs.items():
+        value = value.tolist() if hasattr(value, "tolist") else value
+        out[key] = None if isinstance(value, float) and not np.isfinite(value) else value
+    return out
