@@ -216,7 +216,7 @@ class GainCurve:  # numpydoc ignore=PR01
     @property
     def reasons(self) -> tuple[str, ...]:
         """Why the curve has its shape, for curves proposed from data (such as
-        :func:`gainshape.suggest_notches`); empty otherwise.
+        :func:`gainshape.suggest_notches`, also inside products); empty otherwise.
 
         See Also
         --------
@@ -227,8 +227,7 @@ class GainCurve:  # numpydoc ignore=PR01
         >>> lowpass(30.0).reasons
         ()
         """
-        recipe = self.recipe or {}
-        return tuple((recipe.get("origin") or {}).get("reasons", ()))
+        return tuple(_reasons(self.recipe or {}))
 
     # -- evaluation and algebra ----------------------------------------------
     def __call__(self, freqs) -> np.ndarray:
@@ -750,6 +749,13 @@ def _describe(r: Mapping) -> str:
     if kind == "product":
         return " x ".join(f"({_describe(f)})" for f in r["factors"])
     return f"1 - ({_describe(r['curve'])})"
+
+
+def _reasons(r: Mapping) -> list:
+    """The reasons in a recipe's origin, its factors' and its complement's, in order."""
+    own = list((r.get("origin") or {}).get("reasons", ()))
+    inner = [*r.get("factors", ()), *([r["curve"]] if "curve" in r else [])]
+    return own + [reason for part in inner for reason in _reasons(part)]
 
 
 def _fit_below(r: dict, nyquist: float, notes: list) -> dict:

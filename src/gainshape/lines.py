@@ -176,7 +176,7 @@ def suggest_notches(found: xr.Dataset, *, margin: float = 2.0, min_width: float 
     >>> x = np.random.default_rng(0).standard_normal((4, t.size)) + np.sin(2 * np.pi * 50 * t)
     >>> comb = gs.suggest_notches(gs.find_lines(x, sfreq=250.0))
     >>> print(comb.reasons[0][:46])
-    notch at 50.00 Hz, 0.5 Hz wide: a line 26.0 dB
+    notch at 50.00 Hz, 0.5 Hz wide: a line 26.3 dB
     """
     margin = check_positive("margin", margin)
     min_width = check_positive("min_width", min_width)

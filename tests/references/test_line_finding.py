@@ -146,3 +146,16 @@ def test_too_short_a_record_or_a_range_beyond_nyquist_is_refused():
         gs.find_lines(x, sfreq=250.0, freq_range=(1.0, 200.0))
     with pytest.raises(ValueError, match="'presence' parameter takes a fraction"):
         gs.find_lines(x, sfreq=250.0, presence=2.0)
+
+
+def test_the_background_is_the_mean_density_not_the_median():
+    # White noise of variance 1 sampled at fs has the one-sided density 2 / fs, the expected
+    # value of its Welch estimate (Bendat & Piersol, Random Data, from memory). A running
+    # median of a 30 s record's spectrum (5 segments) sits about 0.3 dB below it.
+    sfreq = 250.0
+    x = np.random.default_rng(7).standard_normal((8, int(30 * sfreq)))
+    with pytest.warns(gs.GainshapeWarning, match="averages only 5 segments"):
+        found = gs.find_lines(x, sfreq=sfreq, resolution=0.1)
+    middle = (found.freq >= 10) & (found.freq <= 100)
+    level_db = 10 * np.log10(float(found.background.where(middle).mean()) / (2 / sfreq))
+    assert abs(level_db) < 0.1, level_db
