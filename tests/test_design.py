@@ -227,3 +227,22 @@ def test_long_kernel_gets_a_note():
     assert f.characteristics.length > 60
     assert any(n.startswith(f"the kernel is {f.characteristics.length:.0f} s long") for n in f.notes)
     assert not gs.design(gs.highpass(0.5), 1000.0).notes
+
+
+def test_the_same_request_is_designed_once_and_warns_each_time():
+    curve, request = gs.lowpass(30.0, rolloff=48.0), dict(kernel=0.05)  # too short: it warns
+    with pytest.warns(gs.GainshapeWarning, match="realizes the request only to") as first:
+        a = gs.design(curve, 250.0, **request)
+    with pytest.warns(gs.GainshapeWarning, match="realizes the request only to") as again:
+        b = gs.design(gs.GainCurve.from_dict(curve.to_dict()), 250.0, **request)  # equal curve
+    assert b is a and b.kernel is a.kernel  # reused, not designed again
+    assert [str(w.message) for w in again] == [str(w.message) for w in first]
+    assert gs.design(curve, 250.0, kernel=0.2) is not a  # other options: another design
+    assert gs.design(curve, 500.0, **request) is not a  # another rate: another design
+
+
+def test_curves_from_bare_callables_are_designed_every_time():
+    import numpy as np
+
+    curve = gs.GainCurve(lambda f: np.exp(-f / 40.0))
+    assert gs.design(curve, 250.0) is not gs.design(curve, 250.0)

@@ -215,8 +215,10 @@ class GainCurve:  # numpydoc ignore=PR01
 
     @property
     def reasons(self) -> tuple[str, ...]:
-        """Why the curve has its shape, for curves proposed from data (such as
-        :func:`gainshape.suggest_notches`, also inside products); empty otherwise.
+        """Why the curve has its shape, for curves proposed from data.
+
+        Curves from :func:`gainshape.suggest_notches` (also inside products)
+        carry a reason per part; other curves have none.
 
         See Also
         --------

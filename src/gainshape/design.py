@@ -10,6 +10,8 @@ reaches on each side of t = 0, which is how much padding the engine needs.
 from __future__ import annotations
 
 import html
+import threading
+from collections import OrderedDict
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -26,6 +28,8 @@ __all__ = ["design", "FilterDesign"]
 
 KERNEL_WORDS = ("shortest", "exact")  # the words design's ``kernel`` accepts besides seconds
 _LONG_KERNEL_SECONDS = 60.0  # longer kernels get a note
+_KEPT_DESIGNS = 32  # designs kept for reuse, the most recently used first ...
+_KEPT_KERNEL_BYTES = 64 * 2**20  # ... while their kernels take at most this much
 
 
 @dataclass(frozen=True, slots=True)
@@ -440,9 +444,22 @@ def design(
     causal = check_bool("causal", causal)
     tolerance = check_positive("tolerance", tolerance, below=1.0)
     kernel_request = check_kernel_request(kernel)
+    # curves with a recipe are equal (and hash alike) when their recipes are
+    key = None if curve.recipe is None else (curve, sfreq, causal, kernel_request, tolerance)
+    realized, said = _DESIGNS.get(key) or _realized(curve, sfreq, causal, kernel_request,
+                                                    tolerance)
+    _DESIGNS.put(key, (realized, said))
+    for message in said:  # a reused design says again what it said when it was made
+        warn(message)
+    return realized
+
+
+def _realized(curve, sfreq, causal, kernel_request, tolerance) -> tuple:
+    """The design of a checked request and the warnings it has for the user."""
+    said = []
     exact = kernel_request == "exact"
     curve, notes = curve.below_nyquist(sfreq / 2.0)
-    _check_not_flat(curve, sfreq)
+    said += _not_flat(curve, sfreq)
 
     fixed = not isinstance(kernel_request, str)
     n_taps = _requested_taps(kernel_request, sfreq) if fixed else None
@@ -465,7 +482,7 @@ def design(
     chars = characterize(curve, response, tolerance, exact, deviation)
     taps.setflags(write=False)
     if not fixed and chars.max_deviation > tolerance:
-        warn(
+        said.append(
             f"The longest kernel this design allows ({taps.size / sfreq:.4g} s) realizes the "
             f"request only to within {chars.max_deviation:.3g} (tolerance {tolerance:g}); "
             f"pass tolerance={_round_up(chars.max_deviation)} to accept it, or use a gentler "
@@ -477,7 +494,7 @@ def design(
                    "to meet it.")
         except ValueError:
             fix = "no kernel length meets it: the request has a jump or a kink."
-        warn(
+        said.append(
             f"A kernel of {taps.size / sfreq:.3g} s realizes the request only to "
             f"within {chars.max_deviation:.3g} (tolerance {tolerance:g}); {fix}"
         )
@@ -485,11 +502,47 @@ def design(
         notes += (f"the kernel is {chars.length:.0f} s long (over {_LONG_KERNEL_SECONDS:g} s): "
                   "records shorter than a few times that are mostly padding where it reaches; "
                   "a gentler or higher low-frequency edge shortens it",)
-    return FilterDesign(curve, sfreq, causal, kernel_request, tolerance, taps, offset, chars, notes)
+    realized = FilterDesign(curve, sfreq, causal, kernel_request, tolerance, taps, offset, chars,
+                            notes)
+    return realized, tuple(said)
 
 
-def _check_not_flat(curve, sfreq):
-    """Refuse a request that removes everything; warn about one that only scales."""
+class _DesignStore:
+    """The most recently used designs, by request, within a count and a size.
+
+    >>> store = _DesignStore(count=2, kernel_bytes=10**6)
+    >>> store.put(None, "never kept"); store.get(None) is None
+    True
+    """
+
+    def __init__(self, count: int, kernel_bytes: int):
+        self.count, self.kernel_bytes = count, kernel_bytes
+        self.kept, self.lock = OrderedDict(), threading.Lock()
+
+    def get(self, key):
+        with self.lock:
+            if key is None or key not in self.kept:
+                return None
+            self.kept.move_to_end(key)
+            return self.kept[key]
+
+    def put(self, key, value) -> None:
+        if key is None:
+            return
+        with self.lock:
+            self.kept[key] = value
+            self.kept.move_to_end(key)
+            while len(self.kept) > self.count or (
+                    len(self.kept) > 1 and sum(v[0].kernel.nbytes for v in self.kept.values())
+                    > self.kernel_bytes):
+                self.kept.popitem(last=False)
+
+
+_DESIGNS = _DesignStore(_KEPT_DESIGNS, _KEPT_KERNEL_BYTES)
+
+
+def _not_flat(curve, sfreq) -> list:
+    """Refuse a request that removes everything; say so of one that only scales."""
     gain = _validated_gain(curve, np.linspace(0.0, sfreq / 2.0, 4097))
     if gain.max() == 0.0:
         raise ValueError(
@@ -497,11 +550,10 @@ def _check_not_flat(curve, sfreq):
             "would remove everything. Draw gains above 0 where the signal should pass."
         )
     if np.ptp(gain) == 0.0:
-        warn(
-            f"The gain curve {curve!r} is constant ({gain[0]:g}) from 0 Hz to Nyquist "
-            f"({sfreq / 2:g} Hz) at this rate: the filter only scales the data. Are its "
-            "features above Nyquist?",
-        )
+        return [f"The gain curve {curve!r} is constant ({gain[0]:g}) from 0 Hz to Nyquist "
+                f"({sfreq / 2:g} Hz) at this rate: the filter only scales the data. Are its "
+                "features above Nyquist?"]
+    return []
 
 
 def _round_up(value: float) -> float:

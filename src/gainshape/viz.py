@@ -516,6 +516,7 @@ def plot_lines(found, *, show=True):
     Returns
     -------
     matplotlib.figure.Figure
+        The figure: the spectrum panel above, the excess panel below.
 
     See Also
     --------
