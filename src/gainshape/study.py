@@ -497,6 +497,10 @@ def _figure_html(png: bytes, caption: str) -> str:
             f"<figcaption>{html.escape(caption)}</figcaption></figure>")
 
 
+_TABLE_STYLE = ("<style>.gs-recordings td {white-space: nowrap} .gs-recordings td:last-child "
+                "{white-space: normal; overflow-wrap: anywhere}</style>")  # long errors wrap
+
+
 def _write_report(table, filter_figure, out_dir: Path) -> None:
     """The study's ``report.html`` (mne.Report), written whole or not at all."""
     import html
@@ -517,9 +521,15 @@ def _write_report(table, filter_figure, out_dir: Path) -> None:
     report.add_html(f"<p>{html.escape(table.attrs['methods'])}</p>", title="Methods")
     shown = table.assign(source=[Path(s).name for s in table["source"]],
                          output=[Path(o).name if o is not None else "" for o in table["output"]])
-    shown = shown.drop(columns=[e for e in _ENTITIES if shown[e].isna().all()])
-    report.add_html(shown.to_html(index=False, na_rep="", float_format="{:.3g}".format,
-                                  classes="table table-sm table-striped", border=0),
-                    title="Recordings")
+    shown = shown.drop(columns=["warnings"] + [e for e in _ENTITIES if shown[e].isna().all()])
+    report.add_html(_TABLE_STYLE + shown.to_html(
+        index=False, na_rep="", float_format="{:.3g}".format, justify="left",
+        classes="table table-sm table-striped gs-recordings", border=0), title="Recordings")
+    said = [(Path(source).name, text) for source, text in zip(table["source"], table["warnings"])
+            if text]
+    if said:
+        report.add_html("<dl>" + "".join(
+            f"<dt>{html.escape(name)}</dt><dd>{html.escape(text).replace(chr(10), '<br>')}</dd>"
+            for name, text in said) + "</dl>", title="Warnings")
     with atomic_output(out_dir / "report.html") as staged:
         report.save(staged, open_browser=False, overwrite=True, verbose=False)
