@@ -617,16 +617,7 @@ def _bandstop_func(low, high, rolloff):
 
 
 def _notch_func(freq, width, harmonics, rolloff):
-    n = _order(rolloff)
-    centres = freq * np.arange(1, harmonics + 1)
-
-    def func(f):
-        out = np.ones_like(f)
-        for c in centres:
-            out = out * _rising(np.abs(f - c) / (width / 2.0), n)
-        return out
-
-    return func
+    return _comb_func(freq * np.arange(1, harmonics + 1), [width] * harmonics, rolloff)
 
 
 def _comb_func(freqs, widths, rolloff):
