@@ -10,7 +10,8 @@ Welch estimate. The *excess* is spectrum / background; the *typical excess*
 at a frequency is its ``1 - presence`` quantile over channels (the median
 for ``presence=0.5``: at least half the channels stand that high). A *line*
 is a run of frequencies whose typical excess passes the threshold, at most
-``max_width`` wide at half its height.
+``max_width`` wide at half its height, with 80 % of its excess power within
+``max_width`` / 2 of its centre.
 
 Why a running median: a line covers at most an eighth of the window, so the
 median passes under it; EEG's broadband spectrum is smooth and mostly
@@ -36,6 +37,7 @@ __all__ = ["find_lines", "suggest_notches"]
 
 _WINDOW = "hann"  # main lobe +-2 bins: the finest resolution for a segment length
 _HALF_HEIGHT_NARROW_BINS = 3.0  # up to this width a line is a tone: its peak is interpolated
+_LINE_SHARE = 0.8  # of a line's excess power within +-max_width/2 of its centre
 _WINDOW_WIDTHS = 4.0  # the background's median runs over +- this many max_width
 _MIN_SEGMENTS_WARNED = 8  # fewer averaged segments: a noisy spectrum, weak lines are missed
 
@@ -130,7 +132,8 @@ def find_lines(inst, *, sfreq=None, resolution=None, freq_range=(1.0, None),
         excess = psd / background
     typical = np.quantile(excess, 1.0 - presence, axis=0)
     found = [_measure(typical, freqs, run, threshold) for run in _runs(typical, searched, threshold)]
-    found = [line for line in found if line["width"] <= max_width]
+    found = [line for line in found if line["width"] <= max_width
+             and _concentrated(typical, freqs, line, max_width)]
     return _dataset(found, excess, threshold, {
         "signals": signals, "freqs": freqs, "psd": psd, "background": background,
         "settings": {"resolution": resolution, "window": f"{_WINDOW}, {nperseg} samples, "
@@ -327,6 +330,25 @@ def _measure(typical, freqs, run, threshold) -> dict:
         frequency = 0.5 * (left + right)
     return {"frequency": frequency, "height_db": 10 * np.log10(1.0 + top), "width": width,
             "peak_bin": peak, "bins": (start, stop)}
+
+
+def _concentrated(typical, freqs, line, max_width, share=_LINE_SHARE) -> bool:
+    """Whether ``share`` of the excess power of the line's run lies within
+    +-``max_width``/2 of its centre: true of a tone or a drifting line, not
+    of a broad peak (alpha) whose spiky top reads narrow at half its height.
+
+    >>> f = np.arange(0.0, 20.0, 0.1)
+    >>> tone = 1 + 100 * (np.abs(f - 10.0) < 0.05)
+    >>> bump = 1 + 10 * np.exp(-0.5 * ((f - 10.0) / 0.6) ** 2)
+    >>> _concentrated(tone, f, {"frequency": 10.0, "bins": (95, 106)}, 1.0)
+    True
+    >>> _concentrated(bump, f, {"frequency": 10.0, "bins": (80, 121)}, 1.0)
+    False
+    """
+    start, stop = line["bins"]
+    excess = np.maximum(typical[start:stop] - 1.0, 0.0)
+    near = np.abs(freqs[start:stop] - line["frequency"]) <= max_width / 2
+    return bool(excess[near].sum() >= share * excess.sum())
 
 
 def _half_height_edges(excess, freqs, peak, top, start, stop) -> tuple[float, float]:
