@@ -123,3 +123,18 @@ def test_suggest_notches_refuses_what_is_not_a_finding():
     nothing = gs.find_lines(rng.standard_normal((4, 15000)), sfreq=250.0)
     with pytest.raises(ValueError, match="No line was found"):
         gs.suggest_notches(nothing)
+
+
+def test_spans_annotated_bad_are_left_out():
+    raw = hum(freqs=(50.0,), seconds=90.0)
+    t = raw.times
+    burst = (t >= 30.0) & (t < 50.0)  # a stimulator left on for 20 s
+    raw._data[:4, burst] += 20e-6 * np.sin(2 * np.pi * 37.0 * t[burst])
+    assert _frequencies(gs.find_lines(raw)) == [37.0, 50.0]
+    raw.set_annotations(mne.Annotations([29.0], [22.0], ["BAD_stimulator"]))
+    found = gs.find_lines(raw)
+    assert _frequencies(found) == [50.0]
+    # two clean stretches of 29 s and 39 s: 4 + 6 segments of 10 s at 50 % overlap
+    assert found.attrs["segments"] == 4 + 6
+    with pytest.raises(ValueError, match="longest stretch without a bad span is 39 s long"):
+        gs.find_lines(raw, resolution=0.02)

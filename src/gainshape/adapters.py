@@ -538,6 +538,37 @@ def _rows_and_segments(inst, kind, idx, data, with_segments=True):
     return idx, _raw_segments(inst) if with_segments else None
 
 
+def clean_spans(inst):
+    """For a Raw, the runs of samples (start, stop) that no annotation whose
+    description starts with "bad" covers (as MNE leaves them out of
+    spectra); None for Epochs, Evoked and arrays.
+
+    Examples
+    --------
+    >>> import mne, numpy as np
+    >>> raw = mne.io.RawArray(np.zeros((1, 1000)), mne.create_info(1, 100.0, "eeg"), verbose=False)
+    >>> raw.set_annotations(mne.Annotations([2.0], [1.5], ["BAD_movement"]))  # doctest: +ELLIPSIS
+    <RawArray ...>
+    >>> clean_spans(raw)
+    [(0, 200), (350, 1000)]
+    """
+    import mne
+
+    if not isinstance(inst, mne.io.BaseRaw):
+        return None
+    n, bad = inst.n_times, np.zeros(inst.n_times + 1, int)
+    annot = inst.annotations
+    for onset, duration, desc in zip(annot.onset, annot.duration, annot.description):
+        if desc.lower().startswith("bad"):
+            start = int(inst.time_as_index(onset, use_rounding=True, origin=annot.orig_time)[0])
+            stop = start + int(round(duration * inst.info["sfreq"]))
+            bad[min(max(start, 0), n)] += 1
+            bad[min(max(stop, 0), n)] -= 1
+    good = np.cumsum(bad)[:n] == 0
+    edges = np.flatnonzero(np.diff(np.concatenate([[0], good.astype(int), [0]])))
+    return [(int(a), int(b)) for a, b in zip(edges[::2], edges[1::2])]
+
+
 def _raw_segments(raw):
     """Runs of samples between discontinuities; bad_acq_skip spans are left out."""
     n = raw.n_times

@@ -30,7 +30,7 @@ from scipy import ndimage, stats
 
 from ._checks import check_positive, warn
 from ._spectra import welch_density
-from .adapters import as_arrays
+from .adapters import as_arrays, clean_spans
 from .curves import GainCurve, comb
 
 __all__ = ["find_lines", "suggest_notches"]
@@ -51,7 +51,10 @@ def find_lines(inst, *, sfreq=None, resolution=None, freq_range=(1.0, None),
     ----------
     inst : Raw | Epochs | Evoked | ndarray
         The recording before filtering; arrays are (channels, times) and
-        need ``sfreq``. Epochs' spectra are averaged over epochs.
+        need ``sfreq``. Epochs' spectra are averaged over epochs; a Raw's
+        spans annotated as bad (descriptions starting with "bad") are left
+        out, each clean stretch at least one window long adding its
+        segments.
     sfreq : float | None
         Sampling rate in Hz, for arrays.
     resolution : float | None
@@ -113,14 +116,10 @@ def find_lines(inst, *, sfreq=None, resolution=None, freq_range=(1.0, None),
     min_height_db = check_positive("min_height_db", min_height_db)
     max_width = check_positive("max_width", max_width)
     signals = as_arrays(inst, sfreq=sfreq)
-    nperseg, resolution = _window(signals, resolution)
+    records = _records_of(signals.data, clean_spans(inst))
+    nperseg, resolution = _window(signals, records, resolution)
     band = _band(freq_range, signals.sfreq, resolution)
-    freqs, psd = welch_density(signals.data, signals.sfreq, nperseg, _WINDOW)
-    if psd.ndim == 3:  # epochs: their spectra averaged
-        psd = psd.mean(axis=0)
-    segments = _segment_count(signals.data, nperseg)
-    dof = _degrees_of_freedom(nperseg, segments, n_records=_records(signals.data))
-    averaged = segments * _records(signals.data)
+    freqs, psd, averaged, dof = _spectrum(records, signals.sfreq, nperseg)
     if averaged < _MIN_SEGMENTS_WARNED:
         warn(f"The spectrum averages only {averaged} segment{'s' if averaged > 1 else ''} of "
              f"{nperseg / signals.sfreq:g} s: the threshold rises to keep chance lines out "
@@ -207,24 +206,47 @@ def _check_fraction(name, value) -> float:
     return value
 
 
-def _records(data) -> int:
-    return data.shape[0] if data.ndim == 3 else 1
+def _records_of(data, spans) -> list:
+    """The (channels, times) records a spectrum averages: each epoch, each clean
+    span of a Raw (bad spans left out), or the whole record."""
+    if data.ndim == 3:
+        return list(data)
+    if spans is None:
+        return [data]
+    return [data[:, a:b] for a, b in spans]
 
 
-def _window(signals, resolution) -> tuple[int, float]:
-    """Window length (samples) and the resolution it gives, checked against the record."""
-    n_times, sfreq = signals.data.shape[-1], signals.sfreq
+def _window(signals, records, resolution) -> tuple[int, float]:
+    """Window length (samples) and the resolution it gives, checked against the
+    longest record."""
+    n_times, sfreq = max(r.shape[-1] for r in records), signals.sfreq
     seconds = n_times / sfreq
     if resolution is None:
         resolution = max(0.1, 1.0 / seconds)
     resolution = check_positive("resolution", resolution)
     nperseg = int(round(sfreq / resolution))
     if nperseg > n_times:
-        what = "epochs are" if signals.data.ndim == 3 else "record is"
+        what = ("epochs are" if signals.data.ndim == 3 else
+                "longest stretch without a bad span is" if len(records) > 1 else "record is")
         raise ValueError(f"The 'resolution' of {resolution:g} Hz needs records of at least "
                          f"{1 / resolution:g} s, but the {what} {seconds:g} s long; "
                          f"ask for {1 / seconds:.3g} Hz or coarser.")
     return nperseg, sfreq / nperseg
+
+
+def _spectrum(records, sfreq, nperseg) -> tuple:
+    """Frequencies, the Welch density averaged over every segment of the
+    records long enough for one, the number of segments and their degrees of
+    freedom (records are independent: their degrees of freedom add)."""
+    total, segments, dof = 0.0, 0, 0.0
+    for record in records:
+        count = _segment_count(record, nperseg)
+        if count < 1:
+            continue
+        freqs, psd = welch_density(record, sfreq, nperseg, _WINDOW)
+        total, segments = total + count * psd, segments + count
+        dof += _degrees_of_freedom(nperseg, count)
+    return freqs, total / segments, segments, dof
 
 
 def _band(freq_range, sfreq, resolution) -> tuple[float, float]:
@@ -250,14 +272,13 @@ def _segment_count(data, nperseg) -> int:
     return (data.shape[-1] - nperseg) // step + 1
 
 
-def _degrees_of_freedom(nperseg: int, segments: int, n_records: int) -> float:
+def _degrees_of_freedom(nperseg: int, segments: int) -> float:
     """Equivalent degrees of freedom of a Welch average (Hann, 50 % overlap).
 
     nu = 2K / (1 + 2 sum_m (1 - m/K) rho(m)^2), rho(m) the window's overlap
-    correlation at a shift of m steps (Percival & Walden 1993, from memory);
-    records (epochs) are independent, so their dofs add.
+    correlation at a shift of m steps (Percival & Walden 1993, from memory).
 
-    >>> round(float(_degrees_of_freedom(1000, 1, 1)), 2), round(float(_degrees_of_freedom(1000, 21, 1)), 1)
+    >>> round(float(_degrees_of_freedom(1000, 1)), 2), round(float(_degrees_of_freedom(1000, 21)), 1)
     (2.0, 39.9)
     """
     from scipy.signal import get_window
@@ -268,7 +289,7 @@ def _degrees_of_freedom(nperseg: int, segments: int, n_records: int) -> float:
     rho = [np.sum(w[m * step :] * w[: nperseg - m * step]) / energy
            for m in range(1, min(segments, -(-nperseg // step)))]
     denominator = 1 + 2 * sum((1 - m / segments) * r**2 for m, r in enumerate(rho, start=1))
-    return n_records * 2 * segments / denominator
+    return 2 * segments / denominator
 
 
 def _background(psd, freqs, max_width, dof) -> np.ndarray:
