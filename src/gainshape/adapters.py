@@ -557,30 +557,30 @@ def clean_spans(inst):
     if not isinstance(inst, mne.io.BaseRaw):
         return None
     n, bad = inst.n_times, np.zeros(inst.n_times + 1, int)
-    annot = inst.annotations
-    for onset, duration, desc in zip(annot.onset, annot.duration, annot.description):
-        if desc.lower().startswith("bad"):
-            start = int(inst.time_as_index(onset, use_rounding=True, origin=annot.orig_time)[0])
-            stop = start + int(round(duration * inst.info["sfreq"]))
-            bad[min(max(start, 0), n)] += 1
-            bad[min(max(stop, 0), n)] -= 1
+    for start, stop, _ in _annotated_spans(inst, ("bad",)):
+        bad[start] += 1
+        bad[stop] -= 1
     good = np.cumsum(bad)[:n] == 0
     edges = np.flatnonzero(np.diff(np.concatenate([[0], good.astype(int), [0]])))
     return [(int(a), int(b)) for a, b in zip(edges[::2], edges[1::2])]
+
+
+def _annotated_spans(raw, prefixes):
+    """(start, stop, lower-case description) in samples, clipped to the record,
+    of the annotations whose description starts with one of ``prefixes``."""
+    n, annot = raw.n_times, raw.annotations
+    for onset, duration, desc in zip(annot.onset, annot.duration, annot.description):
+        if desc.lower().startswith(prefixes):
+            start = int(raw.time_as_index(onset, use_rounding=True, origin=annot.orig_time)[0])
+            stop = start + int(round(duration * raw.info["sfreq"]))
+            yield min(max(start, 0), n), min(max(stop, 0), n), desc.lower()
 
 
 def _raw_segments(raw):
     """Runs of samples between discontinuities; bad_acq_skip spans are left out."""
     n = raw.n_times
     cuts, skipped = {0, n}, []
-    annot = raw.annotations
-    for onset, duration, desc in zip(annot.onset, annot.duration, annot.description):
-        low = desc.lower()
-        if not low.startswith(_BOUNDARY_PREFIXES):
-            continue
-        start = int(raw.time_as_index(onset, use_rounding=True, origin=annot.orig_time)[0])
-        stop = start + int(round(duration * raw.info["sfreq"]))
-        start, stop = min(max(start, 0), n), min(max(stop, 0), n)
+    for start, stop, low in _annotated_spans(raw, _BOUNDARY_PREFIXES):
         cuts.update((start, stop))
         if low.startswith("bad_acq_skip") and stop > start:
             skipped.append((start, stop))
