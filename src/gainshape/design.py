@@ -446,9 +446,11 @@ def design(
     kernel_request = check_kernel_request(kernel)
     # curves with a recipe are equal (and hash alike) when their recipes are
     key = None if curve.recipe is None else (curve, sfreq, causal, kernel_request, tolerance)
-    realized, said = _DESIGNS.get(key) or _realized(curve, sfreq, causal, kernel_request,
-                                                    tolerance)
-    _DESIGNS.put(key, (realized, said))
+    kept = _DESIGNS.get(key)
+    if kept is None:
+        kept = _realized(curve, sfreq, causal, kernel_request, tolerance)
+        _DESIGNS.put(key, kept)
+    realized, said = kept
     for message in said:  # a reused design says again what it said when it was made
         warn(message)
     return realized

@@ -86,8 +86,8 @@ def find_lines(inst, *, sfreq=None, resolution=None, freq_range=(1.0, None),
         1.44 bins), ``harmonic_of`` (the lowest line found it is a whole
         multiple of, else NaN), ``n_channels`` and ``present`` (line x
         channel: the channel's own excess at the line passes half the
-        threshold, in dB). Also
-        ``psd`` and ``background`` (channel x ``freq``). Attrs: the settings,
+        threshold, in dB). Also ``psd`` and ``background`` (channel x
+        ``freq``) and ``typical_excess_db`` (``freq``). Attrs: the settings,
         ``threshold_db``, ``segments``, ``sfreq`` and ``line_freq`` (from
         ``info``, NaN if missing).
 
@@ -129,12 +129,13 @@ def find_lines(inst, *, sfreq=None, resolution=None, freq_range=(1.0, None),
     threshold = _threshold(min_height_db, chance, int(searched.sum()), dof)
     with np.errstate(divide="ignore", invalid="ignore"):
         excess = psd / background
-    typical = np.quantile(excess, 1.0 - presence, axis=0)
+    typical = np.quantile(excess, 1.0 - presence, axis=0)  # the statistic lines must pass
     found = [_measure(typical, freqs, run, threshold) for run in _runs(typical, searched, threshold)]
     found = [line for line in found if line["width"] <= max_width
              and _concentrated(typical, freqs, line, max_width)]
     return _dataset(found, excess, threshold, {
         "signals": signals, "freqs": freqs, "psd": psd, "background": background,
+        "typical": typical,
         "settings": {"resolution": resolution, "window": f"{_WINDOW}, {nperseg} samples, "
                      "50 % overlap", "freq_range": list(band), "min_height_db": min_height_db,
                      "max_width": max_width, "presence": presence, "chance": chance},
@@ -207,11 +208,9 @@ def _check_fraction(name, value) -> float:
 
 
 def _records_of(data, spans) -> list:
-    """The (channels, times) records a spectrum averages: each epoch, each clean
-    span of a Raw (bad spans left out), or the whole record."""
-    if data.ndim == 3:
-        return list(data)
-    if spans is None:
+    """The records a spectrum averages: epochs (one 3-D array), each clean span
+    of a Raw (bad spans left out), or the whole record."""
+    if data.ndim == 3 or spans is None:
         return [data]
     return [data[:, a:b] for a, b in spans]
 
@@ -237,15 +236,17 @@ def _window(signals, records, resolution) -> tuple[int, float]:
 def _spectrum(records, sfreq, nperseg) -> tuple:
     """Frequencies, the Welch density averaged over every segment of the
     records long enough for one, the number of segments and their degrees of
-    freedom (records are independent: their degrees of freedom add)."""
+    freedom (records and epochs are independent: their degrees of freedom add)."""
     total, segments, dof = 0.0, 0, 0.0
-    for record in records:
+    for record in records:  # (channels, times) or (epochs, channels, times)
         count = _segment_count(record, nperseg)
         if count < 1:
             continue
         freqs, psd = welch_density(record, sfreq, nperseg, _WINDOW)
-        total, segments = total + count * psd, segments + count
-        dof += _degrees_of_freedom(nperseg, count)
+        epochs = record.shape[0] if record.ndim == 3 else 1
+        total = total + count * psd.reshape(epochs, *psd.shape[-2:]).sum(axis=0)
+        segments += epochs * count
+        dof += epochs * _degrees_of_freedom(nperseg, count)
     return freqs, total / segments, segments, dof
 
 
@@ -430,6 +431,8 @@ def _dataset(found, excess, threshold, parts) -> xr.Dataset:
                        dtype=bool).reshape(len(found), len(signals.ch_names))
     tolerance = max(0.05, freqs[1] / 2)
     line_freq = signals.line_freq if signals.line_freq else np.nan
+    with np.errstate(divide="ignore"):  # a flat channel's bins read -inf dB
+        typical_db = 10 * np.log10(parts["typical"])
     return xr.Dataset(
         {
             "frequency": ("line", np.array(frequency, float), {"units": "Hz"}),
@@ -444,6 +447,9 @@ def _dataset(found, excess, threshold, parts) -> xr.Dataset:
             "psd": (("channel", "freq"), parts["psd"], {"units": f"{signals.unit}^2/Hz"}),
             "background": (("channel", "freq"), parts["background"],
                            {"units": f"{signals.unit}^2/Hz"}),
+            "typical_excess_db": ("freq", typical_db,
+                                  {"units": "dB", "long_name": "typical excess over the "
+                                   "background, the statistic a line must lift over the threshold"}),
         },
         coords={"line": np.arange(len(found)), "channel": signals.ch_names, "freq": freqs},
         attrs={**parts["settings"], "threshold_db": 10 * np.log10(threshold),

@@ -40,21 +40,17 @@ _READABLE = [".vhdr", ".edf", ".bdf", ".set", ".fif", ".cnt", ".mff"]
 _HASH_CHUNK = 8 * 2**20
 _MB = 2**20
 # How the local cluster's workers start. On Linux they are forked from this
-# process: they start in 0.2 s instead of 2.8 s and find NumPy, SciPy, MNE and
-# gainshape already imported (elsewhere fork is unsafe, so they are spawned).
-# Spawned workers get glibc settings: Dask sets MALLOC_TRIM_THRESHOLD_ to 64 KiB,
-# which freezes glibc's mmap threshold at 128 KiB, so every larger array is a
-# fresh mmap whose pages fault in on first use: 1.1 s instead of 0.65 s per
-# 10-minute, 32-channel recording (benchmarks/study.py). Forked workers keep
-# this process's allocator as it is.
+# process: they start in 0.2 s instead of 2.8 s, find NumPy, SciPy, MNE and
+# gainshape already imported, and keep this process's allocator (a spawned
+# worker inherits Dask's MALLOC_TRIM_THRESHOLD_, which freezes glibc's mmap
+# threshold: every array over 128 KiB is then a fresh mmap whose pages fault
+# in, 1.1 s instead of 0.65 s per 10-minute, 32-channel recording). Elsewhere
+# fork is unsafe, so they are spawned.
 _LOCAL_WORKERS = {
     "distributed.worker.multiprocessing-method": "fork" if sys.platform == "linux" else "spawn",
     # Dask's sampling profiler walks the task's stack every 10 ms; without it a
     # recording took 0.89 s instead of 0.99 s on two busy workers (two A/B runs)
     "distributed.worker.profile.enabled": False,
-    **{f"distributed.nanny.pre-spawn-environ.{key}": value for key, value in {
-        "MALLOC_TRIM_THRESHOLD_": 2**28, "MALLOC_MMAP_THRESHOLD_": 2**25,
-        "MALLOC_ARENA_MAX": 1}.items()},
 }
 _SIDECAR_KEY = "gainshape"
 

@@ -543,7 +543,8 @@ def plot_lines(found, *, show=True):
     """
     import matplotlib.pyplot as plt
 
-    _check_result(found, "found", ("psd", "background", "height_db"), "gainshape.find_lines")
+    _check_result(found, "found", ("psd", "background", "typical_excess_db"),
+                  "gainshape.find_lines")
     freqs = found.freq.values
     keep = freqs > 0
     unit = found.psd.attrs.get("units", "")
@@ -568,8 +569,7 @@ def plot_lines(found, *, show=True):
     ax.set_ylabel(f"power ({unit_db})")
     ax.legend(loc="lower left", fontsize="small")
     ax.grid(True, which="both", alpha=0.3)
-    typical_db = _power_db(np.quantile(found.psd.values[:, keep] / found.background.values[:, keep],
-                                       1 - found.attrs["presence"], axis=0))
+    typical_db = found.typical_excess_db.values[keep]
     ax_excess.semilogx(freqs[keep], typical_db, color="C0", linewidth=0.8)
     ax_excess.axhline(found.attrs["threshold_db"], color="C3", linestyle=":",
                       label=f"threshold {found.attrs['threshold_db']:.1f} dB")
