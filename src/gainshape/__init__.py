@@ -4,6 +4,7 @@ from ._checks import GainshapeWarning
 from .adapters import apply, replay
 from .curves import GainCurve, bandpass, bandstop, highpass, lowpass, notch
 from .design import FilterDesign, design
+from .drawing import draw
 from .audit import audit
 from .lines import find_lines, suggest_notches
 from .provenance import bids_filters, export, history, methods_text, write_bids_filters
@@ -25,6 +26,7 @@ __all__ = [
     "bids_filters",
     "bandstop",
     "design",
+    "draw",
     "export",
     "find_lines",
     "highpass",

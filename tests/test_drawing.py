@@ -1,0 +1,217 @@
+"""The curve editor driven without a browser: its model, edits and what it shows."""
+
+import json
+
+import mne
+import numpy as np
+import pytest
+from scipy.interpolate import PchipInterpolator
+from scipy.signal import freqz, welch
+
+import gainshape as gs
+from gainshape.drawing import FMIN, GainEditor, editable_points, editor_view
+
+
+@pytest.fixture
+def editor():
+    return gs.draw(gs.highpass(1.0), sfreq=250.0)
+
+
+def test_curve_is_the_points_joined_monotonically_on_a_log_axis(editor):
+    # reference: scipy.interpolate.PchipInterpolator on log10(frequency); the
+    # editor's curve agrees away from its end points (whose slopes it sets to 0)
+    f, g = np.array(editor.points).T
+    inner = np.geomspace(f[1], f[-2], 200)
+    reference = PchipInterpolator(np.log10(f), g)(np.log10(inner))
+    # the two differ only in the two end slopes, whose effect fades within a segment
+    middle = (inner > f[2]) & (inner < f[-3])
+    np.testing.assert_allclose(editor.curve(inner[middle]), reference[middle], atol=1e-12)
+    assert np.all(np.diff(editor.curve(np.geomspace(f[0], f[-1], 500))) >= -1e-12)
+
+
+def test_code_line_rebuilds_the_same_curve(editor):
+    editor.drag(2, 0.7, 0.31)
+    rebuilt = eval(editor.code, {"gs": gs})  # the line users paste
+    freqs = np.geomspace(0.005, 125.0, 300)
+    np.testing.assert_array_equal(rebuilt(freqs), editor.curve(freqs))
+
+
+def test_curve_recipe_round_trips_through_json(editor):
+    editor.add_point(5.0, 0.8)
+    again = gs.GainCurve.from_dict(json.loads(json.dumps(editor.curve.to_dict())))
+    assert again == editor.curve
+
+
+def test_design_is_gs_design_of_the_curve(editor):
+    editor.drag(1, editor.points[1][0] * 1.2, 0.2)
+    expected = gs.design(editor.curve, 250.0)
+    np.testing.assert_array_equal(editor.design.kernel, expected.kernel)
+    assert editor.view["characteristics"] == [list(r) for r in expected.summary()]
+
+
+def test_view_gains_are_the_kernel_response(editor):
+    # reference: scipy.signal.freqz of the zero-phase kernel
+    view, kernel = editor.view, editor.design.kernel
+    freqs = np.array(view["freqs"])[::40]
+    _, h = freqz(kernel, worN=freqs, fs=250.0)
+    np.testing.assert_allclose(np.array(view["realized"])[::40], np.abs(h), atol=1e-6)
+    np.testing.assert_allclose(view["deviation"], np.array(view["realized"]) - view["requested"],
+                               atol=1e-6)
+
+
+def test_step_trace_keeps_the_step_response_extremes():
+    # the step response is the running sum of the kernel (common practice, no source);
+    # thinned to min/max pairs, its extremes survive
+    design = gs.design(gs.highpass(0.2), 1000.0)
+    step = np.cumsum(design.kernel)
+    trace = editor_view(design, 499.0)["step"]
+    assert len(trace["values"]) <= 1200 < step.size
+    assert max(trace["values"]) == pytest.approx(step.max(), rel=1e-6)
+    assert min(trace["values"]) == pytest.approx(step.min(), rel=1e-6, abs=1e-9)
+
+
+def test_drag_past_a_neighbour_is_kept_between_with_a_message(editor):
+    right = editor.points[3][0]
+    editor.drag(2, right * 3, 0.5)
+    assert editor.points[2][0] < right < editor.points[4][0]
+    assert "between its neighbours" in editor.message
+    assert [p[0] for p in editor.points] == sorted(p[0] for p in editor.points)
+
+
+@pytest.mark.parametrize("gain, kept, words", [(-0.3, 0.0, "cannot be negative"),
+                                               (1.7, 1.0, "up to 1")])
+def test_gain_out_of_range_is_clamped(editor, gain, kept, words):
+    editor.drag(2, editor.points[2][0], gain)
+    assert editor.points[2][1] == kept and words in editor.message
+
+
+def test_frequency_at_or_above_nyquist_is_kept_below(editor):
+    last = len(editor.points) - 1
+    editor.drag(last, 125.0, 1.0)
+    assert editor.points[last][0] < 125.0 and "below Nyquist" in editor.message
+    editor.add_point(400.0, 1.0)
+    assert max(p[0] for p in editor.points) < 125.0
+
+
+@pytest.mark.parametrize("request_", [{"do": "drag", "index": 1, "freq": float("nan"), "gain": 0.5},
+                                      {"do": "drag", "index": 99, "freq": 1.0, "gain": 0.5},
+                                      {"do": "drag", "index": 1, "freq": "abc", "gain": 0.5},
+                                      {"do": "start", "shape": "elliptic"},
+                                      {"do": "fly"}])
+def test_bad_edits_are_refused_and_nothing_changes(editor, request_):
+    before = [list(p) for p in editor.points]
+    editor.edit(dict(request_))
+    assert editor.points == before and editor.message
+
+
+def test_a_curve_keeps_two_points():
+    editor = gs.draw(gs.GainCurve.from_points([1.0, 10.0], [1.0, 0.0], freq_scale="log"),
+                     sfreq=100.0)
+    while len(editor.points) > 2:
+        editor.remove_point(0)
+    assert not editor.message
+    editor.remove_point(0)
+    assert len(editor.points) == 2 and "at least two" in editor.message
+
+
+def test_add_then_remove_selects_and_restores(editor):
+    before = [list(p) for p in editor.points]
+    editor.add_point(20.0, 0.9)
+    assert editor.points[editor.selected] == [20.0, 0.9]
+    editor.remove_point(editor.selected)
+    assert editor.points == before
+
+
+def test_an_unrealizable_drawing_is_shown_with_a_fixed_kernel_and_says_so(editor):
+    # a near-vertical jump: no kernel length meets 0.001 (a gain step needs infinite length,
+    # common practice, no source)
+    editor.drag(2, editor.points[3][0] / 1.0005, 0.0)
+    assert editor.design.kernel_request == 30.0
+    assert "cannot be realized" in editor.message and "30 s kernel" in editor.message
+
+
+@pytest.mark.parametrize("shape", ["low-pass", "high-pass", "band-pass", "band-stop", "notch comb"])
+def test_start_shapes_follow_the_constructor(shape):
+    editor = gs.draw(sfreq=500.0)
+    editor.start_from(shape)
+    made = {"low-pass": gs.lowpass(30.0), "high-pass": gs.highpass(0.1),
+            "band-pass": gs.bandpass(0.1, 30.0), "band-stop": gs.bandstop(8.0, 13.0),
+            "notch comb": gs.notch(50.0, harmonics=4)}[shape]
+    freqs = np.geomspace(FMIN, editor.fmax, 2000)
+    assert np.abs(editor.curve(freqs) - np.clip(made(freqs), 0, 1)).max() <= 0.0101
+
+
+def test_editable_points_of_a_drawn_curve_are_its_points():
+    drawn = gs.GainCurve.from_points([0.01, 0.5, 2.0, 100.0], [0.0, 0.2, 1.0, 1.0], freq_scale="log")
+    points = editable_points(drawn, 0.01, 100.0, within=1e-3)
+    freqs = np.geomspace(0.01, 100.0, 500)
+    rebuilt = gs.GainCurve.from_points(*zip(*points), freq_scale="log")
+    assert np.abs(rebuilt(freqs) - drawn(freqs)).max() <= 1.01e-3
+
+
+def test_page_messages_are_answered_with_their_serial(editor):
+    editor._handle_custom_msg({"do": "drag", "index": 1, "freq": 0.2, "gain": 0.1,
+                               "serial": 7}, [])
+    assert editor.view["answer"] == 7
+    editor._handle_custom_msg({"do": "remove", "index": 42, "serial": 8}, [])
+    assert editor.view["answer"] == 8 and "no point" in editor.message.lower()
+
+
+def test_save_recipe_writes_a_recipe_that_reads_back(editor, tmp_path):
+    editor.edit({"do": "save", "path": str(tmp_path / "drawn.json")})
+    recipe = gs.read_recipe(tmp_path / "drawn.json")
+    assert recipe["filt"] == editor.curve and "saved" in editor.message
+    editor.edit({"do": "save", "path": str(tmp_path / "missing" / "drawn.json")})
+    assert editor.message.startswith("Not saved")
+
+
+def test_state_is_kept_for_the_notebook(editor):
+    # ipywidgets' embed_data is what a notebook's saved widget state holds
+    from ipywidgets.embed import embed_data
+
+    editor.drag(1, editor.points[1][0], 0.05)
+    state = embed_data(views=[editor])["manager_state"]["state"][editor.model_id]["state"]
+    assert state["points"] == editor.points and state["view"]["freqs"]
+    bundle = editor._repr_mimebundle_()
+    bundle = bundle[0] if isinstance(bundle, tuple) else bundle  # (data, metadata) in ipywidgets 8
+    # displayed again, it is the same model (same state)
+    assert bundle["application/vnd.jupyter.widget-view+json"]["model_id"] == editor.model_id
+
+
+def _epochs(sfreq=250.0):
+    rng = np.random.default_rng(3)
+    n_epochs, n_times = 20, 250
+    t = np.arange(n_times) / sfreq
+    data = 1e-6 * rng.standard_normal((n_epochs, 2, n_times))
+    data += 5e-6 * np.exp(-((t - 0.4) / 0.05) ** 2) + 3e-6 * np.sin(2 * np.pi * 50 * t)
+    info = mne.create_info(["Cz", "Pz"], sfreq, "eeg")
+    return mne.EpochsArray(data, info, tmin=0.0, verbose=False)
+
+
+def test_preview_shows_the_average_and_spectrum_before_and_after():
+    epochs = _epochs()
+    editor = gs.draw(gs.lowpass(20.0), data=epochs, channel="Pz")
+    preview = editor.view["preview"]
+    assert editor.channels == ["Cz", "Pz"] and preview["channel"] == "Pz"
+    # the filtered average equals gs.apply on the epochs, then averaged (filtering is linear)
+    with pytest.warns(gs.GainshapeWarning, match="shorter than 3 times"):
+        after = gs.apply(epochs, editor.design).get_data(picks="Pz")[:, 0].mean(axis=0)
+    np.testing.assert_allclose(preview["wave_after"]["values"], after, rtol=1e-6, atol=1e-13)
+    # the spectrum before is scipy.signal.welch's (one Hann window per epoch), averaged
+    f, p = welch(epochs.get_data(picks="Pz")[:, 0], fs=250.0, nperseg=250)
+    np.testing.assert_allclose(preview["before_db"], 10 * np.log10(p.mean(axis=0)[f > 0]),
+                               atol=2e-4)  # the page gets 7 significant digits
+    editor.edit({"do": "channel", "channel": "Cz"})
+    assert editor.view["preview"]["channel"] == "Cz"
+    editor.edit({"do": "channel", "channel": "Fz"})
+    assert "No data channel" in editor.message
+
+
+def test_draw_refuses_bad_arguments():
+    with pytest.raises(ValueError, match="sampling rate"):
+        gs.draw()
+    with pytest.raises(TypeError, match="GainCurve"):
+        gs.draw([1, 2], sfreq=100.0)
+    with pytest.raises(ValueError, match="'tolerance'"):
+        gs.draw(sfreq=100.0, tolerance=2.0)
+    assert isinstance(gs.draw(sfreq=100.0), GainEditor)

@@ -1,0 +1,149 @@
+"""The curve editor in a real browser: JupyterLab on localhost, driven by
+Playwright in Debian's Chromium. A point is dragged with the mouse and the
+curve is read back from the kernel.
+
+Needs Chromium (``apt-get install chromium``) and the ``browser`` extra
+(JupyterLab, Playwright); skipped with the reason when either is missing.
+``make test-browser`` installs both and runs this file, saving the
+screenshot to ``docs/_static/`` (``GAINSHAPE_SCREENSHOTS``).
+"""
+
+import json
+import os
+import shutil
+import socket
+import subprocess
+import sys
+import time
+import urllib.request
+from pathlib import Path
+
+import nbformat
+import pytest
+
+CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
+pytestmark = pytest.mark.skipif(CHROMIUM is None, reason="no Chromium on this machine "
+                                "(apt-get install chromium, or run `make test-browser`)")
+sync_api = pytest.importorskip("playwright.sync_api", reason="Playwright is not installed "
+                               "(pip install -e '.[browser]', or run `make test-browser`)")
+pytest.importorskip("jupyterlab", reason="JupyterLab is not installed "
+                    "(pip install -e '.[browser]', or run `make test-browser`)")
+
+TOKEN = "gainshape-browser-test"
+CELLS = [
+    "import json\nimport gainshape as gs\n"
+    "editor = gs.draw(gs.GainCurve.from_points([0.01, 0.5, 2.0, 120.0], [0.0, 0.0, 1.0, 1.0],"
+    " freq_scale='log'), sfreq=250.0)\neditor",
+    "print('POINTS=' + json.dumps(editor.points))",
+]
+
+
+def _free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+@pytest.fixture
+def lab(tmp_path):
+    """A JupyterLab server on localhost with its own settings, in tmp_path."""
+    nb = nbformat.v4.new_notebook(cells=[nbformat.v4.new_code_cell(c) for c in CELLS])
+    nb.metadata["kernelspec"] = {"name": "python3", "display_name": "Python 3",
+                                 "language": "python"}
+    nbformat.write(nb, tmp_path / "draw.ipynb")
+    # user settings: widget state saved with the notebook, no news pop-up
+    settings = tmp_path / "settings"
+    for plugin, values in (("@jupyter-widgets/jupyterlab-manager/plugin", {"saveState": True}),
+                           ("@jupyterlab/apputils-extension/notification", {"fetchNews": "false"})):
+        (settings / plugin).parent.mkdir(parents=True, exist_ok=True)
+        (settings / f"{plugin}.jupyterlab-settings").write_text(json.dumps(values))
+    port = _free_port()
+    env = {**os.environ, "JUPYTER_CONFIG_DIR": str(tmp_path / "config"),
+           "JUPYTERLAB_SETTINGS_DIR": str(settings),
+           "JUPYTER_RUNTIME_DIR": str(tmp_path / "runtime"), "MPLBACKEND": "Agg"}
+    server = subprocess.Popen(
+        [sys.executable, "-m", "jupyterlab", "--no-browser", f"--port={port}",
+         "--ServerApp.ip=127.0.0.1", "--allow-root", f"--IdentityProvider.token={TOKEN}",
+         f"--ServerApp.root_dir={tmp_path}",
+         "--LabApp.check_for_updates_class=jupyterlab.NeverCheckForUpdate"],
+        env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    url = f"http://127.0.0.1:{port}"
+    try:
+        for _ in range(120):
+            try:
+                urllib.request.urlopen(f"{url}/api/status?token={TOKEN}", timeout=1)
+                break
+            except OSError:
+                time.sleep(0.5)
+        else:
+            pytest.fail("JupyterLab did not start within 60 s")
+        yield url
+    finally:
+        server.terminate()
+        server.wait(timeout=20)
+
+
+def _keep(picture: Path) -> None:
+    """Copy a screenshot to $GAINSHAPE_SCREENSHOTS, when set."""
+    folder = os.environ.get("GAINSHAPE_SCREENSHOTS")
+    if folder:
+        shutil.copyfile(picture, Path(folder) / picture.name)
+
+
+def _run_cell(page, index):
+    cell = page.locator(".jp-Notebook .jp-Cell").nth(index)
+    cell.locator(".jp-InputArea-editor").click()
+    page.keyboard.press("Shift+Enter")
+
+
+def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp_path):
+    with sync_api.sync_playwright() as p:
+        browser = p.chromium.launch(executable_path=CHROMIUM, args=[
+            "--no-sandbox", "--disable-gpu", "--disable-background-networking",
+            "--disable-component-update", "--disable-sync", "--no-first-run"])
+        page = browser.new_page(viewport={"width": 1400, "height": 1100})
+        try:
+            page.goto(f"{lab}/lab/tree/draw.ipynb?token={TOKEN}")
+            page.locator(".jp-Notebook .jp-Cell").first.wait_for(timeout=60_000)
+            page.get_by_text("Python 3 (ipykernel) | Idle").wait_for(timeout=60_000)
+            _run_cell(page, 0)
+            page.locator(".jp-Notebook .jp-Cell .jp-InputPrompt").first.get_by_text("[1]:").wait_for(
+                timeout=60_000)
+            handle = page.locator(".gs-editor circle.gs-handle[data-index='1']")
+            handle.wait_for(timeout=30_000)
+            box = handle.bounding_box()
+            x, y = box["x"] + box["width"] / 2, box["y"] + box["height"] / 2
+            page.mouse.move(x, y)
+            page.mouse.down()
+            for step in range(1, 11):  # to the right (higher frequency) and up (more gain)
+                page.mouse.move(x + 6 * step, y - 12 * step)
+                page.wait_for_timeout(30)
+            page.mouse.up()
+            # the page's last edit answered by the kernel
+            page.wait_for_function(
+                "() => { const e = document.querySelector('.gs-editor');"
+                " return e && e.dataset.answered && !e.dataset.busy; }", timeout=30_000)
+            page.wait_for_timeout(500)
+            round_trip = page.locator(".gs-editor").get_attribute("data-round-trip-ms")
+            _run_cell(page, 1)
+            output = page.locator(".jp-OutputArea-output", has_text="POINTS=")
+            output.wait_for(timeout=30_000)
+            points = json.loads(output.inner_text().split("POINTS=", 1)[1].strip())
+            shot = tmp_path / "draw_editor.png"
+            page.locator(".gs-editor").screenshot(path=str(shot))
+            page.keyboard.press("Control+s")  # saved with the widget's state
+            page.wait_for_timeout(1500)
+        except Exception:
+            page.screenshot(path=str(tmp_path / "failure.png"), full_page=True)
+            _keep(tmp_path / "failure.png")
+            raise
+        browser.close()
+    _keep(shot)
+    print(f"last drag's round trip in the browser: {round_trip} ms")
+    assert len(points) == 4
+    assert points[1][0] > 0.5 and points[1][1] > 0.0, points
+    assert points[0] == [0.01, 0.0] and points[2] == [2.0, 1.0]
+    # the notebook file keeps the widget's state (ipywidgets' widget-state metadata)
+    saved = nbformat.read(tmp_path / "draw.ipynb", as_version=4)
+    states = saved.metadata["widgets"]["application/vnd.jupyter.widget-state+json"]["state"]
+    assert points in [m["state"].get("points") for m in states.values()]
