@@ -533,24 +533,39 @@ def _off_scale_peak(times, kernel) -> dict:
     rest = np.abs(np.delete(kernel, range(max(peak - 1, 0), peak + 2)))
     if rest.size == 0 or abs(kernel[peak]) <= 10 * rest.max():
         return {}
-    return {"peak": float(f"{kernel[peak]:.7g}"), "peak_time": float(times[peak]),
-            "limit": float(f"{1.3 * rest.max():.7g}")}
+    peak_value, limit = _numbers([kernel[peak], 1.3 * rest.max()])
+    return {"peak": peak_value, "peak_time": float(times[peak]), "limit": limit}
 
 
 def _trace(times, values) -> dict:
     """A trace to draw: as is when short, else the min and max of each of
-    ``_TRACE // 2`` runs (in time order), which keeps every peak."""
+    ``_TRACE // 2`` runs of equal length (the last run shorter), in time
+    order, which keeps every peak.
+
+    >>> _trace(np.arange(6.0), np.array([0, 5, 1, 1, -4, 2.0]))["values"]
+    [0.0, 5.0, 1.0, 1.0, -4.0, 2.0]
+    """
     if times.size > _TRACE:
-        runs = np.array_split(np.arange(times.size), _TRACE // 2)
-        picked = [i for run in runs for i in sorted((run[np.argmin(values[run])],
-                                                     run[np.argmax(values[run])]))]
+        width = -(-times.size // (_TRACE // 2))
+        padded = np.pad(values, (0, -times.size % width), mode="edge").reshape(-1, width)
+        starts = np.arange(padded.shape[0]) * width
+        low = starts + padded.argmin(axis=1)
+        high = starts + padded.argmax(axis=1)
+        picked = np.minimum(np.sort(np.stack([low, high], axis=1), axis=1).ravel(), times.size - 1)
         times, values = times[picked], values[picked]
     return {"times": _numbers(times), "values": _numbers(values)}
 
 
 def _numbers(values) -> list:
-    """Plain floats at 7 significant digits (what the page can show)."""
-    return [float(f"{v:.7g}") for v in np.asarray(values, dtype=float)]
+    """Plain floats rounded to 7 significant digits (what the page can show).
+
+    >>> _numbers([1234.56789, -0.000123456789, 0.0])
+    [1234.568, -0.0001234568, 0.0]
+    """
+    values = np.asarray(values, dtype=float)
+    magnitude = np.floor(np.log10(np.where(values == 0, 1.0, np.abs(values))))
+    scale = 10.0 ** (6 - magnitude)
+    return (np.round(values * scale) / scale).tolist()
 
 
 class _Preview:
