@@ -34,6 +34,11 @@ breaks = [
  ("line background: median, not mean", "src/gainshape/lines.py", "return median / (stats.chi2.median(dof) / dof)", "return median"),
  ("line reasons: height x2", "src/gainshape/lines.py", '{float(line.height_db):.1f} dB above', '{2 * float(line.height_db):.1f} dB above'),
  ("plot_lines label height x2", "src/gainshape/viz.py", 'Hz\\n+{h:.1f} dB"', 'Hz\\n+{2 * h:.1f} dB"'),
+ ("editor preview spectrum 20 log10", "src/gainshape/drawing.py", "    return 10 * np.log10(np.maximum(power, np.finfo(float).tiny))", "    return 20 * np.log10(np.maximum(power, np.finfo(float).tiny))"),
+ ("editor deviation sign", "src/gainshape/drawing.py", '"deviation": _numbers(got - requested)', '"deviation": _numbers(requested - got)'),
+ ("editor step response x2", "src/gainshape/drawing.py", '"step": _trace(times, np.cumsum(kernel)),', '"step": _trace(times, 2 * np.cumsum(kernel)),'),
+ ("editor code line 4 digits", "src/gainshape/drawing.py", 'freqs = ", ".join(f"{f:.12g}" for f, _ in points)', 'freqs = ", ".join(f"{f:.3g}" for f, _ in points)'),
+ ("editor rounding 3 digits", "src/gainshape/drawing.py", "    scale = 10.0 ** (6 - magnitude)", "    scale = 10.0 ** (2 - magnitude)"),
  ("history table roll-off x2", "src/gainshape/provenance.py", 'f"{slope:.1f}" for _, _, _, slope in passband if slope is not None', 'f"{2 * slope:.1f}" for _, _, _, slope in passband if slope is not None'),
 ]
 chosen = [b for b in breaks if not sys.argv[1:] or any(n in b[0] for n in sys.argv[1:])]
