@@ -166,7 +166,7 @@ function render({ model, el }) {
   function pointer(evt) {
     const p = curveSvg.createSVGPoint(); p.x = evt.clientX; p.y = evt.clientY;
     const q = p.matrixTransform(curveSvg.getScreenCTM().inverse());
-    return { freq: curvePanel.ix(q.x), gain: Math.min(Math.max(yToGain(curvePanel.iy(q.y)), -0.05), 1.05) };
+    return { freq: curvePanel.ix(q.x), gain: Math.min(Math.max(yToGain(curvePanel.iy(q.y)), -0.05), 1.05), x: q.x, y: q.y };
   }
 
   function drawCurve(view) {
@@ -285,16 +285,14 @@ function render({ model, el }) {
     send({ do: "drag", index: dragging, freq, gain });
   });
   curveSvg.addEventListener("pointerup", (evt) => {
-    if (dragging !== null && moved) send({ do: "drag", index: dragging, ...pointer(evt) });
+    if (dragging !== null && moved) { const { freq, gain } = pointer(evt); send({ do: "drag", index: dragging, freq, gain }); }
     dragging = null;
   });
   curveSvg.addEventListener("pointerdown", (evt) => {
     if (dragging !== null || evt.target.tagName === "circle") return;
-    const { freq, gain } = pointer(evt);
+    const { freq, gain, x, y } = pointer(evt);
     const [l, t, w, h] = curvePanel.box;
-    const p = curveSvg.createSVGPoint(); p.x = evt.clientX; p.y = evt.clientY;
-    const q = p.matrixTransform(curveSvg.getScreenCTM().inverse());
-    if (q.x >= l && q.x <= l + w && q.y >= t && q.y <= t + h) send({ do: "add", freq, gain });
+    if (x >= l && x <= l + w && y >= t && y <= t + h) send({ do: "add", freq, gain });
   });
   curveSvg.addEventListener("keydown", (evt) => {
     const pts = points(), i = model.get("selected"), p = pts[i];

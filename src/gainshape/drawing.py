@@ -236,7 +236,7 @@ class GainEditor(anywidget.AnyWidget):
         visible :attr:`message`; the curve stays valid.
         """
         try:
-            points, said = _edited(self.points, request, self._sfreq, self.fmax)
+            points, said, selected = _edited(self.points, request, self._sfreq, self.fmax)
             if points is None:
                 self._other(request)
                 return
@@ -244,7 +244,7 @@ class GainEditor(anywidget.AnyWidget):
             self.message = str(refusal)
             self._acknowledge(request)
             return
-        self._show(points, said, request)
+        self._show(points, said, request, selected)
 
     # -- inside -----------------------------------------------------------------
 
@@ -269,7 +269,7 @@ class GainEditor(anywidget.AnyWidget):
         if isinstance(content, dict):
             self.edit(content)
 
-    def _show(self, points, said, request=None):
+    def _show(self, points, said, request=None, selected=None):
         start = time.perf_counter()
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")
@@ -281,10 +281,9 @@ class GainEditor(anywidget.AnyWidget):
         said = " ".join(dict.fromkeys([said, refusal, *(str(w.message) for w in caught)])).strip()
         view["answer"] = (request or {}).get("serial")
         self._design = realized
-        selected = (request or {}).get("index", self.selected)
         with self.hold_sync():
             self.points = [list(p) for p in points]
-            self.selected = int(min(max(selected, 0), len(points) - 1))
+            self.selected = min(self.selected if selected is None else selected, len(points) - 1)
             self.message = said
             self.code = _code_line(points)
             self.view = view
@@ -297,43 +296,42 @@ class GainEditor(anywidget.AnyWidget):
         try:
             return design(curve, self._sfreq, **options), ""
         except ValueError as err:
-            reason = str(err).split(": it has")[0]
             return (design(curve, self._sfreq, kernel=FALLBACK_S, **options),
-                    f"{reason}. Shown with a {FALLBACK_S:g} s kernel instead.")
+                    f"{err} Shown with a {FALLBACK_S:g} s kernel instead.")
 
     def _acknowledge(self, request):
         self.view = {**self.view, "answer": request.get("serial")}
 
 
-class _Refused(Exception):
+class _Refused(ValueError):
     """An edit that cannot be made; its text is shown to the user."""
 
 
 def _edited(points, request, sfreq, fmax):
-    """(new points, message) for an edit of the points, or (None, "") for another edit."""
+    """(new points, message, selected point) for an edit of the points, or
+    (None, "", None) for another edit."""
     what = request.get("do")
     if what == "start":
         shape = request.get("shape")
         if shape not in _SHAPES:
             raise _Refused(f"Unknown shape {shape!r}; the editor starts from {', '.join(_SHAPES)}.")
-        return editable_points(_shape(shape, sfreq), FMIN, fmax), ""
+        return editable_points(_shape(shape, sfreq), FMIN, fmax), "", 0
     if what not in ("drag", "add", "remove"):
-        return None, ""
+        return None, "", None
     points = [list(p) for p in points]
     if what == "remove":
         index = _index(request, points)
         if len(points) <= 2:
             raise _Refused("A curve keeps at least two points; this one was not removed.")
         del points[index]
-        return points, ""
+        return points, "", min(index, len(points) - 1)
     freq, gain, said = _checked_point(request.get("freq"), request.get("gain"), fmax)
     if what == "add":
         if any(f == freq for f, _ in points):
             raise _Refused(f"There is already a point at {freq:g} Hz.")
         points.append([freq, gain])
         points.sort()
-        request["index"] = [f for f, _ in points].index(freq)
-        return points, said
+        return points, said, [f for f, _ in points].index(freq)
     index = _index(request, points)
     low = points[index - 1][0] if index > 0 else None
     high = points[index + 1][0] if index < len(points) - 1 else None
@@ -342,7 +340,7 @@ def _edited(points, request, sfreq, fmax):
         said = " ".join(filter(None, [said, f"A point stays between its neighbours: kept at "
                                              f"{kept:g} Hz."]))
     points[index] = [kept, gain]
-    return points, said
+    return points, said, index
 
 
 def _index(request, points) -> int:
@@ -587,24 +585,23 @@ class _Preview:
             rows = rows[None, : int(_RAW_SECONDS * s.sfreq)]
         self.rows = np.atleast_2d(rows)
         self.nperseg = min(self.rows.shape[-1], int(4 * s.sfreq))
-        self.freqs, self.before = welch_density(self.rows, s.sfreq, self.nperseg)
-        self.before = self.before.mean(axis=0)
-
-    def view(self, realized) -> dict:
-        s = self.signals
-        after_rows = filter_array(self.rows, realized)
-        _, after = welch_density(after_rows, s.sfreq, self.nperseg)
-        keep = self.freqs > 0
-        times = s.times[: self.rows.shape[-1]]
-        what = {"raw": f"first {times[-1] - times[0]:.3g} s",
+        freqs, before = welch_density(self.rows, s.sfreq, self.nperseg)
+        self.kept = freqs > 0
+        self.times = s.times[: self.rows.shape[-1]]
+        what = {"raw": f"first {self.times[-1] - self.times[0]:.3g} s",
                 "epochs": f"average of {self.rows.shape[0]} epochs",
                 "evoked": "the evoked response", "array": "the signal"}[s.kind]
-        return {"channel": self.channel, "label": what, "unit": s.unit,
-                "freqs": _numbers(self.freqs[keep]),
-                "before_db": _numbers(_db(self.before[keep])),
-                "after_db": _numbers(_db(after.mean(axis=0)[keep])),
-                "wave_before": _trace(times, self.rows.mean(axis=0)),
-                "wave_after": _trace(times, after_rows.mean(axis=0))}
+        # what does not depend on the design, computed once per channel
+        self.fixed = {"channel": channel, "label": what, "unit": s.unit,
+                      "freqs": _numbers(freqs[self.kept]),
+                      "before_db": _numbers(_db(before.mean(axis=0)[self.kept])),
+                      "wave_before": _trace(self.times, self.rows.mean(axis=0))}
+
+    def view(self, realized) -> dict:
+        after_rows = filter_array(self.rows, realized)
+        _, after = welch_density(after_rows, self.signals.sfreq, self.nperseg)
+        return {**self.fixed, "after_db": _numbers(_db(after.mean(axis=0)[self.kept])),
+                "wave_after": _trace(self.times, after_rows.mean(axis=0))}
 
 
 def _db(power) -> np.ndarray:
