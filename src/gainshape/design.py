@@ -21,6 +21,7 @@ from ._checks import check_bool, check_positive, warn
 from .curves import GainCurve
 from .measure import (Characteristics, characterize, max_deviation, passband_edges,
                       removed_bands, stop_band_words, timing_words)
+from .rates import TwoRates, two_rates
 from .realize import (KernelResponse, _kernel_spectrum, _minimum_phase_spectrum, _Realizer,
                       _requested_taps, _validated_gain)
 
@@ -58,6 +59,11 @@ class FilterDesign:  # numpydoc ignore=PR01
         The realized filter in the field's terms.
     notes : tuple of str
         What :func:`design` changed or wants the user to know.
+    rates : TwoRates or None
+        How a curve with a slow edge far below its fast one runs in two
+        parts, the slow one at a reduced rate (see :mod:`gainshape.rates`);
+        None when the whole kernel runs at ``sfreq``. ``kernel`` is then
+        the pair's equivalent kernel.
 
     See Also
     --------
@@ -80,6 +86,7 @@ class FilterDesign:  # numpydoc ignore=PR01
     offset: int
     characteristics: Characteristics
     notes: tuple = ()
+    rates: TwoRates | None = None
     _spectra: dict = field(default_factory=dict, repr=False, compare=False)
 
     @property
@@ -464,6 +471,47 @@ def _realized(curve, sfreq, causal, kernel_request, tolerance) -> tuple:
     said += _not_flat(curve, sfreq)
 
     fixed = not isinstance(kernel_request, str)
+    rates = None if (fixed or exact or causal) else two_rates(curve, sfreq, tolerance)
+    if rates is not None:
+        taps, offset = rates.equivalent_kernel()
+        response = KernelResponse(taps, offset, sfreq, causal)
+        deviation = max_deviation(curve, response)
+        if deviation + rates.alias_bound() > tolerance:
+            rates = None  # the split does not meet the request: one rate
+    if rates is None:
+        taps, offset, response, deviation = _one_rate(curve, sfreq, causal, kernel_request,
+                                                      tolerance)
+    chars = characterize(curve, response, tolerance, exact, deviation)
+    taps.setflags(write=False)
+    if not fixed and chars.max_deviation > tolerance:
+        said.append(
+            f"The longest kernel this design allows ({taps.size / sfreq:.4g} s) realizes the "
+            f"request only to within {chars.max_deviation:.3g} (tolerance {tolerance:g}); "
+            f"pass tolerance={_round_up(chars.max_deviation)} to accept it, or use a gentler "
+            "roll-off or a wider notch."
+        )
+    if fixed and chars.max_deviation > tolerance:
+        try:
+            shortest = _Realizer(curve, sfreq, causal, tolerance).shortest()[0]
+            fix = f"use kernel='shortest' ({shortest.size / sfreq:.3g} s) to meet it."
+        except ValueError:
+            fix = "no kernel length meets it: the request has a jump or a kink."
+        said.append(
+            f"A kernel of {taps.size / sfreq:.3g} s realizes the request only to "
+            f"within {chars.max_deviation:.3g} (tolerance {tolerance:g}); {fix}"
+        )
+    if chars.length > _LONG_KERNEL_SECONDS:
+        notes += (f"the kernel is {chars.length:.0f} s long (over {_LONG_KERNEL_SECONDS:g} s): "
+                  "records shorter than a few times that are mostly padding where it reaches; "
+                  "a gentler or higher low-frequency edge shortens it",)
+    realized = FilterDesign(curve, sfreq, causal, kernel_request, tolerance, taps, offset, chars,
+                            notes, rates)
+    return realized, tuple(said)
+
+
+def _one_rate(curve, sfreq, causal, kernel_request, tolerance) -> tuple:
+    """Kernel, offset, response and deviation of the request run at ``sfreq`` alone."""
+    fixed, exact = not isinstance(kernel_request, str), kernel_request == "exact"
     n_taps = _requested_taps(kernel_request, sfreq) if fixed else None
     realizer = _Realizer(curve, sfreq, causal, tolerance, min_n=2 * (n_taps or 0))
     if n_taps is None:
@@ -481,32 +529,7 @@ def _realized(curve, sfreq, causal, kernel_request, tolerance) -> tuple:
         taps, offset = realizer.of_length(longer)
         response = KernelResponse(taps, offset, sfreq, causal)
         deviation = max_deviation(curve, response)
-    chars = characterize(curve, response, tolerance, exact, deviation)
-    taps.setflags(write=False)
-    if not fixed and chars.max_deviation > tolerance:
-        said.append(
-            f"The longest kernel this design allows ({taps.size / sfreq:.4g} s) realizes the "
-            f"request only to within {chars.max_deviation:.3g} (tolerance {tolerance:g}); "
-            f"pass tolerance={_round_up(chars.max_deviation)} to accept it, or use a gentler "
-            "roll-off or a wider notch."
-        )
-    if fixed and chars.max_deviation > tolerance:
-        try:
-            fix = (f"use kernel='shortest' ({realizer.shortest()[0].size / sfreq:.3g} s) "
-                   "to meet it.")
-        except ValueError:
-            fix = "no kernel length meets it: the request has a jump or a kink."
-        said.append(
-            f"A kernel of {taps.size / sfreq:.3g} s realizes the request only to "
-            f"within {chars.max_deviation:.3g} (tolerance {tolerance:g}); {fix}"
-        )
-    if chars.length > _LONG_KERNEL_SECONDS:
-        notes += (f"the kernel is {chars.length:.0f} s long (over {_LONG_KERNEL_SECONDS:g} s): "
-                  "records shorter than a few times that are mostly padding where it reaches; "
-                  "a gentler or higher low-frequency edge shortens it",)
-    realized = FilterDesign(curve, sfreq, causal, kernel_request, tolerance, taps, offset, chars,
-                            notes)
-    return realized, tuple(said)
+    return taps, offset, response, deviation
 
 
 class _DesignStore:

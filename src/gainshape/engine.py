@@ -303,9 +303,16 @@ def _warn_if_short(design, start, stop, words):
 
 def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, advance):
     """Filter ``rows[group, start:stop]`` into ``out_rows``, in blocks of rows
-    and, for long segments, in overlapping blocks of time (overlap-save)."""
+    and, for long segments, in overlapping blocks of time (overlap-save).
+
+    A design in two rates (``design.rates``) runs its fast part in these
+    blocks and subtracts its slow part, made once per block of rows at the
+    reduced rate from padding as wide as the whole design needs.
+    """
     n_seg = stop - start
-    n_fft, step = block_plan(n_seg, design.support, whole=getattr(design, "exact", False))
+    rates = getattr(design, "rates", None)
+    fast = design if rates is None else rates.fast
+    n_fft, step = block_plan(n_seg, fast.support, whole=getattr(design, "exact", False))
     per_block = _rows_per_block(rows, n_fft, group.size, workers)
     blocks = [group[i : i + per_block] for i in range(0, group.size, per_block)]
     buf = np.zeros((per_block, n_fft), dtype=rows.dtype)
@@ -315,14 +322,22 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ad
     for block in blocks:
         sel = _as_index(block)
         seg = rows[sel, start:stop]
-        edges = edge_pads(seg, design.support, pad)
+        if rates is None:
+            edges = edge_pads(seg, design.support, pad)
+        else:  # whole frames of the reduced rate, and the fast part's share of them
+            n_pad = -(-design.support // rates.factor) * rates.factor
+            left, right = edge_pads(seg, n_pad, pad)
+            slow = rates.slow_output(left, seg, right)
+            edges = left[:, n_pad - fast.support :], right[:, : fast.support]
         carry = None
         for a in range(0, n_seg, step):
             b = min(a + step, n_seg)
-            filtered = filter_span(seg, edges, (a, b), design, buf[: block.size], workers=workers,
+            filtered = filter_span(seg, edges, (a, b), fast, buf[: block.size], workers=workers,
                                    carry=carry, spec=spec[: block.size])
+            if rates is not None:
+                filtered -= rates.interpolated(slow, n_pad + a, b - a)
             if in_place and b < n_seg:  # the next block's left context, before it is overwritten
-                carry = np.array(seg[:, b - design.support : b])
+                carry = np.array(seg[:, b - fast.support : b])
             out_rows[sel, start + a : start + b] = filtered
             advance(block.size * (b - a))
 
@@ -332,9 +347,9 @@ def block_plan(n_seg: int, n_pad: int, whole: bool = False, compact: bool = Fals
 
     One FFT over the whole padded segment when it is short or ``whole`` is
     asked for (a design applied exactly on the record's grid); otherwise blocks
-    of a power of two about 8 x the overlap (``2 n_pad``), at most 2**18
-    unless the overlap needs more: such FFTs stay in cache and run about
-    twice as fast per sample as one FFT of a long recording. The blocks are
+    of a power of two about 8 x the overlap (``2 n_pad``), at least 2**12 and
+    at most 2**18 unless the overlap needs more: such FFTs stay in cache and
+    run about twice as fast per sample as one FFT of a long recording. The blocks are
     then evened out so that the last is not mostly padding. ``compact``
     takes the smallest block with at most half of it overlap (for reading
     from disk with little memory).
@@ -347,7 +362,7 @@ def block_plan(n_seg: int, n_pad: int, whole: bool = False, compact: bool = Fals
     (245760, 200000)
     """
     n_whole = sfft.next_fast_len(n_seg + 2 * n_pad, real=True)
-    n_fft = max(2**15, min(2**18, 1 << int(np.ceil(np.log2(8 * max(n_pad, 1))))))
+    n_fft = max(2**12, min(2**18, 1 << int(np.ceil(np.log2(8 * max(n_pad, 1))))))
     if compact:
         n_fft = 2**12
     n_fft = max(n_fft, 1 << int(np.ceil(np.log2(4 * max(n_pad, 1)))))

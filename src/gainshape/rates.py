@@ -1,0 +1,283 @@
+"""Two rates for a curve with a slow edge far below its fast one.
+
+Vocabulary: the *split* is a frequency where the request is flat (its
+*level* c > 0); below it the request is ``c * (1 - Q(f))``, above it
+anything. The filter then runs as two parts whose sum is the request:
+
+* the *fast part*, at the full rate, realizes the request with everything
+  below the split held at c (``curve(max(f, split))``): a short kernel;
+* the *slow part* subtracts ``c * Q``: the data are decimated by an integer
+  *factor* M (a triangular anti-aliasing filter, two M-sample boxcars, as
+  polyphase weights), filtered at the reduced rate by a kernel for ``Q``
+  divided by the decimation and interpolation filters' own droop, and
+  interpolated back (linearly: the same triangle), in frames of M samples.
+
+Together they are a periodically time-varying system. Its time-invariant
+part is the *equivalent kernel* ``h_fast - c/M * (u * q_upsampled * d)``,
+which is what designs report and plot; the rest is *aliasing*, bounded by
+:meth:`TwoRates.alias_bound` and counted against the tolerance.
+This module knows nothing of MNE.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.fft as sfft
+from scipy.signal import fftconvolve
+
+from .realize import KernelResponse, _kernel_spectrum, _Realizer
+
+__all__ = ["KernelPart", "TwoRates", "two_rates"]
+
+_FLAT = 0.01  # the request may move this fraction of the tolerance around the split
+_POINTS_PER_OCTAVE = 48  # the log grid the split is searched on
+_RATE_PER_SPLIT = 8.0  # the reduced rate is at least this many times the split frequency
+_MIN_FACTOR = 8  # a smaller rate reduction is not worth a second rate
+_MIN_SAVED = 16  # ... nor is one that shortens the full-rate kernel less than this many times
+_FAST_SHARE, _SLOW_SHARE = 0.5, 0.4  # of the tolerance; the rest is for aliasing
+
+
+@dataclass(frozen=True, eq=False)
+class KernelPart:
+    """A zero-phase kernel at a rate: what the engine needs to run it.
+
+    Examples
+    --------
+    >>> part = KernelPart(np.array([0.25, 0.5, 0.25]), 1, 100.0)
+    >>> part.support, part.spectrum(4).round(3).tolist()
+    (1, [1.0, 0.5, 0.0])
+    """
+
+    kernel: np.ndarray
+    offset: int
+    sfreq: float
+    _spectra: dict = field(default_factory=dict, repr=False)
+
+    @property
+    def support(self) -> int:
+        """Samples the kernel reaches on either side of t = 0."""
+        return int(max(self.offset, self.kernel.size - 1 - self.offset))
+
+    def spectrum(self, n_fft: int, dtype=np.float64) -> np.ndarray:
+        """Response on the rfft grid of ``n_fft`` points (t = 0 first), cached."""
+        key = (n_fft, np.dtype(dtype) == np.float32)
+        if key not in self._spectra:
+            spec = _kernel_spectrum(self.kernel, self.offset, n_fft, causal=False)
+            self._spectra[key] = spec.astype(np.float32) if key[1] else spec
+        return self._spectra[key]
+
+
+@dataclass(frozen=True, eq=False)
+class TwoRates:
+    """The two parts of a split filter and how the slow part changes rate.
+
+    Attributes
+    ----------
+    factor : int
+        Decimation factor M; the slow part runs at ``sfreq / factor``.
+    split : float
+        Frequency (Hz) below which the slow part acts.
+    level : float
+        The request's gain at ``split``.
+    fast, slow : KernelPart
+        The fast part (full rate) and the slow part (reduced rate).
+    """
+
+    factor: int
+    split: float
+    level: float
+    fast: KernelPart
+    slow: KernelPart
+
+    @property
+    def reduced_rate(self) -> float:
+        """The slow part's sampling rate in Hz."""
+        return self.fast.sfreq / self.factor
+
+    def equivalent_kernel(self) -> tuple[np.ndarray, int]:
+        """The time-invariant part as one full-rate kernel: (kernel, offset).
+
+        Examples
+        --------
+        >>> from gainshape import highpass
+        >>> parts = two_rates(highpass(0.05, rolloff=24.0), 1000.0, 0.001)
+        >>> kernel, offset = parts.equivalent_kernel()
+        >>> bool(abs(kernel.sum()) < 1e-3)  # a high-pass removes the mean
+        True
+        """
+        m, q = self.factor, self.slow
+        stuffed = np.zeros(m * (q.kernel.size - 1) + 1)
+        stuffed[::m] = q.kernel
+        smoothing = _triangle(m)  # decimation d (sum 1) convolved with interpolation u (sum m)
+        slow = fftconvolve(stuffed, fftconvolve(smoothing, smoothing * m)) * (self.level / m)
+        centre = m * q.offset + 2 * (m - 1)
+        half = max(centre, slow.size - 1 - centre, self.fast.support)
+        kernel = np.zeros(2 * half + 1)
+        kernel[half - centre : half - centre + slow.size] -= slow
+        f = self.fast
+        kernel[half - f.offset : half - f.offset + f.kernel.size] += f.kernel
+        return kernel, half
+
+    def alias_bound(self) -> float:
+        """Largest gain, summed over every frequency that folds onto one, with
+        which the rate change leaks a frequency into another (conservative).
+
+        Examples
+        --------
+        >>> from gainshape import highpass
+        >>> bool(two_rates(highpass(0.05, rolloff=12.0), 1000.0, 0.001).alias_bound() < 1e-4)
+        True
+        """
+        m, sfreq, low = self.factor, self.fast.sfreq, self.reduced_rate
+        out = np.linspace(0.0, low / 2.0, 2049)
+        slow = np.abs(KernelResponse(self.slow.kernel, self.slow.offset, low, False).gain_at(out))
+        folded = sum(_triangle_gain(out + k * low, m, sfreq) for k in range(1, m))
+        return float(np.max(self.level * slow * _triangle_gain(out, m, sfreq) * folded))
+
+    def slow_output(self, left, seg, right) -> np.ndarray:
+        """The slow part's output at the reduced rate for a padded segment.
+
+        ``left`` and ``right`` are the padding (a whole number of frames
+        each); sample j of the result sits at padded index ``j * factor``.
+        """
+        m = self.factor
+        n_body = seg.shape[1] - seg.shape[1] % m
+        tail = np.concatenate([seg[:, n_body:], right], axis=1)
+        tail = np.pad(tail, ((0, 0), (0, -tail.shape[1] % m)))
+        weights = _decimation_weights(m).astype(seg.dtype, copy=False)
+        parts = [_frames(x, m) @ weights for x in (left, seg[:, :n_body], tail)]
+        both = np.concatenate(parts, axis=1)  # (rows, frames, 2)
+        reduced = both[:, :, 0]
+        reduced[:, 1:] += both[:, :-1, 1]
+        return _convolved(reduced, self.slow)
+
+    def interpolated(self, slow, first: int, n: int) -> np.ndarray:
+        """``level`` times the slow output interpolated to padded indices
+        ``first ... first + n - 1`` of the full rate.
+
+        Examples
+        --------
+        >>> from gainshape import highpass
+        >>> parts = two_rates(highpass(0.05, rolloff=24.0), 1000.0, 0.001)
+        >>> m = parts.factor
+        >>> slow = np.array([[0.0, 1.0, 2.0, 3.0]])
+        >>> bool(np.allclose(parts.interpolated(slow, m, m)[0] / parts.level,
+        ...                  1.0 + np.arange(m) / m))
+        True
+        """
+        m = self.factor
+        j0, j1 = first // m, (first + n - 1) // m + 1
+        pairs = np.stack([slow[:, j0:j1], slow[:, j0 + 1 : j1 + 1]], axis=-1)
+        up = (pairs @ (self.level * _interpolation_weights(m)).astype(slow.dtype, copy=False))
+        up = up.reshape(slow.shape[0], -1)
+        return up[:, first - j0 * m : first - j0 * m + n]
+
+
+def two_rates(curve, sfreq: float, tolerance: float) -> TwoRates | None:
+    """The split of ``curve`` at ``sfreq`` into a fast and a slow part, or None
+    when the curve has no slow edge far enough below its fast one.
+
+    The parts are designed within shares of ``tolerance``; whether their sum
+    meets it is for the caller to check (equivalent kernel and alias bound).
+
+    Examples
+    --------
+    >>> from gainshape import highpass, lowpass
+    >>> parts = two_rates(highpass(0.05) * lowpass(30.0, rolloff=24.0), 1000.0, 0.001)
+    >>> parts.factor >= 8, parts.fast.kernel.size < 1000
+    (True, True)
+    >>> two_rates(lowpass(30.0), 1000.0, 0.001) is None
+    True
+    """
+    found = _split(curve, sfreq, tolerance)
+    if found is None:
+        return None
+    split, level = found
+    factor = int(sfreq // (_RATE_PER_SPLIT * split))
+    if factor < _MIN_FACTOR:
+        return None
+    low = sfreq / factor
+
+    def fast_curve(f):
+        return curve(np.maximum(f, split))
+
+    def slow_curve(f):  # what the slow part removes, over the rate change's own droop
+        removed = np.maximum(1.0 - curve(np.minimum(f, split)) / level, 0.0)
+        return removed / _triangle_gain(f, factor, sfreq) ** 2
+
+    try:
+        fast = _Realizer(fast_curve, sfreq, False, _FAST_SHARE * tolerance).shortest()
+        slow = _Realizer(slow_curve, low, False, _SLOW_SHARE * tolerance / level).shortest()
+    except ValueError:  # a part no kernel realizes: the caller runs one rate
+        return None
+    if fast[0].size * _MIN_SAVED > slow[0].size * factor:
+        return None
+    return TwoRates(factor, split, level, KernelPart(*fast, sfreq), KernelPart(*slow, low))
+
+
+def _split(curve, sfreq, tolerance):
+    """The lowest frequency with a passband gain that the request holds
+    within ``_FLAT * tolerance`` for an octave on each side, below which it
+    only falls (by more than the tolerance): (split, level) or None."""
+    freqs = np.geomspace(sfreq / 2**22, sfreq / 2.0, 21 * _POINTS_PER_OCTAVE + 1)
+    gain = np.asarray(curve(freqs), dtype=float)
+    w = _POINTS_PER_OCTAVE
+    for i in range(w, freqs.size - w):
+        level = gain[i]
+        near = gain[i - w : i + w + 1]
+        if level < 0.5 or np.ptp(near) > _FLAT * tolerance * level:
+            continue
+        below = gain[:i]
+        if below.max() > level * (1.0 + _FLAT * tolerance) or below.min() > level - tolerance:
+            return None
+        return float(freqs[i]), float(level)
+    return None
+
+
+def _triangle(m: int) -> np.ndarray:
+    """Two boxcars of ``m`` samples convolved, scaled to sum 1 (2m - 1 samples)."""
+    return np.convolve(np.ones(m), np.ones(m)) / m**2
+
+
+def _triangle_gain(freqs, m: int, sfreq: float) -> np.ndarray:
+    """Gain of :func:`_triangle` at ``freqs`` (Hz): the M-point Dirichlet kernel squared.
+
+    >>> _triangle_gain(np.array([0.0, 12.5, 25.0]), 4, 100.0).round(4).tolist()
+    [1.0, 0.4268, 0.0]
+    """
+    x = np.pi * np.asarray(freqs, dtype=float) / sfreq
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = np.sin(m * x) / (m * np.sin(x))
+    return np.where(np.abs(np.sin(x)) < 1e-12, 1.0, ratio) ** 2
+
+
+def _decimation_weights(m: int) -> np.ndarray:
+    """(m, 2) weights: frame j times column 0 plus frame j - 1 times column 1
+    is the triangle-filtered sample at the start of frame j."""
+    d = _triangle(m)  # d[m - 1] is t = 0
+    weights = np.zeros((m, 2))
+    weights[:, 0] = d[m - 1 :]
+    weights[1:, 1] = d[: m - 1]
+    return weights
+
+
+def _interpolation_weights(m: int) -> np.ndarray:
+    """(2, m) weights: samples j and j + 1 to the m samples of frame j (linear)."""
+    r = np.arange(m) / m
+    return np.stack([1.0 - r, r])
+
+
+def _frames(x: np.ndarray, m: int) -> np.ndarray:
+    """Rows of ``x`` (length a multiple of m) as (rows, frames, m), a view when possible."""
+    return x.reshape(x.shape[0], -1, m)
+
+
+def _convolved(reduced: np.ndarray, part: KernelPart) -> np.ndarray:
+    """Circular convolution of each row with the part's kernel, on an FFT long
+    enough that the wrap stays within the padding."""
+    n = sfft.next_fast_len(reduced.shape[1] + part.support, real=True)
+    spec = sfft.rfft(reduced, n, axis=-1)
+    spec *= part.spectrum(n, reduced.dtype)
+    return sfft.irfft(spec, n, axis=-1)[:, : reduced.shape[1]].astype(reduced.dtype, copy=False)
