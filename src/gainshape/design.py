@@ -371,6 +371,7 @@ class FilterDesign:  # numpydoc ignore=PR01
             ("kernel length", f"{c.length:.4g} s ({self.kernel.size} samples)"),
             ("truncation", truncation),
             ("sampling rate", f"{self.sfreq:g} Hz"),
+            ("rates", rate_words(self.rates.to_dict()) if self.rates else "one (the whole kernel at the sampling rate)"),
         ] + [("note", n) for n in self.notes]
 
     def __repr__(self):
@@ -476,7 +477,7 @@ def _realized(curve, sfreq, causal, kernel_request, tolerance) -> tuple:
         taps, offset = rates.equivalent_kernel()
         response = KernelResponse(taps, offset, sfreq, causal)
         deviation = max_deviation(curve, response)
-        if deviation + rates.alias_bound() > tolerance:
+        if deviation + rates.aliasing > tolerance:
             rates = None  # the split does not meet the request: one rate
     if rates is None:
         taps, offset, response, deviation = _one_rate(curve, sfreq, causal, kernel_request,
@@ -620,6 +621,22 @@ def check_kernel_request(kernel):
             "kernel within tolerance), 'exact' (no truncation) or a length in seconds."
         )
     return check_positive("kernel", kernel)
+
+
+def rate_words(two_rates: dict) -> str:
+    """How a filter in two rates ran, in words (from :meth:`TwoRates.to_dict`).
+
+    Examples
+    --------
+    >>> rate_words({"split_hz": 2.0, "reduced_rate_hz": 16.13, "factor": 62,
+    ...             "full_rate_kernel_samples": 203, "aliasing_bound": 1.6e-05})[:44]
+    'two: below 2 Hz at 16.13 Hz (decimated by 62'
+    """
+    r = two_rates
+    return (f"two: below {r['split_hz']:.3g} Hz at {r['reduced_rate_hz']:.4g} Hz (decimated by "
+            f"{r['factor']} after a triangular anti-aliasing filter, interpolated back "
+            f"linearly), above it a {r['full_rate_kernel_samples']}-sample kernel at the full "
+            f"rate; aliasing at most {r['aliasing_bound']:.2g}")
 
 
 def phase_words(causal: bool, group_delay: float) -> str:

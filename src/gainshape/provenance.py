@@ -133,6 +133,7 @@ def make_step(design, *, channels, pad, nan, segments, dtype, before, after,
             "kernel": design.kernel_request,
             "tolerance": design.tolerance,
             "kernel_samples": int(design.kernel.size),
+            "two_rates": design.rates.to_dict() if design.rates else None,
             "notes": list(design.notes),
         },
         "realized": design.characteristics.to_dict(),
@@ -586,9 +587,21 @@ def _step_sentences(step) -> str:
         f"samples at {d.get('sfreq', float('nan')):g} Hz)"
     )
     text.append(f"{length}.")
+    if isinstance(d.get("two_rates"), dict):
+        text.append(_two_rates_sentence(d["two_rates"]))
     text.append(f"Each continuous segment was padded at both ends ({a.get('pad', 'reflect')} "
                 "mode of numpy.pad) by at least the kernel's half-length.")
     return " ".join(text)
+
+
+def _two_rates_sentence(r) -> str:
+    """How the kernel above ran in two rates (see gainshape.rates)."""
+    return (f"It ran in two parts whose sum is that kernel: frequencies below "
+            f"{r['split_hz']:.3g} Hz were filtered at a reduced rate of "
+            f"{r['reduced_rate_hz']:.4g} Hz (decimation by {r['factor']} after a triangular "
+            "anti-aliasing filter, linear interpolation back) and subtracted from the output of "
+            f"a {r['full_rate_kernel_samples']}-sample kernel at the full rate; the rate change "
+            f"leaked at most {r['aliasing_bound']:.2g} of any frequency into others.")
 
 
 def _phase_words(step) -> str:

@@ -15,7 +15,7 @@ anything. The filter then runs as two parts whose sum is the request:
 Together they are a periodically time-varying system. Its time-invariant
 part is the *equivalent kernel* ``h_fast - c/M * (u * q_upsampled * d)``,
 which is what designs report and plot; the rest is *aliasing*, bounded by
-:meth:`TwoRates.alias_bound` and counted against the tolerance.
+:func:`alias_bound` and counted against the tolerance.
 This module knows nothing of MNE.
 """
 
@@ -29,7 +29,7 @@ from scipy.signal import fftconvolve
 
 from .realize import KernelResponse, _kernel_spectrum, _Realizer
 
-__all__ = ["KernelPart", "TwoRates", "two_rates"]
+__all__ = ["KernelPart", "TwoRates", "two_rates", "alias_bound"]
 
 _FLAT = 0.01  # the request may move this fraction of the tolerance around the split
 _POINTS_PER_OCTAVE = 48  # the log grid the split is searched on
@@ -83,6 +83,8 @@ class TwoRates:
         The request's gain at ``split``.
     fast, slow : KernelPart
         The fast part (full rate) and the slow part (reduced rate).
+    aliasing : float
+        :func:`alias_bound` of the pair.
     """
 
     factor: int
@@ -90,6 +92,10 @@ class TwoRates:
     level: float
     fast: KernelPart
     slow: KernelPart
+    aliasing: float = field(init=False)
+
+    def __post_init__(self):
+        object.__setattr__(self, "aliasing", alias_bound(self))
 
     @property
     def reduced_rate(self) -> float:
@@ -120,21 +126,20 @@ class TwoRates:
         kernel[half - f.offset : half - f.offset + f.kernel.size] += f.kernel
         return kernel, half
 
-    def alias_bound(self) -> float:
-        """Largest gain, summed over every frequency that folds onto one, with
-        which the rate change leaks a frequency into another (conservative).
+    def to_dict(self) -> dict:
+        """The split as plain numbers, for step records.
 
         Examples
         --------
         >>> from gainshape import highpass
-        >>> bool(two_rates(highpass(0.05, rolloff=12.0), 1000.0, 0.001).alias_bound() < 1e-4)
+        >>> parts = two_rates(highpass(0.05, rolloff=12.0), 1000.0, 0.001)
+        >>> parts.to_dict()["factor"] == parts.factor
         True
         """
-        m, sfreq, low = self.factor, self.fast.sfreq, self.reduced_rate
-        out = np.linspace(0.0, low / 2.0, 2049)
-        slow = np.abs(KernelResponse(self.slow.kernel, self.slow.offset, low, False).gain_at(out))
-        folded = sum(_triangle_gain(out + k * low, m, sfreq) for k in range(1, m))
-        return float(np.max(self.level * slow * _triangle_gain(out, m, sfreq) * folded))
+        return {"split_hz": self.split, "reduced_rate_hz": self.reduced_rate,
+                "factor": self.factor, "full_rate_kernel_samples": int(self.fast.kernel.size),
+                "reduced_rate_kernel_samples": int(self.slow.kernel.size),
+                "aliasing_bound": self.aliasing}
 
     def slow_output(self, left, seg, right) -> np.ndarray:
         """The slow part's output at the reduced rate for a padded segment.
@@ -215,6 +220,24 @@ def two_rates(curve, sfreq: float, tolerance: float) -> TwoRates | None:
     if fast[0].size * _MIN_SAVED > slow[0].size * factor:
         return None
     return TwoRates(factor, split, level, KernelPart(*fast, sfreq), KernelPart(*slow, low))
+
+
+def alias_bound(parts: TwoRates) -> float:
+    """Largest gain, summed over every frequency that folds onto one, with
+    which the rate change of ``parts`` leaks a frequency into another
+    (conservative: the folded gains are added as if in phase).
+
+    Examples
+    --------
+    >>> from gainshape import highpass
+    >>> bool(two_rates(highpass(0.05, rolloff=12.0), 1000.0, 0.001).aliasing < 1e-4)
+    True
+    """
+    m, sfreq, low = parts.factor, parts.fast.sfreq, parts.reduced_rate
+    out = np.linspace(0.0, low / 2.0, 2049)
+    slow = np.abs(KernelResponse(parts.slow.kernel, parts.slow.offset, low, False).gain_at(out))
+    folded = sum(_triangle_gain(out + k * low, m, sfreq) for k in range(1, m))
+    return float(np.max(parts.level * slow * _triangle_gain(out, m, sfreq) * folded))
 
 
 def _split(curve, sfreq, tolerance):
