@@ -112,7 +112,25 @@ class _BlockReader:
 
     def _plan(self, segment):
         s, e = segment
-        return block_plan(e - s, self.filt.support, compact=True)
+        return block_plan(e - s, self._fast.support, compact=True)
+
+    @property
+    def _fast(self):
+        """What runs at the full rate: the design, or its fast part."""
+        return self.filt if self.filt.rates is None else self.filt.rates.fast
+
+    def _prepared(self, view):
+        """The segment's padding for the full-rate kernel and, for a design in
+        two rates, the slow part's output over the whole segment (read once,
+        1/factor of the segment's size)."""
+        rates, fast = self.filt.rates, self._fast
+        if rates is None:
+            return edge_pads(view, fast.support, self.pad), None, 0
+        n_pad = -(-self.filt.support // rates.factor) * rates.factor
+        left, right = edge_pads(view, n_pad, self.pad)
+        slow = rates.slow_output(left, view, right)
+        # copies: the wide padding is not kept while the segment is read
+        return (left[:, n_pad - fast.support :].copy(), right[:, : fast.support].copy()), slow, n_pad
 
     def _filtered(self, start, stop):
         out = self.raw.get_data(start=start, stop=stop)
@@ -122,8 +140,8 @@ class _BlockReader:
                 continue
             view = _SegmentView(self.raw, self.rows, s, e, self.names)
             if (s, e) not in self.edges:
-                self.edges = {(s, e): edge_pads(view, self.filt.support, self.pad)}
-            left, right = self.edges[(s, e)]
+                self.edges = {(s, e): self._prepared(view)}
+            (left, right), slow, n_pad = self.edges[(s, e)]
             n_fft, step = self._plan((s, e))
             buf = np.zeros((min(_ROWS_PER_FFT, len(self.rows)), n_fft))
             spec = spectrum_buffer(buf)
@@ -132,9 +150,12 @@ class _BlockReader:
                 for g in range(0, len(self.rows), _ROWS_PER_FFT):  # all rows read once
                     group = slice(g, g + _ROWS_PER_FFT)
                     k = len(self.rows[group])
-                    out[self.rows[group], s + lo - start : s + hi - start] = filter_span(
+                    filtered = filter_span(
                         _RowGroup(view, group, k), (left[group], right[group]), (lo, hi),
-                        self.filt, buf[:k], workers=self.workers, spec=spec[:k])
+                        self._fast, buf[:k], workers=self.workers, spec=spec[:k])
+                    if slow is not None:
+                        filtered -= self.filt.rates.interpolated(slow[group], n_pad + lo, hi - lo)
+                    out[self.rows[group], s + lo - start : s + hi - start] = filtered
         return out
 
 

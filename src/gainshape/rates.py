@@ -22,6 +22,7 @@ This module knows nothing of MNE.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from itertools import chain
 
 import numpy as np
 import scipy.fft as sfft
@@ -37,6 +38,7 @@ _RATE_PER_SPLIT = 8.0  # the reduced rate is at least this many times the split 
 _MIN_FACTOR = 8  # a smaller rate reduction is not worth a second rate
 _MIN_SAVED = 16  # ... nor is one that shortens the full-rate kernel less than this many times
 _FAST_SHARE, _SLOW_SHARE = 0.5, 0.4  # of the tolerance; the rest is for aliasing
+_CHUNK_SAMPLES = 2**13  # samples per row decimated at a time (bounded temporaries)
 
 
 @dataclass(frozen=True, eq=False)
@@ -145,17 +147,28 @@ class TwoRates:
         """The slow part's output at the reduced rate for a padded segment.
 
         ``left`` and ``right`` are the padding (a whole number of frames
-        each); sample j of the result sits at padded index ``j * factor``.
+        each); ``seg`` is any 2-D array-like with ``shape`` and ``seg[:, lo:hi]``
+        slices (a lazy view of a file too), read in chunks of whole frames.
+        Sample j of the result sits at padded index ``j * factor``.
         """
-        m = self.factor
-        n_body = seg.shape[1] - seg.shape[1] % m
-        tail = np.concatenate([seg[:, n_body:], right], axis=1)
+        m, n = self.factor, seg.shape[1]
+        n_body = n - n % m
+        chunk = m * max(1, _CHUNK_SAMPLES // m)
+        weights = _decimation_weights(m).astype(left.dtype, copy=False)
+        rest = np.asarray(seg[:, n_body:n]) if n > n_body else right[:, :0]
+        tail = np.concatenate([rest, right], axis=1)
         tail = np.pad(tail, ((0, 0), (0, -tail.shape[1] % m)))
-        weights = _decimation_weights(m).astype(seg.dtype, copy=False)
-        parts = [_frames(x, m) @ weights for x in (left, seg[:, :n_body], tail)]
-        both = np.concatenate(parts, axis=1)  # (rows, frames, 2)
-        reduced = both[:, :, 0]
-        reduced[:, 1:] += both[:, :-1, 1]
+        body = (np.asarray(seg[:, lo : min(lo + chunk, n_body)]) for lo in range(0, n_body, chunk))
+        reduced = np.zeros((left.shape[0], (left.shape[1] + n_body + tail.shape[1]) // m),
+                           dtype=weights.dtype)
+        j = 0
+        for x in chain([left], body, [tail]):
+            both = _frames(x, m) @ weights  # (rows, frames, 2)
+            j1 = j + both.shape[1]
+            reduced[:, j:j1] += both[:, :, 0]  # frame j's own share ...
+            end = min(j1 + 1, reduced.shape[1])
+            reduced[:, j + 1 : end] += both[:, : end - j - 1, 1]  # ... and the next frame's
+            j = j1
         return _convolved(reduced, self.slow)
 
     def interpolated(self, slow, first: int, n: int) -> np.ndarray:
@@ -297,10 +310,13 @@ def _frames(x: np.ndarray, m: int) -> np.ndarray:
     return x.reshape(x.shape[0], -1, m)
 
 
-def _convolved(reduced: np.ndarray, part: KernelPart) -> np.ndarray:
-    """Circular convolution of each row with the part's kernel, on an FFT long
-    enough that the wrap stays within the padding."""
+def _convolved(reduced: np.ndarray, part: KernelPart, rows: int = 4) -> np.ndarray:
+    """Each row convolved with the part's kernel, in place, a few rows at a
+    time (circular, on an FFT long enough that the wrap stays in the padding)."""
     n = sfft.next_fast_len(reduced.shape[1] + part.support, real=True)
-    spec = sfft.rfft(reduced, n, axis=-1)
-    spec *= part.spectrum(n, reduced.dtype)
-    return sfft.irfft(spec, n, axis=-1)[:, : reduced.shape[1]].astype(reduced.dtype, copy=False)
+    response = part.spectrum(n, reduced.dtype)
+    for g in range(0, reduced.shape[0], rows):
+        spec = sfft.rfft(reduced[g : g + rows], n, axis=-1)
+        spec *= response
+        reduced[g : g + rows] = sfft.irfft(spec, n, axis=-1)[:, : reduced.shape[1]]
+    return reduced
