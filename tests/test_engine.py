@@ -42,6 +42,26 @@ def test_every_pad_mode_equals_numpy_pad_then_fft(pad, rng):
     np.testing.assert_allclose(y, ref, atol=1e-12)
 
 
+@pytest.mark.filterwarnings("ignore:.*shorter than 3 times:UserWarning")
+@pytest.mark.parametrize("pad", PAD_MODES)
+@pytest.mark.parametrize("design", [gs.design(gs.highpass(0.1) * gs.lowpass(30.0), SFREQ),
+                                    gs.design(gs.highpass(0.1), SFREQ, causal=True)],
+                         ids=["zero-phase", "minimum-phase"])
+def test_short_epochs_beside_a_long_kernel_equal_numpy_pad_then_fft(pad, design, rng):
+    # 0.5 s epochs, padding over 20 times longer: reflect, symmetric and wrap run as
+    # one period of their extension; reference: numpy.pad, one FFT round trip
+    import scipy.fft as sfft
+
+    x = rng.standard_normal((3, 125))
+    p = design.support
+    assert p >= 20 * x.shape[-1]
+    y = filter_array(x, design, pad=pad)
+    n = sfft.next_fast_len(125 + 2 * p, real=True)
+    padded = np.pad(x, ((0, 0), (p, p)), mode=pad)
+    ref = sfft.irfft(sfft.rfft(padded, n) * design.spectrum(n), n)[:, p : p + 125]
+    np.testing.assert_allclose(y, ref, atol=1e-12 * np.abs(ref).max())
+
+
 def test_rows_subset_leaves_others_bit_identical(rng):
     x = rng.standard_normal((4, 5000))
     y = filter_array(x, DESIGN, rows=[1, 3])

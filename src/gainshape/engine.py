@@ -20,6 +20,7 @@ import scipy.fft as sfft
 
 from . import _compat
 from ._checks import check_int, check_option, warn
+from .rates import KernelPart
 
 __all__ = ["Progress", "check_samples", "filter_array", "check_finite", "filter_span", "edge_pads", "block_plan", "PAD_MODES",
            "convolve_rows", "spectrum_buffer", "fft_workers"]
@@ -125,8 +126,9 @@ def filter_array(
         for group, group_segments in _row_groups(all_rows, picked, segments, nan):
             for start, stop in group_segments:
                 _warn_if_short(design, start, stop, words or SegmentWords())
-                _filter_segment(all_rows, out_rows, group, start, stop, design, pad, workers,
-                                advance)
+                periodic = _periodic_extension(stop - start, design, pad)
+                filter_rows = _filter_periodic if periodic else _filter_segment
+                filter_rows(all_rows, out_rows, group, start, stop, design, pad, workers, advance)
     return out
 
 
@@ -301,6 +303,57 @@ def _warn_if_short(design, start, stop, words):
     )
 
 
+_PERIODS = {"reflect": lambda n: 2 * n - 2, "symmetric": lambda n: 2 * n, "wrap": lambda n: n}
+
+
+def _periodic_extension(n_seg: int, design, pad: str) -> bool:
+    """True when the segment is short beside the kernel (the padding at least
+    twice the segment on each side) and the pad mode extends it periodically.
+
+    ``numpy.pad``'s "reflect", "symmetric" and "wrap" modes, however wide,
+    are the periodic extension of the segment mirrored (period 2n - 2 or 2n)
+    or repeated (period n). Filtering it is then a circular convolution over
+    one period with the kernel folded onto that period: exactly the padded
+    result, for the work of about three segments instead of the segment
+    plus its padding. Zero-phase kernels only (their folded spectra are real).
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace
+    >>> long_kernel = SimpleNamespace(support=50_000, exact=False)
+    >>> _periodic_extension(2000, long_kernel, "reflect"), _periodic_extension(2000, long_kernel, "edge")
+    (True, False)
+    """
+    return (pad in _PERIODS and not getattr(design, "exact", False) and n_seg > 1
+            and not getattr(design, "causal", False) and design.support >= 2 * n_seg)
+
+
+def _filter_periodic(rows, out_rows, group, start, stop, design, pad, workers, advance):
+    """Filter ``rows[group, start:stop]`` as the periodic extension its pad
+    mode makes (see :func:`_periodic_extension`): the kernel folded onto one
+    period reaches about one segment to each side, so padding by it is
+    the same extension, and the blocks are about three segments long."""
+    folded = _folded(design, _PERIODS[pad](stop - start))
+    _filter_segment(rows, out_rows, group, start, stop, folded, pad, workers, advance)
+
+
+def _folded(design, period: int) -> KernelPart:
+    """The kernel folded onto ``period`` samples, centred, cached with the design.
+
+    >>> from types import SimpleNamespace
+    >>> k = SimpleNamespace(kernel=np.array([1.0, 2.0, 3.0]), offset=1, sfreq=10.0, _spectra={})
+    >>> _folded(k, 2).kernel.tolist()  # t = -1 and 1 fall on the same sample
+    [4.0, 2.0]
+    """
+    key = ("folded", period)
+    if key not in design._spectra:
+        half = period // 2
+        at = (np.arange(design.kernel.size) - design.offset + half) % period
+        folded = np.bincount(at, weights=design.kernel, minlength=period)
+        design._spectra[key] = KernelPart(folded, half, design.sfreq)
+    return design._spectra[key]
+
+
 def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, advance):
     """Filter ``rows[group, start:stop]`` into ``out_rows``, in blocks of rows
     and, for long segments, in overlapping blocks of time (overlap-save).
@@ -430,8 +483,7 @@ def edge_pads(seg, n_pad: int, mode: str):
             return np.repeat(head[:, :1], n_pad, 1), np.repeat(tail[:, -1:], n_pad, 1)
         zeros = np.zeros((k, n_pad), dtype=head.dtype)
         return zeros, zeros
-    full = np.asarray(seg[:, :])
-    padded = np.stack([np.pad(row, n_pad, mode=mode) for row in full])
+    padded = np.pad(np.asarray(seg[:, :]), ((0, 0), (n_pad, n_pad)), mode=mode)  # row by row
     return padded[:, :n_pad], padded[:, n_pad + n :]
 
 
