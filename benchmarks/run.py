@@ -1,12 +1,16 @@
-"""Side-by-side speed and memory of gainshape, MNE-Python and a bare FFT round trip.
+"""Side by side: gainshape and MNE-Python on 2-, 10- and 60-minute recordings and on Epochs.
 
-Workload: a simulated 64-channel, 10-minute, 1000 Hz recording (``--quick``:
-16 channels, 2 minutes). Each case runs in its own process, after its imports
-and inputs are ready; working memory is the peak resident set size during the
-case (Linux VmHWM, reset just before) minus the size before it and minus the
-output, as a multiple of the data size.
+Workload: simulated 64-channel recordings at 1000 Hz read back from FIF
+files (``--quick``: 16 channels, 2 minutes, no Epochs). Each case runs in
+its own process after its imports and inputs are ready; time is the best of
+``--repeat`` runs (design included in gainshape's times: the curve is
+passed, not a ready design); working memory is the peak resident set size
+during the case (Linux VmHWM, reset just before) minus the size before it
+and minus the output, as a multiple of the data size. The 60-minute cases
+run from file to file: gainshape out of core (``preload=False``), MNE in
+memory; their peak memory is reported in MB.
 
-    python benchmarks/run.py [--quick] [--n-jobs N] [--out results.json]
+    python benchmarks/run.py [--quick] [--minutes 2 10 60] [--repeat 3] [--out results.json]
 """
 
 from __future__ import annotations
@@ -16,8 +20,8 @@ import json
 import os
 import platform
 import subprocess
-import tempfile
 import sys
+import tempfile
 import time
 from pathlib import Path
 
@@ -26,33 +30,53 @@ import numpy as np
 # MNE's Raw.filter(0.1, 30) defaults put the -6 dB points at 0.05 Hz (0.1 Hz
 # transition band) and 33.75 Hz (7.5 Hz transition band), as MNE reports; its
 # kernel is 33 s long. The matched gain curve has the same half-amplitude
-# points, a 12 dB/octave high-pass edge (a 48 s kernel) and a 24 dB/octave
-# low-pass edge.
+# points, a 12 dB/octave high-pass edge and a 24 dB/octave low-pass edge;
+# the steep one has 24 dB/octave on both.
 MNE_BAND = (0.1, 30.0)
 HALF_AMPLITUDE = (0.05, 33.75)
+NOTCH, HARMONICS = 50.0, 3
+SFREQ = 1000.0
+EPOCHS, EPOCH_SECONDS = 300, 2.0
+TARGETS = {"float64": 4.0, "float32": 8.0, "epochs": 4.0}
 
 
-def matched_curve():
+def curve_of(name):
     import gainshape as gs
 
-    return gs.highpass(HALF_AMPLITUDE[0], rolloff=12.0) * gs.lowpass(HALF_AMPLITUDE[1], rolloff=24.0)
-NOTCH = 50.0
-HARMONICS = 3
+    high = 24.0 if name == "steep" else 12.0
+    if name == "low-pass":
+        return gs.lowpass(HALF_AMPLITUDE[1], rolloff=24.0)
+    return gs.highpass(HALF_AMPLITUDE[0], rolloff=high) * gs.lowpass(HALF_AMPLITUDE[1], rolloff=24.0)
 
 
-def make_raw(n_channels, seconds, sfreq=1000.0):
-    """The simulated recording, read back from a FIF file as users' data are
-    (a RawArray would also keep its input array, which ``copy()`` duplicates)."""
+def recording_file(n_channels, minutes):
+    """The simulated recording as a FIF file (written once): white noise, 10 uV."""
     import mne
 
-    fname = Path(tempfile.gettempdir()) / f"gainshape_bench_{n_channels}x{int(seconds)}_raw.fif"
+    fname = Path(tempfile.gettempdir()) / f"gainshape_bench_{n_channels}x{minutes}min_raw.fif"
     if not fname.exists():
         rng = np.random.default_rng(0)
-        data = rng.standard_normal((n_channels, int(seconds * sfreq)))
-        data *= 1e-5
-        info = mne.create_info([f"EEG{i:03d}" for i in range(n_channels)], sfreq, "eeg")
-        mne.io.RawArray(data, info, verbose=False).save(fname, fmt="double", verbose=False)
-    return mne.io.read_raw_fif(fname, preload=True, verbose=False)
+        data = rng.standard_normal((n_channels, int(minutes * 60 * SFREQ))) * 1e-5
+        info = mne.create_info([f"EEG{i:03d}" for i in range(n_channels)], SFREQ, "eeg")
+        raw = mne.io.RawArray(data, info, verbose=False)
+        del data
+        raw.save(fname, fmt="double", verbose=False)
+    return fname
+
+
+def read_raw(n_channels, minutes, preload=True):
+    import mne
+
+    return mne.io.read_raw_fif(recording_file(n_channels, minutes), preload=preload, verbose=False)
+
+
+def make_epochs(n_channels):
+    import mne
+
+    rng = np.random.default_rng(1)
+    n = int(EPOCH_SECONDS * SFREQ)
+    info = mne.create_info([f"EEG{i:03d}" for i in range(n_channels)], SFREQ, "eeg")
+    return mne.EpochsArray(rng.standard_normal((EPOCHS, n_channels, n)) * 1e-5, info, verbose=False)
 
 
 def _reset_peak_rss():
@@ -69,157 +93,267 @@ def _rss(field):
     raise RuntimeError(f"{field} not found in /proc/self/status")
 
 
-# Each case: setup(raw, n_jobs) -> state (untimed, before the memory baseline),
-# run(state) -> output array (timed and measured).
-def setup_gainshape(raw, n_jobs, dtype):
-    import gainshape as gs
+# Each case: setup(n_channels, minutes) -> (run, data_bytes, in_place); run() -> output
+# array, or None when it writes a file.
+def gainshape_raw(curve_name, dtype):
+    def setup(n_channels, minutes):
+        import gainshape as gs
 
-    curve = matched_curve()
-    if dtype == "float32":
-        data32 = raw._data.astype(np.float32)
-        return lambda: gs.apply(data32, curve, sfreq=raw.info["sfreq"], n_jobs=n_jobs)
-    return lambda: gs.apply(raw, curve, n_jobs=n_jobs, verbose=False)._data
+        raw, curve = read_raw(n_channels, minutes), curve_of(curve_name)
+        if dtype == "float32":
+            data32 = raw._data.astype(np.float32)
+            del raw
+            return lambda: gs.apply(data32, curve, sfreq=SFREQ), data32.nbytes, False
+        return lambda: gs.apply(raw, curve, verbose=False)._data, raw._data.nbytes, False
 
-
-def setup_gainshape_in_place(raw, n_jobs, dtype):
-    import gainshape as gs
-
-    curve = matched_curve()
-    data32 = raw._data.astype(np.float32)
-    return lambda: gs.apply(data32, curve, sfreq=raw.info["sfreq"], n_jobs=n_jobs, copy=False)
+    return setup
 
 
-def setup_mne(raw, n_jobs, dtype):
-    return lambda: raw.copy().filter(*MNE_BAND, n_jobs=n_jobs, verbose=False)._data
+def gainshape_file_to_file(curve_name):
+    def setup(n_channels, minutes):
+        import gainshape as gs
+
+        src, curve = recording_file(n_channels, minutes), curve_of(curve_name)
+        dst = Path(tempfile.mkdtemp()) / "filtered_raw.fif"
+
+        def run():
+            import mne
+
+            lazy = gs.apply(mne.io.read_raw_fif(src, preload=False, verbose=False), curve,
+                            verbose=False)
+            lazy.save(dst, fmt="double", overwrite=True, verbose=False)
+
+        return run, n_channels * int(minutes * 60 * SFREQ) * 8, False
+
+    return setup
 
 
-def setup_gainshape_notch(raw, n_jobs, dtype):
-    import gainshape as gs
-
-    curve = gs.notch(NOTCH, width=2.0, harmonics=HARMONICS)
-    return lambda: gs.apply(raw, curve, n_jobs=n_jobs, verbose=False)._data
+def mne_raw(n_channels, minutes):
+    raw = read_raw(n_channels, minutes)
+    return lambda: raw.copy().filter(*MNE_BAND, verbose=False)._data, raw._data.nbytes, False
 
 
-def setup_mne_notch(raw, n_jobs, dtype):
-    freqs = NOTCH * np.arange(1, HARMONICS + 1)
-    return lambda: raw.copy().notch_filter(freqs, n_jobs=n_jobs, verbose=False)._data
-
-
-def setup_bare_fft(raw, n_jobs, dtype):
-    """rfft -> multiply -> irfft of the data padded as gainshape pads it, one
-    FFT over each whole padded channel (the design is made beforehand)."""
-    import scipy.fft as sfft
-
-    import gainshape as gs
-
-    filt = gs.design(matched_curve(), raw.info["sfreq"])
-    data = raw._data if dtype == "float64" else raw._data.astype(np.float32)
-    n_pad = filt.support
-    n_fft = sfft.next_fast_len(data.shape[-1] + 2 * n_pad, real=True)
-    spec = filt.spectrum(n_fft).astype(data.dtype)
+def mne_file_to_file(n_channels, minutes):
+    src = recording_file(n_channels, minutes)
+    dst = Path(tempfile.mkdtemp()) / "filtered_raw.fif"
 
     def run():
-        out = np.empty_like(data)
-        for i in range(data.shape[0]):
-            x = np.pad(data[i], n_pad, mode="reflect")
-            y = sfft.irfft(sfft.rfft(x, n_fft, workers=n_jobs) * spec, n_fft, workers=n_jobs)
-            out[i] = y[n_pad : n_pad + data.shape[-1]]
-        return out
+        import mne
 
-    return run
+        raw = mne.io.read_raw_fif(src, preload=True, verbose=False)
+        raw.filter(*MNE_BAND, verbose=False)
+        raw.save(dst, fmt="double", overwrite=True, verbose=False)
 
-
-CASES = {
-    "gainshape bandpass float64": (setup_gainshape, "float64"),
-    "mne bandpass float64": (setup_mne, "float64"),
-    "gainshape bandpass float32": (setup_gainshape, "float32"),
-    "gainshape float32 in place": (setup_gainshape_in_place, "float32"),
-    "bare fft float64": (setup_bare_fft, "float64"),
-    "bare fft float32": (setup_bare_fft, "float32"),
-    "gainshape notch float64": (setup_gainshape_notch, "float64"),
-    "mne notch float64": (setup_mne_notch, "float64"),
-}
+    return run, n_channels * int(minutes * 60 * SFREQ) * 8, False
 
 
-def design_reuse(n_channels, seconds):
-    """Seconds of a second ``gs.apply`` (another recording, the same curve) and
-    of the design it asks for, which the first apply's design serves."""
+def gainshape_float32_in_place(n_channels, minutes):
     import gainshape as gs
 
+    data32 = read_raw(n_channels, minutes)._data.astype(np.float32)
+    curve = curve_of("matched")
+    return lambda: gs.apply(data32, curve, sfreq=SFREQ, copy=False), data32.nbytes, True
+
+
+def gainshape_notch(n_channels, minutes):
+    import gainshape as gs
+
+    raw = read_raw(n_channels, minutes)
+    curve = gs.notch(NOTCH, width=2.0, harmonics=HARMONICS)
+    return lambda: gs.apply(raw, curve, verbose=False)._data, raw._data.nbytes, False
+
+
+def mne_notch(n_channels, minutes):
+    raw = read_raw(n_channels, minutes)
+    freqs = NOTCH * np.arange(1, HARMONICS + 1)
+    return lambda: raw.copy().notch_filter(freqs, verbose=False)._data, raw._data.nbytes, False
+
+
+def gainshape_epochs(curve_name):
+    def setup(n_channels, minutes):
+        import gainshape as gs
+
+        epochs, curve = make_epochs(n_channels), curve_of(curve_name)
+        return lambda: gs.apply(epochs, curve, verbose=False)._data, epochs._data.nbytes, False
+
+    return setup
+
+
+def mne_epochs(band):
+    def setup(n_channels, minutes):
+        epochs = make_epochs(n_channels)
+        return lambda: epochs.copy().filter(*band, verbose=False)._data, epochs._data.nbytes, False
+
+    return setup
+
+
+def cases(minutes_list, quick):
+    """name -> (setup, minutes)."""
+    out = {}
+    for m in minutes_list:
+        if m >= 60:  # file to file: gainshape out of core, MNE in memory
+            out[f"{m} min mne band-pass file to file"] = (mne_file_to_file, m)
+            out[f"{m} min gainshape band-pass file to file"] = (gainshape_file_to_file("matched"), m)
+            out[f"{m} min gainshape steep file to file"] = (gainshape_file_to_file("steep"), m)
+        out[f"{m} min mne band-pass float64"] = (mne_raw, m)
+        for curve in ("matched", "steep"):
+            label = "band-pass" if curve == "matched" else "steep"
+            out[f"{m} min gainshape {label} float64"] = (gainshape_raw(curve, "float64"), m)
+            out[f"{m} min gainshape {label} float32"] = (gainshape_raw(curve, "float32"), m)
+    if 10 in minutes_list:
+        out["10 min gainshape band-pass float32 in place"] = (gainshape_float32_in_place, 10)
+        out["10 min mne notch float64"] = (mne_notch, 10)
+        out["10 min gainshape notch float64"] = (gainshape_notch, 10)
+    if not quick:
+        out["epochs mne low-pass"] = (mne_epochs((None, MNE_BAND[1])), 0)
+        out["epochs gainshape low-pass"] = (gainshape_epochs("low-pass"), 0)
+        out["epochs mne band-pass"] = (mne_epochs(MNE_BAND), 0)
+        out["epochs gainshape band-pass"] = (gainshape_epochs("matched"), 0)
+    return out
+
+
+def worker(name, n_channels, minutes_list, quick):
     import warnings
 
-    warnings.simplefilter("ignore", gs.GainshapeWarning)  # --quick records are short
-    raw = make_raw(n_channels, seconds)
-    curve, sfreq = matched_curve(), raw.info["sfreq"]
+    warnings.simplefilter("ignore")  # short epochs: the kernel-length warnings are expected
+    setup, minutes = cases(minutes_list, quick)[name]
+    run, data_bytes, in_place = setup(n_channels, minutes)
+    baseline = _rss("VmRSS")
+    _reset_peak_rss()
+    start = time.perf_counter()
+    out = run()
+    seconds_taken = time.perf_counter() - start
+    new_output = 0 if (in_place or out is None) else out.nbytes
+    peak = _rss("VmHWM") - baseline
+    extra = max(peak - new_output, 0)
+    return {"case": name, "seconds": seconds_taken, "data_bytes": data_bytes,
+            "extra_memory_bytes": extra, "extra_memory_ratio": extra / data_bytes,
+            "peak_memory_mb": peak / 2**20}
+
+
+def design_times(repeat=3):
+    """Seconds to design each curve at 1000 Hz, no design reused (best of ``repeat``)."""
+    import gainshape as gs
+
+    store = sys.modules["gainshape.design"]._DESIGNS
+    curves = {
+        "matched band-pass": curve_of("matched"),
+        "steep band-pass": curve_of("steep"),
+        "high-pass 0.05 Hz, 24 dB/octave": gs.highpass(0.05, rolloff=24.0),
+        "band-pass 0.1-30 Hz": gs.bandpass(0.1, 30.0),
+        "high-pass 0.5 Hz": gs.highpass(0.5),
+        "low-pass 30 Hz": gs.lowpass(30.0),
+        "notch 50 Hz + 2 harmonics": gs.notch(50.0, width=2.0, harmonics=3),
+        "band-stop 8-13 Hz": gs.bandstop(8.0, 13.0),
+        "drawn: points through 0.1-30 Hz band-pass": gs.GainCurve.from_points(
+            [0.02, 0.1, 0.3, 20.0, 30.0, 45.0], [0.0, 0.5, 1.0, 1.0, 0.5, 0.0], freq_scale="log"),
+    }
+    out = {}
+    for name, curve in curves.items():
+        best = np.inf
+        for _ in range(repeat):
+            store.kept.clear()
+            start = time.perf_counter()
+            made = gs.design(curve, SFREQ)
+            best = min(best, time.perf_counter() - start)
+        out[name] = {"seconds": best, "kernel_s": made.characteristics.length,
+                     "two_rates": made.rates is not None}
+    return out
+
+
+def design_reuse(n_channels, minutes):
+    """Seconds of a second ``gs.apply`` (another recording, the same curve) and
+    of the design it asks for, which the first apply's design serves."""
+    import warnings
+
+    import gainshape as gs
+
+    warnings.simplefilter("ignore", gs.GainshapeWarning)
+    raw = read_raw(n_channels, minutes)
+    curve = curve_of("matched")
     gs.apply(raw.copy().crop(0.0, 60.0), curve, verbose=False)  # the first recording designs
     start = time.perf_counter()
-    gs.design(curve, sfreq)
+    gs.design(curve, SFREQ)
     designing = time.perf_counter() - start
     start = time.perf_counter()
     gs.apply(raw, curve, verbose=False)
     return designing, time.perf_counter() - start
 
 
-def worker(name, n_channels, seconds, n_jobs):
-    setup, dtype = CASES[name]
-    raw = make_raw(n_channels, seconds)
-    run = setup(raw, n_jobs, dtype)
-    data_bytes = raw._data.nbytes // (2 if dtype == "float32" else 1)
-    baseline = _rss("VmRSS")
-    _reset_peak_rss()
-    start = time.perf_counter()
-    out = run()
-    seconds_taken = time.perf_counter() - start
-    new_output = 0 if setup is setup_gainshape_in_place else out.nbytes
-    extra = max(_rss("VmHWM") - baseline - new_output, 0)
-    return {"case": name, "seconds": seconds_taken, "data_bytes": data_bytes,
-            "extra_memory_bytes": extra, "extra_memory_ratio": extra / data_bytes}
+def _ratios(t, minutes_list):
+    """(label, value, target) of every comparison the targets name."""
+    rows = []
+    for m in minutes_list:
+        mne = t.get(f"{m} min mne band-pass float64")
+        for label in ("band-pass", "steep"):
+            for dtype in ("float64", "float32"):
+                mine = t.get(f"{m} min gainshape {label} {dtype}")
+                if mne and mine:
+                    rows.append((f"{m} min {label} {dtype}: MNE / gainshape", mne / mine,
+                                 TARGETS[dtype]))
+            ours = t.get(f"{m} min gainshape {label} file to file")
+            theirs = t.get(f"{m} min mne band-pass file to file")
+            if ours and theirs:
+                rows.append((f"{m} min {label} file to file: MNE / gainshape out of core",
+                             theirs / ours, TARGETS["float64"]))
+    for label in ("low-pass", "band-pass"):
+        mne, mine = t.get(f"epochs mne {label}"), t.get(f"epochs gainshape {label}")
+        if mne and mine:
+            rows.append((f"epochs {label}: MNE / gainshape", mne / mine, TARGETS["epochs"]))
+    if t.get("10 min gainshape notch float64"):
+        rows.append(("10 min notch: MNE / gainshape",
+                     t["10 min mne notch float64"] / t["10 min gainshape notch float64"], None))
+    return rows
 
 
 def main(argv=None):
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--quick", action="store_true", help="16 channels, 2 minutes")
-    parser.add_argument("--n-jobs", type=int, default=1)
+    parser.add_argument("--quick", action="store_true", help="16 channels, 2 minutes, no Epochs")
+    parser.add_argument("--minutes", type=int, nargs="+", default=[2, 10, 60])
     parser.add_argument("--repeat", type=int, default=3, help="best of N runs per case")
     parser.add_argument("--out", default="benchmarks/results.json")
     parser.add_argument("--worker", help=argparse.SUPPRESS)
     args = parser.parse_args(argv)
-    n_channels, seconds = (16, 120.0) if args.quick else (64, 600.0)
+    n_channels = 16 if args.quick else 64
+    minutes_list = [2] if args.quick else args.minutes
     if args.worker:
-        print(json.dumps(worker(args.worker, n_channels, seconds, args.n_jobs)))
+        print(json.dumps(worker(args.worker, n_channels, minutes_list, args.quick)))
         return 0
-    make_raw(n_channels, seconds)  # write the shared input file once
+    for m in minutes_list:
+        recording_file(n_channels, m)  # write the shared input files once
     results = {}
-    for name in CASES:
+    for name, (_, minutes) in cases(minutes_list, args.quick).items():
         runs = []
-        for _ in range(args.repeat):
-            cmd = [sys.executable, __file__, "--worker", name, "--n-jobs", str(args.n_jobs)]
+        for _ in range(1 if minutes >= 60 else args.repeat):
+            cmd = [sys.executable, __file__, "--worker", name, "--minutes", *map(str, minutes_list)]
             cmd += ["--quick"] if args.quick else []
             done = subprocess.run(cmd, capture_output=True, text=True, check=True)
             runs.append(json.loads(done.stdout.strip().splitlines()[-1]))
         best = min(runs, key=lambda r: r["seconds"])
         best["extra_memory_ratio"] = max(r["extra_memory_ratio"] for r in runs)
+        best["peak_memory_mb"] = max(r["peak_memory_mb"] for r in runs)
         results[name] = best
-        print(f"{name:<28} {best['seconds']:7.2f} s   extra memory "
-              f"{best['extra_memory_ratio']:.2f} x data")
+        print(f"{name:<48} {best['seconds']:7.2f} s   extra memory "
+              f"{best['extra_memory_ratio']:.2f} x data   peak {best['peak_memory_mb']:7.0f} MB",
+              flush=True)
     t = {k: v["seconds"] for k, v in results.items()}
-    ratios = {
-        "mne / gainshape float64 (target >= 1.5)": t["mne bandpass float64"] / t["gainshape bandpass float64"],
-        "gainshape / bare fft float64 (target <= 1.3)": t["gainshape bandpass float64"] / t["bare fft float64"],
-        "mne float64 / gainshape float32 (target >= 3)": t["mne bandpass float64"] / t["gainshape bandpass float32"],
-        "mne float64 / gainshape float32 in place": t["mne bandpass float64"] / t["gainshape float32 in place"],
-        "mne notch / gainshape notch": t["mne notch float64"] / t["gainshape notch float64"],
-    }
-    for k, v in ratios.items():
-        print(f"{k:<48} {v:6.2f}")
-    designing, applying = design_reuse(n_channels, seconds)
+    ratios = _ratios(t, minutes_list)
+    for label, value, target in ratios:
+        verdict = "" if target is None else f"   target >= {target:g}: {'met' if value >= target else 'NOT met'}"
+        print(f"{label:<62} {value:6.2f}{verdict}")
+    designs = design_times()
+    for name, d in designs.items():
+        print(f"design {name:<48} {1e3 * d['seconds']:7.1f} ms   kernel {d['kernel_s']:6.1f} s"
+              f"{'   two rates' if d['two_rates'] else ''}")
+    designing, applying = design_reuse(n_channels, minutes_list[0])
     print(f"a second gs.apply (another recording, same curve): {applying:.2f} s, of which "
           f"designing {1e3 * designing:.3f} ms ({100 * designing / applying:.3f} %; target < 1 %)")
     report = {
         "machine": {"python": platform.python_version(), "platform": platform.platform(),
-                    "cpus": os.cpu_count(), "n_jobs": args.n_jobs},
-        "workload": {"channels": n_channels, "seconds": seconds, "sfreq": 1000.0},
-        "results": results, "ratios": ratios,
+                    "cpus": os.cpu_count()},
+        "workload": {"channels": n_channels, "minutes": minutes_list, "sfreq": SFREQ,
+                     "epochs": [EPOCHS, EPOCH_SECONDS]},
+        "results": results, "ratios": [list(r) for r in ratios], "designs": designs,
         "design_reuse": {"designing_s": designing, "second_apply_s": applying},
     }
     from gainshape._files import atomic_output

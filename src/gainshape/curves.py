@@ -585,13 +585,8 @@ def _order(rolloff: float) -> float:
 def _rising(x: np.ndarray, n: float) -> np.ndarray:
     """``x**n / sqrt(x**(2n) + 3)``: 0 at x=0, 0.5 at x=1, 1 at infinity."""
     with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
-        small = np.power(np.minimum(x, 1.0), n)
-        inv_large = np.power(np.maximum(x, 1.0), -n)
-        return np.where(
-            x < 1.0,
-            small / np.sqrt(small * small + 3.0),
-            1.0 / np.sqrt(1.0 + 3.0 * inv_large * inv_large),
-        )
+        p = np.power(x, n)  # one power: x**-n is its reciprocal
+        return np.where(x < 1.0, p / np.sqrt(p * p + 3.0), 1.0 / np.sqrt(1.0 + 3.0 / (p * p)))
 
 
 def _lowpass_func(cutoff, rolloff):

@@ -26,7 +26,6 @@ from itertools import chain
 
 import numpy as np
 import scipy.fft as sfft
-from scipy.signal import fftconvolve
 
 from .realize import KernelResponse, _kernel_spectrum, _Realizer
 
@@ -34,7 +33,7 @@ __all__ = ["KernelPart", "TwoRates", "two_rates", "alias_bound"]
 
 _FLAT = 0.01  # the request may move this fraction of the tolerance around the split
 _POINTS_PER_OCTAVE = 48  # the log grid the split is searched on
-_RATE_PER_SPLIT = 8.0  # the reduced rate is at least this many times the split frequency
+_RATES_PER_SPLIT = (8.0, 16.0, 32.0)  # reduced rates tried, as multiples of the split frequency
 _MIN_FACTOR = 8  # a smaller rate reduction is not worth a second rate
 _MIN_SAVED = 16  # ... nor is one that shortens the full-rate kernel less than this many times
 _FAST_SHARE, _SLOW_SHARE = 0.5, 0.4  # of the tolerance; the rest is for aliasing
@@ -116,10 +115,15 @@ class TwoRates:
         True
         """
         m, q = self.factor, self.slow
-        stuffed = np.zeros(m * (q.kernel.size - 1) + 1)
-        stuffed[::m] = q.kernel
-        smoothing = _triangle(m)  # decimation d (sum 1) convolved with interpolation u (sum m)
-        slow = fftconvolve(stuffed, fftconvolve(smoothing, smoothing * m)) * (self.level / m)
+        smoothing = np.convolve(_triangle(m), _triangle(m) * m)  # decimation, then interpolation
+        taps = -(-smoothing.size // m)  # the smoothing in m phases of `taps` samples each
+        phases = np.zeros(taps * m)
+        phases[: smoothing.size] = smoothing
+        phases = phases.reshape(taps, m)
+        slow = np.zeros((q.kernel.size + taps - 1, m))
+        for lag in range(taps):  # the kernel at the reduced rate, every phase at once
+            slow[lag : lag + q.kernel.size] += np.outer(q.kernel, phases[lag])
+        slow = slow.ravel()[: m * (q.kernel.size - 1) + smoothing.size] * (self.level / m)
         centre = m * q.offset + 2 * (m - 1)
         half = max(centre, slow.size - 1 - centre, self.fast.support)
         kernel = np.zeros(2 * half + 1)
@@ -213,26 +217,39 @@ def two_rates(curve, sfreq: float, tolerance: float) -> TwoRates | None:
     if found is None:
         return None
     split, level = found
-    factor = int(sfreq // (_RATE_PER_SPLIT * split))
-    if factor < _MIN_FACTOR:
-        return None
-    low = sfreq / factor
 
     def fast_curve(f):
         return curve(np.maximum(f, split))
 
-    def slow_curve(f):  # what the slow part removes, over the rate change's own droop
+    try:
+        fast = KernelPart(*_Realizer(fast_curve, sfreq, False, _FAST_SHARE * tolerance).shortest(),
+                          sfreq)
+        for per_split in _RATES_PER_SPLIT:  # a higher reduced rate folds less onto the slow band
+            factor = int(sfreq // (per_split * split))
+            if factor < _MIN_FACTOR:
+                return None
+            parts = TwoRates(factor, split, level, fast, _slow_part(curve, split, level, factor,
+                                                                    sfreq, tolerance))
+            if parts.aliasing <= (1.0 - _FAST_SHARE - _SLOW_SHARE) * tolerance:
+                break
+    except ValueError:  # a part no kernel realizes: the caller runs one rate
+        return None
+    if fast.kernel.size * _MIN_SAVED > parts.slow.kernel.size * factor:
+        return None
+    return parts
+
+
+def _slow_part(curve, split, level, factor, sfreq, tolerance) -> KernelPart:
+    """The slow part's kernel at ``sfreq / factor``: what it removes below the
+    split, over the rate change's own droop there."""
+
+    def slow_curve(f):
         removed = np.maximum(1.0 - curve(np.minimum(f, split)) / level, 0.0)
         return removed / _triangle_gain(f, factor, sfreq) ** 2
 
-    try:
-        fast = _Realizer(fast_curve, sfreq, False, _FAST_SHARE * tolerance).shortest()
-        slow = _Realizer(slow_curve, low, False, _SLOW_SHARE * tolerance / level).shortest()
-    except ValueError:  # a part no kernel realizes: the caller runs one rate
-        return None
-    if fast[0].size * _MIN_SAVED > slow[0].size * factor:
-        return None
-    return TwoRates(factor, split, level, KernelPart(*fast, sfreq), KernelPart(*slow, low))
+    low = sfreq / factor
+    return KernelPart(*_Realizer(slow_curve, low, False, _SLOW_SHARE * tolerance / level).shortest(),
+                      low)
 
 
 def alias_bound(parts: TwoRates) -> float:
@@ -249,8 +266,11 @@ def alias_bound(parts: TwoRates) -> float:
     m, sfreq, low = parts.factor, parts.fast.sfreq, parts.reduced_rate
     out = np.linspace(0.0, low / 2.0, 2049)
     slow = np.abs(KernelResponse(parts.slow.kernel, parts.slow.offset, low, False).gain_at(out))
-    folded = sum(_triangle_gain(out + k * low, m, sfreq) for k in range(1, m))
-    return float(np.max(parts.level * slow * _triangle_gain(out, m, sfreq) * folded))
+    own = _triangle_gain(out, m, sfreq)
+    # the triangle's gains at the m frequencies that fold onto one sum to 1
+    # (its samples at multiples of m are 1/m at 0 and zero elsewhere), so the
+    # others add up to 1 - its own
+    return float(np.max(parts.level * slow * own * (1.0 - own)))
 
 
 def _split(curve, sfreq, tolerance):

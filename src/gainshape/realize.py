@@ -278,6 +278,13 @@ class KernelResponse:
         self.freqs = sfft.rfftfreq(n, 1.0 / sfreq)
         self._centred = _kernel_spectrum(kernel, kernel.size // 2, n, causal)
         self.gain = np.abs(self._centred) if causal else self._centred
+        self._requested = (None, None)
+
+    def requested(self, curve) -> np.ndarray:
+        """``curve`` on the grid, checked; kept for the next call with the same curve."""
+        if self._requested[0] is not curve:
+            self._requested = (curve, _validated_gain(curve, self.freqs))
+        return self._requested[1]
 
     def group_delay(self) -> np.ndarray:
         """Group delay (s) on the grid: Re(DTFT(t h) / DTFT(h)) for t from the kernel's origin."""
