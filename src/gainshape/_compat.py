@@ -75,6 +75,9 @@ def calibrate_into(data, block, idx, cals, mult) -> None:
     Relies on ``mne._fiff.utils._mult_cal_one``, which MNE's own readers call
     from ``_read_segment_file``.
     """
+    if mult is None and np.all(cals == 1.0):  # calibrated already, nothing projected: a copy
+        data[...] = block[idx]
+        return
     from mne._fiff.utils import _mult_cal_one
 
     _mult_cal_one(data, block, idx, cals, mult)

@@ -133,7 +133,10 @@ class _BlockReader:
         return (left[:, n_pad - fast.support :].copy(), right[:, : fast.support].copy()), slow, n_pad
 
     def _filtered(self, start, stop):
-        out = self.raw.get_data(start=start, stop=stop)
+        out = np.empty((len(self.raw.ch_names), stop - start))
+        others = np.setdiff1d(np.arange(len(self.raw.ch_names)), self.rows)
+        if others.size:  # the channels not filtered, read as they are
+            out[others] = self.raw.get_data(picks=others, start=start, stop=stop)
         for s, e in self.segments:
             a, b = max(start, s), min(stop, e)
             if a >= b:
