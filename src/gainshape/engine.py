@@ -417,7 +417,7 @@ def block_plan(n_seg: int, n_pad: int, whole: bool = False, compact: bool = Fals
     n_whole = sfft.next_fast_len(n_seg + 2 * n_pad, real=True)
     n_fft = max(2**12, min(2**18, 1 << int(np.ceil(np.log2(8 * max(n_pad, 1))))))
     if compact:
-        n_fft = 2**13
+        n_fft = 2**12
     n_fft = max(n_fft, 1 << int(np.ceil(np.log2(4 * max(n_pad, 1)))))
     if whole or n_whole <= n_fft:
         return n_whole, n_seg
