@@ -39,6 +39,12 @@ breaks = [
  ("editor step response x2", "src/gainshape/drawing.py", '"step": _trace(times, np.cumsum(kernel)),', '"step": _trace(times, 2 * np.cumsum(kernel)),'),
  ("editor code line 4 digits", "src/gainshape/drawing.py", 'freqs = ", ".join(f"{f:.12g}" for f, _ in points)', 'freqs = ", ".join(f"{f:.3g}" for f, _ in points)'),
  ("editor rounding 3 digits", "src/gainshape/drawing.py", "    scale = 10.0 ** (6 - magnitude)", "    scale = 10.0 ** (2 - magnitude)"),
+ ("rates: aliasing bound x2", "src/gainshape/rates.py", "    return float(np.max(parts.level * slow * own * (1.0 - own)))", "    return 2 * float(np.max(parts.level * slow * own * (1.0 - own)))"),
+ ("rates: equivalent kernel's slow part x1.01", "src/gainshape/rates.py", "slow = slow.ravel()[: m * (q.kernel.size - 1) + smoothing.size] * (self.level / m)", "slow = slow.ravel()[: m * (q.kernel.size - 1) + smoothing.size] * (1.01 * self.level / m)"),
+ ("rates: interpolation weights reversed", "src/gainshape/rates.py", "    return np.stack([1.0 - r, r])", "    return np.stack([r, 1.0 - r])"),
+ ("methods: reduced rate x2", "src/gainshape/provenance.py", "f\"{r['reduced_rate_hz']:.4g} Hz (decimation by", "f\"{2 * r['reduced_rate_hz']:.4g} Hz (decimation by"),
+ ("summary: split x2", "src/gainshape/design.py", "    return (f\"two: below {r['split_hz']:.3g} Hz", "    return (f\"two: below {2 * r['split_hz']:.3g} Hz"),
+ ("engine: kernel folded onto one sample less", "src/gainshape/engine.py", "        at = (np.arange(design.kernel.size) - design.offset + half) % period", "        at = (np.arange(design.kernel.size) - design.offset + half) % (period - 1)"),
  ("history table roll-off x2", "src/gainshape/provenance.py", 'f"{slope:.1f}" for _, _, _, slope in passband if slope is not None', 'f"{2 * slope:.1f}" for _, _, _, slope in passband if slope is not None'),
 ]
 chosen = [b for b in breaks if not sys.argv[1:] or any(n in b[0] for n in sys.argv[1:])]

@@ -182,6 +182,28 @@ def test_a_tone_near_the_reduced_rate_leaks_as_predicted_and_within_the_bound(sp
     assert leaked <= r.aliasing
 
 
+def test_aliasing_bound_is_the_folded_gain_summed_over_every_fold(split):
+    # brute force: for each output frequency g, the M - 1 other frequencies
+    # g + k * reduced rate that fold onto it, each through the decimation
+    # filter (moving average squared), then the slow part (freqz) and the
+    # interpolation filter; the bound is their largest sum
+    r = split.rates
+    m, low = r.factor, r.reduced_rate
+    g = np.linspace(0.0, low / 2.0, 2049)
+
+    def moving_average(f):
+        x = np.pi * np.asarray(f) / SFREQ
+        with np.errstate(invalid="ignore", divide="ignore"):
+            ratio = np.sin(m * x) / (m * np.sin(x))
+        return np.where(np.abs(np.sin(x)) < 1e-12, 1.0, ratio) ** 2
+
+    folded = sum(moving_average(g + k * low) for k in range(1, m))
+    _, slow = scipy.signal.freqz(r.slow.kernel, worN=g, fs=low)
+    brute = np.max(r.level * np.abs(slow) * moving_average(g) * folded)
+    assert r.aliasing == pytest.approx(brute, rel=1e-6)
+    assert f"aliasing at most {brute:.2g}" in dict(split.summary())["rates"]
+
+
 @pytest.mark.filterwarnings("ignore:.*shorter than 3 times:UserWarning")
 def test_float32_in_place_epochs_and_nan_runs_agree_with_float64(split, rng):
     x = _eeg_with_drift(2, 120.0, rng)
