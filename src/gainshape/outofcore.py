@@ -146,6 +146,8 @@ class _BlockReader:
                 self.edges = {(s, e): self._prepared(view)}
             (left, right), slow, n_pad = self.edges[(s, e)]
             n_fft, step = self._plan((s, e))
+            fast = self._fast.support  # the request and its reach, read once for every block:
+            view[:, max(a - s - fast, 0) : min(b - s + fast, e - s)]
             buf = np.zeros((min(_ROWS_PER_FFT, len(self.rows)), n_fft))
             spec = spectrum_buffer(buf)
             for lo in range(a - s, b - s, step):
@@ -164,7 +166,8 @@ class _BlockReader:
 
 class _SegmentView:
     """``view[:, lo:hi]`` reads rows of a Raw segment from disk, checking for
-    NaN; the last read is kept, so that groups of rows share one read."""
+    NaN; the last read is kept and serves every slice inside it, so that
+    groups of rows and the blocks of one request share one read."""
 
     def __init__(self, raw, rows, start, stop, names):
         self.raw, self.rows, self.start, self.names = raw, rows, start, names
@@ -174,11 +177,13 @@ class _SegmentView:
     def __getitem__(self, key):
         _, sl = key
         lo, hi, _ = sl.indices(self.shape[1])
-        if self._last[:2] != (lo, hi):
-            data = self.raw.get_data(picks=self.rows, start=self.start + lo, stop=self.start + hi)
-            check_finite(data, self.names, self.raw.info["sfreq"], first_sample=self.start + lo)
-            self._last = (lo, hi, data)
-        return self._last[2]
+        kept_lo, kept_hi, kept = self._last
+        if kept is None or not kept_lo <= lo <= hi <= kept_hi:
+            kept = self.raw.get_data(picks=self.rows, start=self.start + lo, stop=self.start + hi)
+            check_finite(kept, self.names, self.raw.info["sfreq"], first_sample=self.start + lo)
+            kept_lo, kept_hi = lo, hi
+            self._last = (lo, hi, kept)
+        return kept[:, lo - kept_lo : hi - kept_lo]
 
 
 class _RowGroup:
