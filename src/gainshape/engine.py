@@ -44,6 +44,7 @@ _SEGMENT_KERNELS = 3  # a segment shorter than this many kernels gets a warning
 _LONG_WORK_ROW_SAMPLES = 10_000_000  # bars for verbose=None only above this much work
 _GLIBC = platform.libc_ver()[0] == "glibc"  # the heap trick below is glibc's behaviour
 _SIMD_BYTES = 16  # pocketfft's vector width in scipy's wheels (SSE2)
+_SLOW_ROWS = 8  # rows whose wide padding for a slow part is built at a time
 
 
 def filter_array(
@@ -377,11 +378,8 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ad
         seg = rows[sel, start:stop]
         if rates is None:
             edges = edge_pads(seg, design.support, pad)
-        else:  # whole frames of the reduced rate, and the fast part's share of them
-            n_pad = -(-design.support // rates.factor) * rates.factor
-            left, right = edge_pads(seg, n_pad, pad)
-            slow = rates.slow_output(left, seg, right)
-            edges = left[:, n_pad - fast.support :], right[:, : fast.support]
+        else:
+            edges, slow, n_pad = _slow_part(seg, design, pad)
         carry = None
         for a in range(0, n_seg, step):
             b = min(a + step, n_seg)
@@ -393,6 +391,27 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ad
                 carry = np.array(seg[:, b - fast.support : b])
             out_rows[sel, start + a : start + b] = filtered
             advance(block.size * (b - a))
+
+
+def _slow_part(seg, design, pad):
+    """A two-rate design's slow output for ``seg``, with the fast part's padding.
+
+    The padding is whole frames of the reduced rate as wide as the whole
+    design reaches, built and decimated a few rows at a time (it may be
+    wider than the segment). Returns (fast edges, slow output, padding).
+    """
+    rates = design.rates
+    n_pad = -(-design.support // rates.factor) * rates.factor
+    reach = rates.fast.support
+    slow, left_edges, right_edges = [], [], []
+    for g in range(0, seg.shape[0], _SLOW_ROWS):
+        rows = seg[g : g + _SLOW_ROWS]
+        left, right = edge_pads(rows, n_pad, pad)
+        slow.append(rates.slow_output(left, rows, right))
+        left_edges.append(left[:, n_pad - reach :])
+        right_edges.append(right[:, :reach])
+    edges = np.concatenate(left_edges), np.concatenate(right_edges)
+    return edges, np.concatenate(slow), n_pad
 
 
 def block_plan(n_seg: int, n_pad: int, whole: bool = False, compact: bool = False) -> tuple[int, int]:
