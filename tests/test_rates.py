@@ -220,6 +220,15 @@ def test_float32_in_place_epochs_and_nan_runs_agree_with_float64(split, rng):
     with pytest.warns(gs.GainshapeWarning, match="shorter than"):
         one = filter_array(epochs, KernelPart(split.kernel, split.offset, SFREQ))
     assert np.sqrt(np.mean((got - one) ** 2) / np.mean(one**2)) < 2e-3
+    # padding that repeats the end value, wider than the epoch: two rates
+    # against numpy.pad and one FFT with the equivalent kernel
+    with pytest.warns(gs.GainshapeWarning, match="shorter than"):
+        edge = filter_array(epochs[:4, 0], split, pad="edge")
+    p = split.support
+    padded = np.pad(epochs[:4, 0], ((0, 0), (p, p)), mode="edge")
+    n = padded.shape[-1]
+    reference = np.fft.irfft(np.fft.rfft(padded) * split.spectrum(n), n)[:, p : p + 2000]
+    assert np.sqrt(np.mean((edge - reference) ** 2) / np.mean(reference**2)) < 2e-3
     # a NaN run splits the record; both sides filtered on their own
     gap = x.copy()
     gap[:, 50_000:51_000] = np.nan
