@@ -39,7 +39,7 @@ numpydoc_validation_checks = {"all", "GL01", "ES01", "SA04"}
 numpydoc_validation_exclude = {
     r"\.__\w+__$",
     r"^gainshape\.FilterDesign\.(curve|sfreq|causal|kernel_request|tolerance|kernel|offset"
-    r"|characteristics|notes)$",
+    r"|characteristics|notes|rates)$",
     r"^gainshape\.GainCurve\.func$",
 }
 
