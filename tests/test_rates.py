@@ -101,7 +101,7 @@ def test_equivalent_kernel_is_the_sum_of_its_parts_freqz(split):
     x = np.pi * f / SFREQ
     moving_average = (np.sin(m * x) / (m * np.sin(x))) ** 2
     expected = (zero_phase(r.fast.kernel, r.fast.offset, SFREQ)
-                - r.level * zero_phase(r.slow.kernel, r.slow.offset, r.reduced_rate)
+                - zero_phase(r.slow.kernel, r.slow.offset, r.reduced_rate)
                 * moving_average**2)
     np.testing.assert_allclose(split.realized_gain(f), np.abs(expected), atol=1e-9)
 
@@ -163,7 +163,7 @@ def test_reported_gain_matches_white_noise_welch_within_0_2_db(split, rng):
 
 def test_a_tone_near_the_reduced_rate_leaks_as_predicted_and_within_the_bound(split):
     # a tone at reduced rate + g folds onto g; predicted amplitude:
-    # level x |slow part's gain at g| x interpolation(g) x decimation(f_in)
+    # |slow part's gain at g| x interpolation(g) x decimation(f_in)
     r = split.rates
     g = 0.04
     f_in = r.reduced_rate + g
@@ -177,7 +177,7 @@ def test_a_tone_near_the_reduced_rate_leaks_as_predicted_and_within_the_bound(sp
         return (np.sin(np.pi * f * m / SFREQ) / (m * np.sin(np.pi * f / SFREQ))) ** 2
 
     w, h = scipy.signal.freqz(r.slow.kernel, worN=[g], fs=r.reduced_rate)
-    predicted = r.level * abs(h[0]) * moving_average(g) * moving_average(f_in)
+    predicted = abs(h[0]) * moving_average(g) * moving_average(f_in)
     assert leaked == pytest.approx(predicted, rel=0.05)
     assert leaked <= r.aliasing
 
@@ -199,7 +199,7 @@ def test_aliasing_bound_is_the_folded_gain_summed_over_every_fold(split):
 
     folded = sum(moving_average(g + k * low) for k in range(1, m))
     _, slow = scipy.signal.freqz(r.slow.kernel, worN=g, fs=low)
-    brute = np.max(r.level * np.abs(slow) * moving_average(g) * folded)
+    brute = np.max(np.abs(slow) * moving_average(g) * folded)
     assert r.aliasing == pytest.approx(brute, rel=1e-6)
     assert f"aliasing at most {brute:.2g}" in dict(split.summary())["rates"]
 

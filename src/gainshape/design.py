@@ -635,7 +635,7 @@ def rate_words(two_rates: dict) -> str:
     r = two_rates
     return (f"two: below {r['split_hz']:.3g} Hz at {r['reduced_rate_hz']:.4g} Hz (decimated by "
             f"{r['factor']} after a triangular anti-aliasing filter, interpolated back "
-            f"linearly), above it a {r['full_rate_kernel_samples']}-sample kernel at the full "
+            f"linearly), the rest by a {r['full_rate_kernel_samples']}-sample kernel at the full "
             f"rate; aliasing at most {r['aliasing_bound']:.2g}")
 
 

@@ -1,20 +1,26 @@
 """Two rates for a curve with a slow edge far below its fast one.
 
-Vocabulary: the *split* is a frequency where the request is flat (its
-*level* c > 0); below it the request is ``c * (1 - Q(f))``, above it
-anything. The filter then runs as two parts whose sum is the request:
+Vocabulary: the *blend* is two octaves ``[low_end, split]`` of the pass
+band, where the request is within 0.1 % of flat; a weight ``w(f)`` rises
+smoothly across it from 0 to 1 (on log frequency). The request ``G`` is the
+product of two curves, ``G**w`` (everything above the blend) and
+``G**(1 - w)`` (everything below it), and the filter runs as two parts:
 
-* the *fast part*, at the full rate, realizes the request with everything
-  below the split held at c (``curve(max(f, split))``): a short kernel;
-* the *slow part* subtracts ``c * Q``: the data are decimated by an integer
-  *factor* M (a triangular anti-aliasing filter, two M-sample boxcars, as
-  polyphase weights), filtered at the reduced rate by a kernel for ``Q``
-  divided by the decimation and interpolation filters' own droop, and
-  interpolated back (linearly: the same triangle), in frames of M samples.
+* the *fast part*, at the full rate, realizes ``G**w``: 1 below the blend,
+  so a short kernel;
+* the *slow part* subtracts ``Q = 1 - G**(1 - w)``, which is 0 above the
+  *split*: the data are decimated by an integer *factor* M (a triangular
+  anti-aliasing filter, two M-sample boxcars, as polyphase weights),
+  filtered at the reduced rate by a kernel for ``Q`` divided by the
+  decimation and interpolation filters' own droop, and interpolated back
+  (linearly: the same triangle), in frames of M samples.
 
-Together they are a periodically time-varying system. Its time-invariant
-part is the *equivalent kernel* ``h_fast - c/M * (u * q_upsampled * d)``,
-which is what designs report and plot; the rest is *aliasing*, bounded by
+``G**w - Q`` differs from ``G`` by ``(G**w - 1) * Q``, products of two
+deviations from flat inside the blend; like everything else it is in the
+realized gain that the design measures. Together the parts are a
+periodically time-varying system. Its time-invariant part is the
+*equivalent kernel* ``h_fast - (u * q_upsampled * d) / M``, which is what
+designs report and plot; the rest is *aliasing*, bounded by
 :func:`alias_bound` and counted against the tolerance.
 This module knows nothing of MNE.
 """
@@ -31,7 +37,8 @@ from .realize import KernelResponse, _kernel_spectrum, _Realizer
 
 __all__ = ["KernelPart", "TwoRates", "two_rates", "alias_bound"]
 
-_FLAT = 0.01  # the request may move this fraction of the tolerance around the split
+_BLEND_FLAT = 1e-3  # the request is within this fraction of flat across the blend
+_BLEND_OCTAVES = 2.0
 _POINTS_PER_OCTAVE = 48  # the log grid the split is searched on
 _RATES_PER_SPLIT = (8.0, 16.0, 32.0)  # reduced rates tried, as multiples of the split frequency
 _MIN_FACTOR = 8  # a smaller rate reduction is not worth a second rate
@@ -79,9 +86,7 @@ class TwoRates:
     factor : int
         Decimation factor M; the slow part runs at ``sfreq / factor``.
     split : float
-        Frequency (Hz) below which the slow part acts.
-    level : float
-        The request's gain at ``split``.
+        Frequency (Hz) below which the slow part acts (the blend's top).
     fast, slow : KernelPart
         The fast part (full rate) and the slow part (reduced rate).
     aliasing : float
@@ -90,7 +95,6 @@ class TwoRates:
 
     factor: int
     split: float
-    level: float
     fast: KernelPart
     slow: KernelPart
     aliasing: float = field(init=False)
@@ -123,7 +127,7 @@ class TwoRates:
         slow = np.zeros((q.kernel.size + taps - 1, m))
         for lag in range(taps):  # the kernel at the reduced rate, every phase at once
             slow[lag : lag + q.kernel.size] += np.outer(q.kernel, phases[lag])
-        slow = slow.ravel()[: m * (q.kernel.size - 1) + smoothing.size] * (self.level / m)
+        slow = slow.ravel()[: m * (q.kernel.size - 1) + smoothing.size] / m
         centre = m * q.offset + 2 * (m - 1)
         half = max(centre, slow.size - 1 - centre, self.fast.support)
         kernel = np.zeros(2 * half + 1)
@@ -176,7 +180,7 @@ class TwoRates:
         return _convolved(reduced, self.slow)
 
     def interpolated(self, slow, first: int, n: int) -> np.ndarray:
-        """``level`` times the slow output interpolated to padded indices
+        """The slow output interpolated to padded indices
         ``first ... first + n - 1`` of the full rate.
 
         Examples
@@ -185,14 +189,13 @@ class TwoRates:
         >>> parts = two_rates(highpass(0.05, rolloff=24.0), 1000.0, 0.001)
         >>> m = parts.factor
         >>> slow = np.array([[0.0, 1.0, 2.0, 3.0]])
-        >>> bool(np.allclose(parts.interpolated(slow, m, m)[0] / parts.level,
-        ...                  1.0 + np.arange(m) / m))
+        >>> bool(np.allclose(parts.interpolated(slow, m, m)[0], 1.0 + np.arange(m) / m))
         True
         """
         m = self.factor
         j0, j1 = first // m, (first + n - 1) // m + 1
         pairs = np.stack([slow[:, j0:j1], slow[:, j0 + 1 : j1 + 1]], axis=-1)
-        up = (pairs @ (self.level * _interpolation_weights(m)).astype(slow.dtype, copy=False))
+        up = pairs @ _interpolation_weights(m).astype(slow.dtype, copy=False)
         up = up.reshape(slow.shape[0], -1)
         return up[:, first - j0 * m : first - j0 * m + n]
 
@@ -213,13 +216,13 @@ def two_rates(curve, sfreq: float, tolerance: float) -> TwoRates | None:
     >>> two_rates(lowpass(30.0), 1000.0, 0.001) is None
     True
     """
-    found = _split(curve, sfreq, tolerance)
-    if found is None:
+    low_end = _blend_start(curve, sfreq)
+    if low_end is None:
         return None
-    split, level = found
+    split = low_end * 2.0**_BLEND_OCTAVES
 
     def fast_curve(f):
-        return curve(np.maximum(f, split))
+        return np.power(curve(f), _blend_weight(f, low_end))
 
     try:
         fast = KernelPart(*_Realizer(fast_curve, sfreq, False, _FAST_SHARE * tolerance).shortest(),
@@ -228,8 +231,8 @@ def two_rates(curve, sfreq: float, tolerance: float) -> TwoRates | None:
             factor = int(sfreq // (per_split * split))
             if factor < _MIN_FACTOR:
                 return None
-            parts = TwoRates(factor, split, level, fast, _slow_part(curve, split, level, factor,
-                                                                    sfreq, tolerance))
+            slow = _slow_part(curve, low_end, factor, sfreq, tolerance)
+            parts = TwoRates(factor, split, fast, slow)
             if parts.aliasing <= (1.0 - _FAST_SHARE - _SLOW_SHARE) * tolerance:
                 break
     except ValueError:  # a part no kernel realizes: the caller runs one rate
@@ -239,17 +242,28 @@ def two_rates(curve, sfreq: float, tolerance: float) -> TwoRates | None:
     return parts
 
 
-def _slow_part(curve, split, level, factor, sfreq, tolerance) -> KernelPart:
+def _slow_part(curve, low_end, factor, sfreq, tolerance) -> KernelPart:
     """The slow part's kernel at ``sfreq / factor``: what it removes below the
-    split, over the rate change's own droop there."""
+    blend's top, over the rate change's own droop there."""
 
     def slow_curve(f):
-        removed = np.maximum(1.0 - curve(np.minimum(f, split)) / level, 0.0)
+        removed = np.maximum(1.0 - np.power(curve(f), 1.0 - _blend_weight(f, low_end)), 0.0)
         return removed / _triangle_gain(f, factor, sfreq) ** 2
 
     low = sfreq / factor
-    return KernelPart(*_Realizer(slow_curve, low, False, _SLOW_SHARE * tolerance / level).shortest(),
-                      low)
+    return KernelPart(*_Realizer(slow_curve, low, False, _SLOW_SHARE * tolerance).shortest(), low)
+
+
+def _blend_weight(freqs, low_end: float) -> np.ndarray:
+    """0 below ``low_end``, 1 from two octaves above, a quintic smoothstep
+    (continuous to the second derivative) on log frequency between.
+
+    >>> _blend_weight(np.array([0.5, 1.0, 2.0, 4.0, 8.0]), 1.0).tolist()
+    [0.0, 0.0, 0.5, 1.0, 1.0]
+    """
+    with np.errstate(divide="ignore"):
+        t = np.clip(np.log2(np.asarray(freqs, dtype=float) / low_end) / _BLEND_OCTAVES, 0.0, 1.0)
+    return t * t * t * (10.0 - 15.0 * t + 6.0 * t * t)
 
 
 def alias_bound(parts: TwoRates) -> float:
@@ -270,25 +284,23 @@ def alias_bound(parts: TwoRates) -> float:
     # the triangle's gains at the m frequencies that fold onto one sum to 1
     # (its samples at multiples of m are 1/m at 0 and zero elsewhere), so the
     # others add up to 1 - its own
-    return float(np.max(parts.level * slow * own * (1.0 - own)))
+    return float(np.max(slow * own * (1.0 - own)))
 
 
-def _split(curve, sfreq, tolerance):
-    """The lowest frequency with a passband gain that the request holds
-    within ``_FLAT * tolerance`` for an octave on each side, below which it
-    only falls (by more than the tolerance): (split, level) or None."""
+def _blend_start(curve, sfreq):
+    """The lowest frequency from which the request stays within
+    ``_BLEND_FLAT`` of its largest value there (and at least 0.5) for two
+    octaves, with more than that below it: the blend's bottom, or None."""
     freqs = np.geomspace(sfreq / 2**22, sfreq / 2.0, 21 * _POINTS_PER_OCTAVE + 1)
     gain = np.asarray(curve(freqs), dtype=float)
-    w = _POINTS_PER_OCTAVE
-    for i in range(w, freqs.size - w):
-        level = gain[i]
-        near = gain[i - w : i + w + 1]
-        if level < 0.5 or np.ptp(near) > _FLAT * tolerance * level:
+    span = int(_BLEND_OCTAVES * _POINTS_PER_OCTAVE)
+    for i in range(1, freqs.size - span):
+        window = gain[i : i + span + 1]
+        top = window.max()
+        if window.min() < max(0.5, top * (1.0 - _BLEND_FLAT)):
             continue
         below = gain[:i]
-        if below.max() > level * (1.0 + _FLAT * tolerance) or below.min() > level - tolerance:
-            return None
-        return float(freqs[i]), float(level)
+        return float(freqs[i]) if below.min() < top * (1.0 - _BLEND_FLAT) else None
     return None
 
 
