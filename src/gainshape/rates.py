@@ -294,14 +294,13 @@ def _blend_start(curve, sfreq):
     freqs = np.geomspace(sfreq / 2**22, sfreq / 2.0, 21 * _POINTS_PER_OCTAVE + 1)
     gain = np.asarray(curve(freqs), dtype=float)
     span = int(_BLEND_OCTAVES * _POINTS_PER_OCTAVE)
-    for i in range(1, freqs.size - span):
-        window = gain[i : i + span + 1]
-        top = window.max()
-        if window.min() < max(0.5, top * (1.0 - _BLEND_FLAT)):
-            continue
-        below = gain[:i]
-        return float(freqs[i]) if below.min() < top * (1.0 - _BLEND_FLAT) else None
-    return None
+    windows = np.lib.stride_tricks.sliding_window_view(gain, span + 1)
+    tops, bottoms = windows.max(axis=1), windows.min(axis=1)
+    flat = np.flatnonzero(bottoms[1:] >= np.maximum(0.5, tops[1:] * (1.0 - _BLEND_FLAT))) + 1
+    if not flat.size:
+        return None
+    i = int(flat[0])
+    return float(freqs[i]) if gain[:i].min() < tops[i] * (1.0 - _BLEND_FLAT) else None
 
 
 def _triangle(m: int) -> np.ndarray:
