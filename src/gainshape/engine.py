@@ -23,7 +23,7 @@ from ._checks import check_int, check_option, warn
 from .rates import KernelPart
 
 __all__ = ["Progress", "check_samples", "filter_array", "check_finite", "filter_span", "edge_pads", "block_plan", "PAD_MODES",
-           "convolve_rows", "spectrum_buffer", "fft_workers"]
+           "convolve_rows", "spectrum_buffer", "fft_workers", "slow_output_and_edges"]
 
 LOCAL_PAD_MODES = ("reflect", "symmetric", "edge", "constant")  # need only the ends
 PAD_MODES = (
@@ -339,20 +339,16 @@ def _filter_periodic(rows, out_rows, group, start, stop, design, pad, workers, a
 
 
 def _folded(design, period: int) -> KernelPart:
-    """The kernel folded onto ``period`` samples, centred, cached with the design.
+    """The kernel folded onto ``period`` samples, centred.
 
     >>> from types import SimpleNamespace
-    >>> k = SimpleNamespace(kernel=np.array([1.0, 2.0, 3.0]), offset=1, sfreq=10.0, _spectra={})
+    >>> k = SimpleNamespace(kernel=np.array([1.0, 2.0, 3.0]), offset=1, sfreq=10.0)
     >>> _folded(k, 2).kernel.tolist()  # t = -1 and 1 fall on the same sample
     [4.0, 2.0]
     """
-    key = ("folded", period)
-    if key not in design._spectra:
-        half = period // 2
-        at = (np.arange(design.kernel.size) - design.offset + half) % period
-        folded = np.bincount(at, weights=design.kernel, minlength=period)
-        design._spectra[key] = KernelPart(folded, half, design.sfreq)
-    return design._spectra[key]
+    half = period // 2
+    at = (np.arange(design.kernel.size) - design.offset + half) % period
+    return KernelPart(np.bincount(at, weights=design.kernel, minlength=period), half, design.sfreq)
 
 
 def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, advance):
@@ -379,7 +375,7 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ad
         if rates is None:
             edges = edge_pads(seg, design.support, pad)
         else:
-            edges, slow, n_pad = _slow_part(seg, design, pad)
+            edges, slow, n_pad = slow_output_and_edges(seg, design, pad, rows_at_once=_SLOW_ROWS)
         carry = None
         for a in range(0, n_seg, step):
             b = min(a + step, n_seg)
@@ -393,23 +389,26 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ad
             advance(block.size * (b - a))
 
 
-def _slow_part(seg, design, pad):
-    """A two-rate design's slow output for ``seg``, with the fast part's padding.
+def slow_output_and_edges(seg, design, pad, rows_at_once=None):
+    """A two-rate design's slow output for ``seg``, and the fast part's padding.
 
     The padding is whole frames of the reduced rate as wide as the whole
-    design reaches, built and decimated a few rows at a time (it may be
-    wider than the segment). Returns (fast edges, slow output, padding).
+    design reaches (it may be wider than the segment), built and decimated
+    ``rows_at_once`` rows at a time (None: all, for a ``seg`` read from a
+    file). Returns ((left, right) fast padding, slow output, padding width).
     """
     rates = design.rates
     n_pad = -(-design.support // rates.factor) * rates.factor
     reach = rates.fast.support
+    step = rows_at_once or seg.shape[0]
+    groups = [seg] if step >= seg.shape[0] else [seg[g : g + step] for g in range(0, seg.shape[0], step)]
     slow, left_edges, right_edges = [], [], []
-    for g in range(0, seg.shape[0], _SLOW_ROWS):
-        rows = seg[g : g + _SLOW_ROWS]
+    for rows in groups:
         left, right = edge_pads(rows, n_pad, pad)
         slow.append(rates.slow_output(left, rows, right))
         left_edges.append(left[:, n_pad - reach :])
         right_edges.append(right[:, :reach])
+    # copies: the wide padding is not kept
     edges = np.concatenate(left_edges), np.concatenate(right_edges)
     return edges, np.concatenate(slow), n_pad
 

@@ -16,7 +16,7 @@ import numpy as np
 import scipy.fft as sfft
 from scipy.optimize import brentq, minimize_scalar
 
-from .realize import _cepstral_minimum_phase, _validated_gain
+from .realize import _cepstral_minimum_phase
 
 __all__ = ["Characteristics", "EdgeFrequency", "EdgeTiming", "StopBand", "characterize", "passband_edges",
            "removed_bands", "stop_band_words", "timing_words"]

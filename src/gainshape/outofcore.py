@@ -17,7 +17,7 @@ from ._compat import calibrate_into, unlocked
 from ._files import atomic_output
 from .design import FilterDesign
 from .engine import (LOCAL_PAD_MODES, block_plan, check_finite, edge_pads, fft_workers,
-                     filter_span, spectrum_buffer)
+                     filter_span, slow_output_and_edges, spectrum_buffer)
 
 __all__ = ["check_request", "filtered_raw"]
 
@@ -122,15 +122,10 @@ class _BlockReader:
     def _prepared(self, view):
         """The segment's padding for the full-rate kernel and, for a design in
         two rates, the slow part's output over the whole segment (read once,
-        1/factor of the segment's size)."""
-        rates, fast = self.filt.rates, self._fast
-        if rates is None:
-            return edge_pads(view, fast.support, self.pad), None, 0
-        n_pad = -(-self.filt.support // rates.factor) * rates.factor
-        left, right = edge_pads(view, n_pad, self.pad)
-        slow = rates.slow_output(left, view, right)
-        # copies: the wide padding is not kept while the segment is read
-        return (left[:, n_pad - fast.support :].copy(), right[:, : fast.support].copy()), slow, n_pad
+        1/factor of the segment's size) and the padding it was made with."""
+        if self.filt.rates is None:
+            return edge_pads(view, self._fast.support, self.pad), None, 0
+        return slow_output_and_edges(view, self.filt, self.pad)
 
     def _filtered(self, start, stop):
         out = np.empty((len(self.raw.ch_names), stop - start))
