@@ -45,6 +45,7 @@ breaks = [
  ("methods: reduced rate x2", "src/gainshape/provenance.py", "f\"{r['reduced_rate_hz']:.4g} Hz (decimation by", "f\"{2 * r['reduced_rate_hz']:.4g} Hz (decimation by"),
  ("summary: split x2", "src/gainshape/design.py", "    return (f\"two: below {r['split_hz']:.3g} Hz", "    return (f\"two: below {2 * r['split_hz']:.3g} Hz"),
  ("engine: kernel folded onto one sample less", "src/gainshape/engine.py", "        at = (np.arange(design.kernel.size) - design.offset + half) % period", "        at = (np.arange(design.kernel.size) - design.offset + half) % (period - 1)"),
+ ("BIDS reduced rate x2", "src/gainshape/provenance.py", 'two.get("reduced_rate_hz"), 6)', '2 * two.get("reduced_rate_hz"), 6)'),
  ("history table roll-off x2", "src/gainshape/provenance.py", 'f"{slope:.1f}" for _, _, _, slope in passband if slope is not None', 'f"{2 * slope:.1f}" for _, _, _, slope in passband if slope is not None'),
 ]
 chosen = [b for b in breaks if not sys.argv[1:] or any(n in b[0] for n in sys.argv[1:])]

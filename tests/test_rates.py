@@ -251,6 +251,10 @@ def test_the_step_record_and_methods_say_the_filter_ran_in_two_rates(split):
     assert f"reduced rate of {SFREQ / split.rates.factor:.4g} Hz" in text
     assert f"decimation by {split.rates.factor} " in text
     assert f"below {split.rates.split:.3g} Hz" in text
+    entry, = gs.bids_filters(out).values()
+    assert entry["slow part's reduced sampling frequency (Hz)"] == pytest.approx(
+        SFREQ / split.rates.factor, rel=1e-5)
+    assert entry["aliasing bound (gain)"] == pytest.approx(split.rates.aliasing, rel=0.05)
     rows = dict(split.summary())
     assert rows["rates"].startswith(f"two: below {split.rates.split:.3g} Hz at "
                                     f"{SFREQ / split.rates.factor:.4g} Hz")

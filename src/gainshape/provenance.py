@@ -346,6 +346,12 @@ def bids_filters(inst) -> dict | str:
             edges["stop bands (Hz, Hz, attenuation dB, kind)"] = [
                 [_round_sig(b["low"], 4), _round_sig(b["high"], 4),
                  _round_sig(b["attenuation_db"], 3), b["kind"]] for b in r["stop_bands"]]
+        if isinstance(d.get("two_rates"), dict):
+            two = d["two_rates"]
+            edges["slow part below (Hz)"] = _round_sig(two.get("split_hz"), 4)
+            edges["slow part's reduced sampling frequency (Hz)"] = _round_sig(
+                two.get("reduced_rate_hz"), 6)
+            edges["aliasing bound (gain)"] = _round_sig(two.get("aliasing_bound"), 2)
         status = {"status": "interrupted: data partly filtered"} if step["application"].get(
             "interrupted") else {}
         out[f"gainshape step {i}: {r.get('kind', 'filter')}"] = {
