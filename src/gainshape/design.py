@@ -23,7 +23,7 @@ from .measure import (Characteristics, characterize, max_deviation, passband_edg
                       removed_bands, stop_band_words, timing_words)
 from .rates import TwoRates, two_rates
 from .realize import (KernelResponse, _kernel_spectrum, _minimum_phase_spectrum, _Realizer,
-                      _requested_taps, _validated_gain)
+                      _requested_taps, _validated_gain, cached_spectrum)
 
 __all__ = ["design", "FilterDesign"]
 
@@ -245,13 +245,7 @@ class FilterDesign:  # numpydoc ignore=PR01
         >>> f.spectrum(4096).shape
         (2049,)
         """
-        key = (n_fft, np.dtype(dtype) == np.float32)
-        if key not in self._spectra:
-            spec = self._compute_spectrum(n_fft)
-            if key[1]:
-                spec = spec.astype(np.float32 if spec.dtype.kind == "f" else np.complex64)
-            self._spectra[key] = spec
-        return self._spectra[key]
+        return cached_spectrum(self._spectra, n_fft, dtype, self._compute_spectrum)
 
     def _compute_spectrum(self, n_fft: int) -> np.ndarray:
         if self.exact:

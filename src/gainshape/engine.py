@@ -23,7 +23,8 @@ from ._checks import check_int, check_option, warn
 from .rates import KernelPart
 
 __all__ = ["Progress", "check_samples", "filter_array", "check_finite", "filter_span", "edge_pads", "block_plan", "PAD_MODES",
-           "convolve_rows", "spectrum_buffer", "fft_workers", "slow_output_and_edges"]
+           "convolve_rows", "spectrum_buffer", "fft_workers", "full_rate_part",
+           "pads_and_slow_output"]
 
 LOCAL_PAD_MODES = ("reflect", "symmetric", "edge", "constant")  # need only the ends
 PAD_MODES = (
@@ -360,8 +361,7 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ad
     reduced rate from padding as wide as the whole design needs.
     """
     n_seg = stop - start
-    rates = getattr(design, "rates", None)
-    fast = design if rates is None else rates.fast
+    rates, fast = getattr(design, "rates", None), full_rate_part(design)
     n_fft, step = block_plan(n_seg, fast.support, whole=getattr(design, "exact", False))
     per_block = _rows_per_block(rows, n_fft, group.size, workers)
     blocks = [group[i : i + per_block] for i in range(0, group.size, per_block)]
@@ -372,16 +372,13 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ad
     for block in blocks:
         sel = _as_index(block)
         seg = rows[sel, start:stop]
-        if rates is None:
-            edges = edge_pads(seg, design.support, pad)
-        else:
-            edges, slow, n_pad = slow_output_and_edges(seg, design, pad, rows_at_once=_SLOW_ROWS)
+        edges, slow, n_pad = pads_and_slow_output(seg, design, pad, rows_at_once=_SLOW_ROWS)
         carry = None
         for a in range(0, n_seg, step):
             b = min(a + step, n_seg)
             filtered = filter_span(seg, edges, (a, b), fast, buf[: block.size], workers=workers,
                                    carry=carry, spec=spec[: block.size])
-            if rates is not None:
+            if slow is not None:
                 filtered -= rates.interpolated(slow, n_pad + a, b - a)
             if in_place and b < n_seg:  # the next block's left context, before it is overwritten
                 carry = np.array(seg[:, b - fast.support : b])
@@ -389,15 +386,25 @@ def _filter_segment(rows, out_rows, group, start, stop, design, pad, workers, ad
             advance(block.size * (b - a))
 
 
-def slow_output_and_edges(seg, design, pad, rows_at_once=None):
-    """A two-rate design's slow output for ``seg``, and the fast part's padding.
+def full_rate_part(design):
+    """What runs at the full rate: the design itself, or its fast part."""
+    rates = getattr(design, "rates", None)
+    return design if rates is None else rates.fast
 
-    The padding is whole frames of the reduced rate as wide as the whole
-    design reaches (it may be wider than the segment), built and decimated
-    ``rows_at_once`` rows at a time (None: all, for a ``seg`` read from a
-    file). Returns ((left, right) fast padding, slow output, padding width).
+
+def pads_and_slow_output(seg, design, pad, rows_at_once=None):
+    """The padding of ``seg`` for the full-rate kernel and, for a design in
+    two rates, the slow part's output: ((left, right), slow or None, width of
+    the padding the slow output was made with, 0 without one).
+
+    For two rates the padding is whole frames of the reduced rate as wide as
+    the whole design reaches (it may be wider than the segment), built and
+    decimated ``rows_at_once`` rows at a time (None: all, for a ``seg`` read
+    from a file); the full-rate kernel's share of it is kept.
     """
-    rates = design.rates
+    rates = getattr(design, "rates", None)
+    if rates is None:
+        return edge_pads(seg, design.support, pad), None, 0
     n_pad = -(-design.support // rates.factor) * rates.factor
     reach = rates.fast.support
     step = rows_at_once or seg.shape[0]

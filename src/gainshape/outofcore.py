@@ -16,8 +16,8 @@ import numpy as np
 from ._compat import calibrate_into, unlocked
 from ._files import atomic_output
 from .design import FilterDesign
-from .engine import (LOCAL_PAD_MODES, block_plan, check_finite, edge_pads, fft_workers,
-                     filter_span, slow_output_and_edges, spectrum_buffer)
+from .engine import (LOCAL_PAD_MODES, block_plan, check_finite, fft_workers,
+                     filter_span, full_rate_part, pads_and_slow_output, spectrum_buffer)
 
 __all__ = ["check_request", "filtered_raw"]
 
@@ -112,20 +112,7 @@ class _BlockReader:
 
     def _plan(self, segment):
         s, e = segment
-        return block_plan(e - s, self._fast.support, compact=True)
-
-    @property
-    def _fast(self):
-        """What runs at the full rate: the design, or its fast part."""
-        return self.filt if self.filt.rates is None else self.filt.rates.fast
-
-    def _prepared(self, view):
-        """The segment's padding for the full-rate kernel and, for a design in
-        two rates, the slow part's output over the whole segment (read once,
-        1/factor of the segment's size) and the padding it was made with."""
-        if self.filt.rates is None:
-            return edge_pads(view, self._fast.support, self.pad), None, 0
-        return slow_output_and_edges(view, self.filt, self.pad)
+        return block_plan(e - s, full_rate_part(self.filt).support, compact=True)
 
     def _filtered(self, start, stop):
         out = np.empty((len(self.raw.ch_names), stop - start))
@@ -138,11 +125,11 @@ class _BlockReader:
                 continue
             view = _SegmentView(self.raw, self.rows, s, e, self.names)
             if (s, e) not in self.edges:
-                self.edges = {(s, e): self._prepared(view)}
+                self.edges = {(s, e): pads_and_slow_output(view, self.filt, self.pad)}
             (left, right), slow, n_pad = self.edges[(s, e)]
             n_fft, step = self._plan((s, e))
-            fast = self._fast.support  # the request and its reach, read once for every block:
-            view[:, max(a - s - fast, 0) : min(b - s + fast, e - s)]
+            fast = full_rate_part(self.filt)
+            view.keep(max(a - s - fast.support, 0), min(b - s + fast.support, e - s))  # one read
             buf = np.zeros((min(_ROWS_PER_FFT, len(self.rows)), n_fft))
             spec = spectrum_buffer(buf)
             for lo in range(a - s, b - s, step):
@@ -152,7 +139,7 @@ class _BlockReader:
                     k = len(self.rows[group])
                     filtered = filter_span(
                         _RowGroup(view, group, k), (left[group], right[group]), (lo, hi),
-                        self._fast, buf[:k], workers=self.workers, spec=spec[:k])
+                        fast, buf[:k], workers=self.workers, spec=spec[:k])
                     if slow is not None:
                         filtered -= self.filt.rates.interpolated(slow[group], n_pad + lo, hi - lo)
                     out[self.rows[group], s + lo - start : s + hi - start] = filtered
@@ -168,6 +155,10 @@ class _SegmentView:
         self.raw, self.rows, self.start, self.names = raw, rows, start, names
         self.shape = (len(rows), stop - start)
         self._last = (None, None, None)
+
+    def keep(self, lo: int, hi: int) -> None:
+        """Read samples ``[lo, hi)`` now, for the slices inside them that follow."""
+        self[:, lo:hi]
 
     def __getitem__(self, key):
         _, sl = key

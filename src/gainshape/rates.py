@@ -33,7 +33,7 @@ from itertools import chain
 import numpy as np
 import scipy.fft as sfft
 
-from .realize import KernelResponse, _kernel_spectrum, _Realizer
+from .realize import KernelResponse, _kernel_spectrum, _Realizer, cached_spectrum
 
 __all__ = ["KernelPart", "TwoRates", "two_rates", "alias_bound"]
 
@@ -70,11 +70,8 @@ class KernelPart:
 
     def spectrum(self, n_fft: int, dtype=np.float64) -> np.ndarray:
         """Response on the rfft grid of ``n_fft`` points (t = 0 first), cached."""
-        key = (n_fft, np.dtype(dtype) == np.float32)
-        if key not in self._spectra:
-            spec = _kernel_spectrum(self.kernel, self.offset, n_fft, causal=False)
-            self._spectra[key] = spec.astype(np.float32) if key[1] else spec
-        return self._spectra[key]
+        return cached_spectrum(self._spectra, n_fft, dtype,
+                               lambda n: _kernel_spectrum(self.kernel, self.offset, n, causal=False))
 
 
 @dataclass(frozen=True, eq=False)
@@ -119,7 +116,7 @@ class TwoRates:
         True
         """
         m, q = self.factor, self.slow
-        smoothing = np.convolve(_triangle(m), _triangle(m) * m)  # decimation, then interpolation
+        smoothing = np.convolve(_triangle(m), _triangle(m))  # d (sum 1), then u / m (u sums to m)
         taps = -(-smoothing.size // m)  # the smoothing in m phases of `taps` samples each
         phases = np.zeros(taps * m)
         phases[: smoothing.size] = smoothing
@@ -127,7 +124,7 @@ class TwoRates:
         slow = np.zeros((q.kernel.size + taps - 1, m))
         for lag in range(taps):  # the kernel at the reduced rate, every phase at once
             slow[lag : lag + q.kernel.size] += np.outer(q.kernel, phases[lag])
-        slow = slow.ravel()[: m * (q.kernel.size - 1) + smoothing.size] / m
+        slow = slow.ravel()[: m * (q.kernel.size - 1) + smoothing.size]
         centre = m * q.offset + 2 * (m - 1)
         half = max(centre, slow.size - 1 - centre, self.fast.support)
         kernel = np.zeros(2 * half + 1)
@@ -171,7 +168,7 @@ class TwoRates:
                            dtype=weights.dtype)
         j = 0
         for x in chain([left], body, [tail]):
-            both = _frames(x, m) @ weights  # (rows, frames, 2)
+            both = x.reshape(x.shape[0], -1, m) @ weights  # (rows, frames, 2), a view of x
             j1 = j + both.shape[1]
             reduced[:, j:j1] += both[:, :, 0]  # frame j's own share ...
             end = min(j1 + 1, reduced.shape[1])
@@ -334,11 +331,6 @@ def _interpolation_weights(m: int) -> np.ndarray:
     """(2, m) weights: samples j and j + 1 to the m samples of frame j (linear)."""
     r = np.arange(m) / m
     return np.stack([1.0 - r, r])
-
-
-def _frames(x: np.ndarray, m: int) -> np.ndarray:
-    """Rows of ``x`` (length a multiple of m) as (rows, frames, m), a view when possible."""
-    return x.reshape(x.shape[0], -1, m)
 
 
 def _convolved(reduced: np.ndarray, part: KernelPart, rows: int = 4) -> np.ndarray:

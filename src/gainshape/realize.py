@@ -240,6 +240,22 @@ def _cepstral_minimum_phase(magnitude, n: int, floor: float = 1e-12) -> np.ndarr
     return np.exp(sfft.rfft(cep))
 
 
+def cached_spectrum(cache: dict, n_fft: int, dtype, compute) -> np.ndarray:
+    """``compute(n_fft)`` kept in ``cache`` per size and precision, in single
+    precision for float32 data.
+
+    >>> cached_spectrum({}, 4, np.float32, lambda n: np.ones(n // 2 + 1)).dtype
+    dtype('float32')
+    """
+    key = (n_fft, np.dtype(dtype) == np.float32)
+    if key not in cache:
+        spec = compute(n_fft)
+        if key[1]:
+            spec = spec.astype(np.float32 if spec.dtype.kind == "f" else np.complex64)
+        cache[key] = spec
+    return cache[key]
+
+
 def _kernel_spectrum(kernel, offset, n_fft, causal) -> np.ndarray:
     """Response of ``kernel`` (t = 0 at ``offset``) on an rfft grid of n_fft."""
     buf = np.zeros(n_fft)
