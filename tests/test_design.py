@@ -157,11 +157,15 @@ def test_notch_is_described_by_its_stop_bands_not_by_side_slopes():
     slope = f.characteristics.rolloff[0]
     assert slope == pytest.approx(12.0, rel=0.03)  # the constructor's analytic slope
     line = f.describe()
-    assert f"half-amplitude 1 Hz; roll-off {slope:.1f} dB/octave; stop bands 49-51, 99-101 Hz" in line
+    assert f"half-amplitude 1 Hz; roll-off {slope:.1f} dB/octave; stop bands 49.0-51.0, 99.0-101.0 Hz" in line
     rows = f.summary()
     assert dict(rows)["roll-off"] == f"{slope:.1f} dB/octave (high-pass edge)"
     stops = [value for label, value in rows if label == "stop band"]
-    assert [v.split(" (")[0] for v in stops] == ["0-1.001 Hz", "49-51 Hz", "99-101 Hz"]
+    assert [v.split(" (")[0] for v in stops] == ["below 0.0411 Hz", "notch at 50 Hz", "notch at 100 Hz"]
+    below, notch50, _ = f.characteristics.stop_bands
+    assert 0.0410 <= below.attenuated_high  # the stated "below" is rounded down
+    assert stops[1].startswith("notch at 50 Hz (49.0-51.0 Hz at half amplitude): at least "
+                               f"{notch50.attenuation_db:.1f} dB down over ")
 
 
 def test_passband_edges_and_removed_bands_split_the_shape():

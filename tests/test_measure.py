@@ -42,6 +42,33 @@ def test_causal_single_edge_is_timed_from_its_own_kernel(curve):
     if timing.edge == "high-pass":
         late = np.flatnonzero(np.abs(step - step[-1]) > 0.01)
         assert timing.settling_s == pytest.approx(late[-1] / 250.0)
-        assert timing.opposite_pct == pytest.approx(-100 * step.min())
+        assert timing.undershoot_pct == pytest.approx(-100 * step.min())
+        assert timing.pre_response_pct is None  # causal: nothing before the step
     else:
         assert timing.overshoot_pct == pytest.approx(100 * (step.max() - step[-1]))
+
+
+def test_a_stop_band_peak_between_grid_points_is_found():
+    # analytic: a floor gain 0.01 * (1 + 0.5 cos^2(pi (f - 10.37) / 0.8)) peaks at
+    # 10.37 Hz (0.015, -36.48 dB), between the grid's points at 10.25 and 10.5 Hz;
+    # the floor (request at its lowest) spans 9-12 Hz, the band 8-13 Hz
+    from gainshape.measure import _attenuated_range, _floor_top
+
+    def gain(f):
+        f = np.asarray(f, dtype=float)
+        inside = (f >= 8.5) & (f <= 12.5)
+        return np.where(inside, 0.01 * (1 + 0.5 * np.cos(np.pi * (f - 10.37) / 0.8) ** 2), 0.9)
+
+    def request(f):
+        f = np.asarray(f, dtype=float)
+        return np.where((f >= 9.0) & (f <= 12.0), 0.01, 0.5)
+
+    freqs = np.arange(0.0, 20.0, 0.25)
+    realized, floor = gain(freqs), (freqs >= 9.0) & (freqs <= 12.0)
+    top = _floor_top(freqs, realized, floor, (8.0, 13.0), 0.0101, request, gain)
+    assert top == pytest.approx(0.015, rel=1e-6)
+    low, high, highest = _attenuated_range(freqs, realized, (8.0, 13.0), floor, top, gain)
+    assert highest == pytest.approx(0.015, rel=1e-6)
+    assert low == pytest.approx(8.5) and high == pytest.approx(12.5)  # where the gain jumps
+    low, high, highest = _attenuated_range(freqs, realized, (8.0, 13.0), floor, 0.0149, gain)
+    assert highest == pytest.approx(0.015, rel=1e-6)  # a peak above the level inside the range

@@ -155,11 +155,11 @@ def test_history_of_array_explains_return_step():
 def test_history_html_table(filtered):
     html = gs.history(filtered)._repr_html_()
     assert html.count("<tr>") == 3 and "band-pass" in html and "notch" in html
-    assert "<td>49-51, 99-101</td>" in html  # the notch step's stop bands (125 Hz Nyquist)
+    assert "<td>49.0-51.0, 99.0-101.0</td>" in html  # the notch step's stop bands (125 Hz Nyquist)
 
 
 def test_methods_text_reports_every_step_with_realized_numbers(filtered):
-    text = gs.methods_text(filtered)
+    text = gs.methods_text(filtered, detail="full")
     steps = gs.history(filtered)
     bp = steps[0]["realized"]
     assert "in 2 steps" in text and text.index("band-pass") < text.index("notch")
@@ -172,7 +172,29 @@ def test_methods_text_reports_every_step_with_realized_numbers(filtered):
 def test_methods_text_minimum_phase_reports_delay(raw):
     out = gs.apply(raw, gs.lowpass(20.0), causal=True)
     delay = gs.history(out)[0]["realized"]["group_delay"]
-    assert f"minimum-phase (causal kernel, delay {1000 * delay:.3g} ms)" in gs.methods_text(out)
+    assert f"minimum-phase (causal kernel, delay {1000 * delay:.3g} ms)" in gs.methods_text(
+        out, detail="full")
+    assert f"causal (minimum-phase, one pass, group delay {1000 * delay:.3g} ms)" in gs.methods_text(out)
+
+
+def test_brief_methods_text_covers_the_checklist_once(filtered):
+    # Widmann, Schroeger & Maess (2015), J Neurosci Methods 250:34-46: type and
+    # family, cutoffs with their definition, roll-off, length, ripple and
+    # attenuation, causality and delay, direction; each once
+    text = gs.methods_text(filtered)
+    bp = gs.history(filtered)[0]["realized"]
+    for words in ("FIR band-pass filter", "Half-amplitude (-6 dB) cutoffs", "roll-off",
+                  "-sample kernel", "passband ripple", "stop-band attenuation at least",
+                  "zero-phase (non-causal, no delay)", "Notches at 50 and 100 Hz"):
+        assert words in text, words
+    assert f"cutoffs {bp['half_amplitude'][0]:.3g} and {bp['half_amplitude'][1]:.3g} Hz" in text
+    assert text.count("gainshape 0.") == 1 and text.count("MNE-Python") == 1
+    assert len(text.split()) < len(gs.methods_text(filtered, detail="full").split())
+
+
+def test_methods_text_detail_is_checked(filtered):
+    with pytest.raises(ValueError, match="'long' is not a choice for 'detail'"):
+        gs.methods_text(filtered, detail="long")
 
 
 def test_bids_filters_shape(filtered):

@@ -63,6 +63,8 @@ def _parser() -> argparse.ArgumentParser:
     describe.set_defaults(command=_describe, name="describe")
     history = commands.add_parser("history", help="print a file's filter steps and methods paragraph")
     history.add_argument("file", help="a FIF file written by gainshape")
+    history.add_argument("--full", action="store_true",
+                         help="the full methods paragraph: every stop band and edge")
     history.set_defaults(command=_history, name="history")
     return parser
 
@@ -123,7 +125,9 @@ def _history(args) -> int:
         print(f"{number}. {step.get('time', '?')}: {step['realized'].get('kind', '?')} filter, "
               f"{_curve_words(step['curve'])}, designed at {step['design'].get('sfreq', '?')} Hz")
     print()
-    print(methods_text(raw))
+    print(methods_text(raw, detail="full" if args.full else "brief"))
+    if steps and not args.full:
+        print(f"\n(Every stop band and edge: gainshape history {args.file} --full)")
     return EXIT_DONE
 
 

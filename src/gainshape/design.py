@@ -19,7 +19,7 @@ import scipy.fft as sfft
 
 from ._checks import check_bool, check_positive, warn
 from .curves import GainCurve
-from .measure import (Characteristics, characterize, max_deviation, passband_edges,
+from .measure import (Characteristics, characterize, hz_range, max_deviation, passband_edges,
                       removed_bands, stop_band_words, timing_words)
 from .rates import TwoRates, two_rates
 from .realize import (KernelResponse, _kernel_spectrum, _minimum_phase_spectrum, _Realizer,
@@ -312,7 +312,7 @@ class FilterDesign:  # numpydoc ignore=PR01
                          + " Hz")
             parts.append("roll-off " + ", ".join(f"{r:.1f}" for _, _, _, r in passband) + " dB/octave")
         if stops:
-            parts.append("stop bands " + ", ".join(f"{a:.3g}-{b:.3g}" for a, b, _ in stops)
+            parts.append("stop bands " + ", ".join(hz_range(a, b) for a, b, _ in stops)
                          + " Hz")
         if not c.half_amplitude:
             parts.append("no half-amplitude point")

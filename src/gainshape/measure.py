@@ -23,6 +23,7 @@ __all__ = ["Characteristics", "EdgeFrequency", "EdgeTiming", "StopBand", "charac
 
 _HALF_POWER = 1.0 / np.sqrt(2.0)
 _TIME_LEVEL = 0.01  # settling and decay: to within 1 % (of the step, of the peak)
+_ROUND_OFF = 1e-6  # a step response's excursion smaller than this (of the step) is round-off
 _SKIRTS = ("below the high-pass edge", "above the low-pass edge")  # stop bands beyond the pass band
 _FLOOR_SPAN = 10 ** (1 / 20)  # a stop band's floor: request within 1 dB of its lowest
 
@@ -56,31 +57,38 @@ class EdgeFrequency(float):
 
 @dataclass(frozen=True, slots=True)
 class StopBand:
-    """A band the realized filter removes.
+    """A band the realized filter removes, and the range where its attenuation holds.
 
-    ``low``, ``high``: its limits (Hz): half-amplitude points, or for a
-    notch inside a wider stop band the points at half the gain beside it.
-    ``attenuation_db``: -20 log10 of the largest realized gain over the
-    band's floor, the part where the request is within 1 dB of its lowest
-    value in the band (or at most the tolerance), so the transitions into
-    the band do not count. ``kind``: "below the high-pass edge", "above the
-    low-pass edge", "notch", "band-stop" or "notch inside a stop band".
+    ``low``, ``high``: the band's limits (Hz): half-amplitude points, or for
+    a notch inside a wider stop band the points at half the gain beside it.
+    ``attenuation_db``: -20 log10 of the largest realized gain over
+    ``attenuated_low`` to ``attenuated_high``, the range (inside the band)
+    around its floor where the realized gain stays at or below that level.
+    The floor is where the request is within 1 dB of its lowest value in the
+    band (or at most the tolerance), so the transitions into the band, which
+    the roll-off describes, are not counted. ``kind``: "below the high-pass
+    edge", "above the low-pass edge", "notch", "band-stop" or "notch inside
+    a stop band".
 
     Examples
     --------
-    >>> StopBand(49.0, 51.0, 60.2, "notch").to_dict()["attenuation_db"]
-    60.2
+    >>> StopBand(49.0, 51.0, 60.2, "notch", 49.9, 50.1).to_dict()["attenuated_low"]
+    49.9
     """
 
     low: float
     high: float
     attenuation_db: float
     kind: str
+    attenuated_low: float
+    attenuated_high: float
 
     def to_dict(self) -> dict:
         """Plain JSON values."""
         return {"low": float(self.low), "high": float(self.high),
-                "attenuation_db": float(self.attenuation_db), "kind": self.kind}
+                "attenuation_db": float(self.attenuation_db), "kind": self.kind,
+                "attenuated_low": float(self.attenuated_low),
+                "attenuated_high": float(self.attenuated_high)}
 
 
 @dataclass(frozen=True, slots=True)
@@ -89,15 +97,25 @@ class EdgeTiming:
 
     The realized response is split at the geometric middle of the pass
     band (for a high-pass alone, between its edge and Nyquist) and
-    normalized there, so each edge's part keeps the other side flat. For
-    the high-pass edge, from its unit step response: ``settling_s``, the time after the
-    step until the response stays within 1 % of its final value, and
-    ``opposite_pct``, its largest excursion of the opposite polarity (% of
-    the step; for zero phase this includes the part before the step). For
-    the low-pass edge: ``decay_s``, the time after t = 0 until the impulse
-    response's envelope stays below 1 % of its peak, and ``overshoot_pct``,
-    the step response's largest overshoot (%). Figures that do not apply
-    to an edge are None.
+    normalized there, so each edge's part keeps the other side flat.
+
+    For the high-pass edge, from its unit step response (the step at t = 0):
+
+    - ``settling_s``: the time after the step until the response stays
+      within 1 % of its final value;
+    - ``undershoot_pct``, ``undershoot_s``: the largest excursion of the
+      opposite polarity after the step (% of the step) and when it is
+      deepest (s after the step; None without one; excursions under 1e-6
+      of the step are round-off and count as none);
+    - ``pre_response_pct``, ``pre_response_s``: zero phase only (None for
+      a causal kernel): the largest response before the step (% of the
+      step; a symmetric high-pass kernel puts half the step there by
+      construction) and how long before the step it exceeds 1 %.
+
+    For the low-pass edge: ``decay_s``, the time after t = 0 until the
+    impulse response's envelope stays below 1 % of its peak, and
+    ``overshoot_pct``, the step response's largest overshoot (%). Figures
+    that do not apply to an edge are None.
 
     Examples
     --------
@@ -109,16 +127,18 @@ class EdgeTiming:
 
     edge: str
     cutoff: float
-    settling_s: float | None
-    opposite_pct: float | None
-    decay_s: float | None
-    overshoot_pct: float | None
+    settling_s: float | None = None
+    undershoot_pct: float | None = None
+    undershoot_s: float | None = None
+    pre_response_pct: float | None = None
+    pre_response_s: float | None = None
+    decay_s: float | None = None
+    overshoot_pct: float | None = None
 
     def to_dict(self) -> dict:
         """Plain JSON values (None where a figure does not apply)."""
         return {"edge": self.edge, "cutoff": float(self.cutoff),
-                **{k: getattr(self, k) for k in
-                   ("settling_s", "opposite_pct", "decay_s", "overshoot_pct")}}
+                **{k: getattr(self, k) for k in self.__slots__[2:]}}
 
 
 @dataclass(frozen=True, slots=True)
@@ -351,20 +371,25 @@ def passband_edges(realized: dict) -> list:
     """The pass band's outer edges of a characteristics dict (``to_dict()``
     or a recorded step's ``realized``): ``[(name, hz, half-power hz or None,
     roll-off or None)]`` for the leading rising ("high-pass") and trailing
-    falling ("low-pass") half-amplitude edges.
+    falling ("low-pass") half-amplitude edges, each with the outer
+    half-power edge of the same name (a notch inside the pass band can cross
+    1/sqrt(2) without crossing 0.5).
 
     Examples
     --------
     >>> passband_edges({"half_amplitude": [1.0, 49.0, 51.0], "half_power": [1.3, 48.7, 51.3],
     ...                 "half_amplitude_direction": ["rising", "falling", "rising"],
+    ...                 "half_power_direction": ["rising", "falling", "rising"],
     ...                 "rolloff": [12.0, 900.0, 900.0]})
     [('high-pass', 1.0, 1.3, 12.0)]
     """
     edges = list(realized.get("half_amplitude", []))
-    half_power, rolloff = list(realized.get("half_power", [])), list(realized.get("rolloff", []))
+    rolloff = list(realized.get("rolloff", []))
     outer = _outer_indices(list(realized.get("half_amplitude_direction", [])))
-    return [(name, edges[i], half_power[i] if len(half_power) == len(edges) else None,
-             rolloff[i] if i < len(rolloff) else None) for i, name in outer.items()]
+    power_at = _outer_indices(list(realized.get("half_power_direction", [])))
+    power = {name: realized["half_power"][i] for i, name in power_at.items()}
+    return [(name, edges[i], power.get(name), rolloff[i] if i < len(rolloff) else None)
+            for i, name in outer.items()]
 
 
 def removed_bands(realized: dict) -> list:
@@ -379,30 +404,146 @@ def removed_bands(realized: dict) -> list:
             if b["kind"] not in _SKIRTS]
 
 
-def stop_band_words(band: dict) -> str:
-    """One stop band in words.
+def hz_range(low: float, high: float, *, inward: bool = False) -> str:
+    """Two frequencies joined, with enough decimals for at least four steps
+    between them; ``inward`` rounds each end towards the other, so that a
+    figure stated over the printed range holds over all of it.
 
-    >>> stop_band_words({"low": 49.0, "high": 51.0, "attenuation_db": 60.2, "kind": "notch"})
-    '49-51 Hz (notch), at least 60.2 dB down'
+    >>> hz_range(149.797, 150.204), hz_range(40.0, 250.0), hz_range(99.864, 100.136)
+    ('149.8-150.2', '40-250', '99.86-100.14')
+    >>> hz_range(49.93008, 50.07009, inward=True)
+    '49.94-50.07'
     """
-    return (f"{band['low']:.4g}-{band['high']:.4g} Hz ({band['kind']}), at least "
-            f"{band['attenuation_db']:.1f} dB down")
+    width = max(high - low, 1e-9)
+    decimals = int(min(9, max(0, np.ceil(np.log10(4 / width)))))
+    scale = 10.0**decimals
+    if inward:
+        low, high = np.ceil(low * scale - 1e-9) / scale, np.floor(high * scale + 1e-9) / scale
+    return f"{low:.{decimals}f}-{high:.{decimals}f}"
+
+
+def hz_words(hz: float, digits: int = 4, rounding: str = "nearest") -> str:
+    """A frequency to ``digits`` significant digits, never in exponent form,
+    rounded to the nearest, "up" or "down".
+
+    >>> hz_words(0.0041166), hz_words(0.0041166, rounding="down"), hz_words(235.97, 3, "up")
+    ('0.004117', '0.004116', '236')
+    """
+    if hz == 0:
+        return "0"
+    decimals = int(digits - 1 - np.floor(np.log10(abs(hz))))
+    scale = 10.0**decimals
+    value = {"up": np.ceil, "down": np.floor}.get(rounding, np.round)(hz * scale) / scale
+    text = f"{value:.{max(decimals, 0)}f}"
+    return text.rstrip("0").rstrip(".") if "." in text else text
+
+
+def notch_centre(band: dict) -> float:
+    """Where a notch or band-stop is deepest: the middle of the range where
+    its attenuation holds (of its half-amplitude limits in older records).
+
+    >>> notch_centre({"low": 49.0, "high": 51.0, "attenuated_low": 49.96, "attenuated_high": 50.04})
+    50.0
+    """
+    low, high = band.get("attenuated_low", band["low"]), band.get("attenuated_high", band["high"])
+    return (low + high) / 2
+
+
+def stop_band_words(band: dict) -> str:
+    """One stop band in words: where its attenuation holds, and how much.
+
+    The skirts beyond the pass band are stated from where the attenuation
+    is reached (the roll-off describes the way there); notches and
+    band-stops by their half-amplitude limits and the range of the figure.
+    Records written before the range was measured say so.
+
+    >>> stop_band_words({"low": 40.0, "high": 250.0, "attenuation_db": 35.51,
+    ...                  "kind": "above the low-pass edge", "attenuated_low": 236.0,
+    ...                  "attenuated_high": 250.0})
+    'above 236 Hz (beyond the low-pass edge): at least 35.5 dB down'
+    >>> stop_band_words({"low": 49.0, "high": 51.0, "attenuation_db": 63.4, "kind": "notch",
+    ...                  "attenuated_low": 49.96, "attenuated_high": 50.04})
+    'notch at 50 Hz (49.0-51.0 Hz at half amplitude): at least 63.4 dB down over 49.96-50.04 Hz'
+    """
+    kind, att = band["kind"], f"at least {db_floor(band['attenuation_db'])} dB down"
+    if "attenuated_low" not in band:
+        return (f"{hz_range(band['low'], band['high'])} Hz ({kind}), {att} at its floor "
+                "(recorded before the range where this holds was measured)")
+    where = held_words(band)
+    if kind == "below the high-pass edge":
+        return f"{where} (beneath the high-pass edge): {att}"
+    if kind == "above the low-pass edge":
+        return f"{where} (beyond the low-pass edge): {att}"
+    limits = hz_range(band["low"], band["high"])
+    if kind == "band-stop":
+        return f"band-stop {limits} Hz (half amplitude): {att} {where}"
+    beside = (" inside the stop band", "at half the gain beside it") if kind != "notch" else (
+        "", "at half amplitude")
+    return (f"notch at {hz_words(notch_centre(band), 4)} Hz{beside[0]} ({limits} Hz {beside[1]}): "
+            f"{att} {where}")
+
+
+def db_floor(db: float) -> str:
+    """An attenuation to 0.1 dB, rounded down so that it still holds.
+
+    >>> db_floor(35.498), db_floor(60.0)
+    ('35.4', '60.0')
+    """
+    return f"{np.floor(db * 10 + 1e-9) / 10:.1f}"
+
+
+def held_words(band: dict) -> str:
+    """Where a stop band's attenuation holds, its ends rounded inward: "below
+    0.00411 Hz" and "above 236 Hz" for skirts reaching 0 Hz or Nyquist,
+    else "over a-b Hz".
+
+    >>> held_words({"low": 40.0, "high": 250.0, "kind": "above the low-pass edge",
+    ...             "attenuated_low": 235.97, "attenuated_high": 250.0})
+    'above 236 Hz'
+    """
+    low, high = band["attenuated_low"], band["attenuated_high"]
+    if band["kind"] == "below the high-pass edge" and low == 0.0:
+        return f"below {hz_words(high, 3, 'down')} Hz"
+    if band["kind"] == "above the low-pass edge" and high == band["high"]:
+        return f"above {hz_words(low, 3, 'up')} Hz"
+    return f"over {hz_range(low, high, inward=True)} Hz"
 
 
 def timing_words(timing: dict) -> str:
     """One edge's time behaviour in words (see :class:`EdgeTiming`).
 
     >>> timing_words({"edge": "low-pass", "cutoff": 40.0, "settling_s": None,
-    ...               "opposite_pct": None, "decay_s": 0.028, "overshoot_pct": 8.91})
+    ...               "decay_s": 0.028, "overshoot_pct": 8.91})
     'low-pass edge (40 Hz): impulse response below 1 % of its peak after 28 ms, step overshoot 8.9 %'
+    >>> timing_words({"edge": "high-pass", "cutoff": 0.1, "settling_s": 4.1,
+    ...               "pre_response_pct": 50.0, "pre_response_s": 4.1, "undershoot_pct": 0.0,
+    ...               "undershoot_s": None})
+    'high-pass edge (0.1 Hz): no undershoot after the step (under 0.01 %), within 1 % of its final value after 4.1 s; before the step, a pre-response of 50 % of the step over 4.1 s (zero phase)'
     """
     head = f"{timing['edge']} edge ({timing['cutoff']:.3g} Hz): "
-    if timing["edge"] == "high-pass":
-        return (head + f"step response within 1 % of its final value after "
-                f"{_seconds_words(timing['settling_s'])}, largest opposite-polarity excursion "
-                f"{timing['opposite_pct']:.1f} % of the step")
-    return (head + f"impulse response below 1 % of its peak after "
-            f"{_seconds_words(timing['decay_s'])}, step overshoot {timing['overshoot_pct']:.1f} %")
+    if timing["edge"] != "high-pass":
+        return (head + f"impulse response below 1 % of its peak after "
+                f"{_seconds_words(timing['decay_s'])}, step overshoot {timing['overshoot_pct']:.1f} %")
+    settle = f"within 1 % of its final value after {_seconds_words(timing['settling_s'])}"
+    if "undershoot_pct" not in timing:  # recorded before the two were told apart
+        return (head + f"step response {settle}, largest opposite-polarity excursion "
+                f"{timing['opposite_pct']:.1f} % of the step (before and after it)")
+    return head + f"{undershoot_words(timing)}, {settle}" + (
+        "" if timing.get("pre_response_pct") is None else
+        f"; before the step, a pre-response of {timing['pre_response_pct']:.3g} % of the step over "
+        f"{_seconds_words(timing['pre_response_s'])} (zero phase)")
+
+
+def undershoot_words(timing: dict) -> str:
+    """A high-pass edge's undershoot after the step, in words.
+
+    >>> undershoot_words({"undershoot_pct": 3.42, "undershoot_s": 1.5})
+    'step undershoot 3.4 % (deepest 1.5 s after the step)'
+    """
+    if timing["undershoot_pct"] < 0.01:
+        return "no undershoot after the step (under 0.01 %)"
+    return (f"step undershoot {timing['undershoot_pct']:.2g} % (deepest "
+            f"{_seconds_words(timing['undershoot_s'])} after the step)")
 
 
 def _seconds_words(seconds: float) -> str:
@@ -462,9 +603,46 @@ def _stop_bands(freqs, realized, requested, edges, nulls, tol, curve, response) 
         level = max(tol, requested[inside].min() * _FLOOR_SPAN)
         floor = inside & (requested <= level)
         found.append((a, b, kind, floor if floor.any() else inside, level))
-    return tuple(StopBand(a, b, -20 * float(np.log10(max(
-        _floor_top(freqs, realized, where, (a, b), level, curve, response), 1e-300))), kind)
-        for a, b, kind, where, level in found)
+    out = []
+    for a, b, kind, where, level in found:
+        top = _floor_top(freqs, realized, where, (a, b), level, curve, response)
+        low, high, top = _attenuated_range(freqs, realized, (a, b), where, top, response)
+        out.append(StopBand(a, b, -20 * float(np.log10(max(top, 1e-300))), kind, low, high))
+    return tuple(out)
+
+
+def _attenuated_range(freqs, realized, band, floor, top, response) -> tuple[float, float, float]:
+    """The range inside ``band`` around its ``floor`` (grid mask) where the
+    realized gain stays at or below ``top``, its ends found exactly, and the
+    highest gain over it (``top``, or a little more where a peak between
+    grid points rises above it): ``(low, high, highest)``.
+
+    Of the runs of grid points at or below ``top``, the one holding most of
+    the floor is taken; its ends are where the gain crosses ``top``.
+    """
+    a, b = band
+    ok = (freqs >= a) & (freqs <= b) & (realized <= top * (1 + 1e-9))
+    bounds = np.flatnonzero(np.diff(np.concatenate([[0], ok.astype(np.int8), [0]])))
+    starts, stops = bounds[::2], bounds[1::2]
+    in_floor = [np.count_nonzero(floor[i:j]) for i, j in zip(starts, stops)]
+    if not in_floor:  # the floor's top lies between grid points only
+        return a, b, float(np.max(realized[(freqs >= a) & (freqs <= b)], initial=top))
+    k = int(np.argmax(in_floor))
+    i, j = int(starts[k]), int(stops[k]) - 1
+
+    def over(f):
+        return float(response(np.array([f]))[0]) - top
+
+    low = max(a, brentq(over, freqs[i - 1], freqs[i], xtol=1e-12)) if (
+        i > 0 and over(freqs[i - 1]) > 0 > over(freqs[i])) else float(freqs[i])
+    high = min(b, brentq(over, freqs[j], freqs[j + 1], xtol=1e-12)) if (
+        j + 1 < freqs.size and over(freqs[j + 1]) > 0 > over(freqs[j])) else float(freqs[j])
+
+    def inside(f):
+        return (f >= low) & (f <= high)
+
+    run = np.where(inside(freqs), realized, 0.0)
+    return float(low), float(high), max(top, _refined_max(freqs, run, response, inside))
 
 
 def _floor_top(freqs, realized, where, band, level, curve, response) -> float:
@@ -557,7 +735,8 @@ def _edge_timing(response, on_grid, gain_at, exact, edges, removed) -> tuple:
     sfreq, kernel, causal = response.sfreq, response.kernel, response.causal
     if causal and not exact and len(named) == 1 and not removed:
         (name, cutoff), = named.items()
-        return (_timing_of(name, cutoff, (np.arange(kernel.size) - response.offset) / sfreq, kernel),)
+        return (_timing_of(name, cutoff, (np.arange(kernel.size) - response.offset) / sfreq, kernel,
+                           True),)
     if len(named) == 2:
         split = np.sqrt(named["high-pass"] * named["low-pass"])
     else:
@@ -581,7 +760,7 @@ def _edge_timing(response, on_grid, gain_at, exact, edges, removed) -> tuple:
         else:
             impulse = np.roll(sfft.irfft(part, n), n // 2)
             times = (np.arange(n) - n // 2) / rate
-        out.append(_timing_of(name, cutoff, times, impulse))
+        out.append(_timing_of(name, cutoff, times, impulse, causal))
     return tuple(out)
 
 
@@ -614,19 +793,27 @@ def _even_fast_len(n: float) -> int:
     return m
 
 
-def _timing_of(name, cutoff, times, impulse) -> EdgeTiming:
-    """Settling and opposite excursion (high-pass), decay and overshoot (low-pass)."""
+def _timing_of(name, cutoff, times, impulse, causal) -> EdgeTiming:
+    """Settling, undershoot and pre-response (high-pass), decay and overshoot (low-pass)."""
     step = np.cumsum(impulse)
     final = step[-1]
     after = times >= 0
     if name == "high-pass":
         late = np.flatnonzero(after & (np.abs(step - final) > _TIME_LEVEL))
         settling = float(times[late[-1]]) if late.size else 0.0
-        return EdgeTiming(name, cutoff, settling, float(max(0.0, -step.min()) * 100), None, None)
+        k = np.flatnonzero(after)[np.argmin(step[after])]
+        under = 100 * -float(step[k]) if step[k] < -_ROUND_OFF else 0.0
+        figures = {"settling_s": settling, "undershoot_pct": under,
+                   "undershoot_s": float(times[k]) if under > 0 else None}
+        if not causal:
+            early = np.flatnonzero(~after & (np.abs(step) > _TIME_LEVEL))
+            figures["pre_response_pct"] = float(np.abs(step[~after]).max(initial=0.0)) * 100
+            figures["pre_response_s"] = float(-times[early[0]]) if early.size else 0.0
+        return EdgeTiming(name, cutoff, **figures)
     envelope = np.abs(impulse) / np.abs(impulse).max()
     loud = np.flatnonzero(after & (envelope >= _TIME_LEVEL))
     decay = float(times[loud[-1]]) if loud.size else 0.0
-    return EdgeTiming(name, cutoff, None, None, decay, float(max(0.0, step.max() - final) * 100))
+    return EdgeTiming(name, cutoff, decay_s=decay, overshoot_pct=float(max(0.0, step.max() - final) * 100))
 
 
 def _kind(edges, gain_dc, gain_nyq, hidden_notches=0) -> str:

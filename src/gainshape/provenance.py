@@ -23,7 +23,8 @@ import xxhash
 from ._checks import warn
 from ._files import atomic_output
 from .design import phase_words
-from .measure import passband_edges, removed_bands, stop_band_words, timing_words
+from .measure import (held_words, hz_range, hz_words, notch_centre, passband_edges, removed_bands,
+                      stop_band_words, timing_words, undershoot_words)
 
 __all__ = [
     "History",
@@ -73,7 +74,7 @@ class History(list):
                                       else ""),
                 ", ".join(f"{hz:.3g}" for _, hz, _, _ in passband),
                 ", ".join(f"{slope:.1f}" for _, _, _, slope in passband if slope is not None),
-                ", ".join(f"{lo:.3g}-{hi:.3g}" for lo, hi, _ in stops),
+                ", ".join(hz_range(lo, hi) for lo, hi, _ in stops),
                 _kernel_words(step),
                 f"{len(chans)} ({', '.join(chans[:3])}{', ...' if len(chans) > 3 else ''})",
             )
@@ -245,19 +246,29 @@ def history(inst) -> History:
     return steps
 
 
-def methods_text(inst) -> str:
+METHODS_DETAIL = ("brief", "full")  # the lengths of methods_text
+
+
+def methods_text(inst, detail: str = "brief") -> str:
     """A methods-section paragraph describing every filter step in order.
 
-    Covers the items of the reporting checklist of Widmann, Schroeger & Maess
-    (2015, J Neurosci Methods 250:34-46): filter type and family, cutoffs and
-    their definition, roll-off, passband ripple and stopband attenuation,
-    causality and delay, length, padding, and software versions.
+    The brief form (default) gives each step the two or three sentences a
+    journal's methods section has room for, covering once each item of the
+    reporting checklist of Widmann, Schroeger & Maess (2015): filter type
+    and family, each cutoff with its definition, roll-off, kernel length,
+    passband ripple and stop-band attenuation (each with the range where it
+    holds), causality and delay, and direction (zero-phase or causal);
+    notches are summarised in one clause, time behaviour in another. The
+    full form lists every stop band and each edge's time behaviour, the
+    padding and how a filter in two rates ran.
 
     Parameters
     ----------
     inst : mne.io.Raw | mne.Epochs | mne.Evoked
         Data filtered by :func:`gainshape.apply` (the record is in
         ``info["description"]`` and survives saving to FIF).
+    detail : "brief" | "full"
+        The paragraph's length.
 
     Returns
     -------
@@ -268,6 +279,12 @@ def methods_text(inst) -> str:
     --------
     history, bids_filters
 
+    References
+    ----------
+    Widmann A, Schroeger E, Maess B (2015). Digital filter design for
+    electrophysiological data - a practical approach. J Neurosci Methods
+    250:34-46.
+
     Examples
     --------
     >>> import mne, numpy as np, gainshape as gs
@@ -277,6 +294,9 @@ def methods_text(inst) -> str:
     >>> gs.methods_text(filtered).startswith("Data were filtered with gainshape")
     True
     """
+    from ._checks import check_option
+
+    detail = check_option("detail", detail, METHODS_DETAIL)
     steps = history(inst)
     if not steps:
         return "No gainshape filter has been applied to these data."
@@ -286,9 +306,10 @@ def methods_text(inst) -> str:
         f"(NumPy {sw.get('numpy', '?')}, SciPy {sw.get('scipy', '?')}, "
         f"MNE-Python {sw.get('mne', '?')})"
     )
+    sentences = _brief_sentences if detail == "brief" else _step_sentences
     if len(steps) == 1:
-        return f"{opening}. {_step_sentences(steps[0])}"
-    parts = [f"({i + 1}) {_step_sentences(s)}" for i, s in enumerate(steps)]
+        return f"{opening}. {sentences(steps[0])}"
+    parts = [f"({i + 1}) {sentences(s)}" for i, s in enumerate(steps)]
     return f"{opening} in {len(steps)} steps, applied in this order. " + " ".join(parts)
 
 
@@ -335,17 +356,9 @@ def bids_filters(inst) -> dict | str:
             edges[f"{name} half-power cutoff (Hz)"] = _round_sig(half_power, 4)
             edges[f"{name} roll-off (dB/octave)"] = _round_sig(slope, 3)
         for t in r.get("edge_timing", []):
-            if t["edge"] == "high-pass":
-                edges["high-pass step settling time to 1 % (s)"] = _round_sig(t["settling_s"], 3)
-                edges["high-pass opposite-polarity excursion (% of step)"] = _round_sig(
-                    t["opposite_pct"], 3)
-            else:
-                edges["low-pass impulse decay time to 1 % (s)"] = _round_sig(t["decay_s"], 3)
-                edges["low-pass step overshoot (%)"] = _round_sig(t["overshoot_pct"], 3)
+            edges.update(_bids_timing(t))
         if r.get("stop_bands"):
-            edges["stop bands (Hz, Hz, attenuation dB, kind)"] = [
-                [_round_sig(b["low"], 4), _round_sig(b["high"], 4),
-                 _round_sig(b["attenuation_db"], 3), b["kind"]] for b in r["stop_bands"]]
+            edges["stop bands"] = [_bids_stop_band(b) for b in r["stop_bands"]]
         if isinstance(d.get("two_rates"), dict):
             two = d["two_rates"]
             edges["slow part below (Hz)"] = _round_sig(two.get("split_hz"), 4)
@@ -358,7 +371,8 @@ def bids_filters(inst) -> dict | str:
             **status,
             **edges,
             "passband ripple (dB)": _round_sig(r.get("passband_ripple_db"), 3),
-            "stopband attenuation (dB)": _round_sig(r.get("stopband_attenuation_db"), 3),
+            "least stop-band attenuation, over each band's stated range (dB)": _round_down(
+                r.get("stopband_attenuation_db"), 1),
             "phase response": _phase_words(step),
             "group delay (s)": _round_sig(r.get("group_delay"), 3),
             "kernel length (s)": _round_sig(r.get("length"), 4),
@@ -366,6 +380,35 @@ def bids_filters(inst) -> dict | str:
             "design": "frequency-sampled FIR from a gain curve, tapered truncation",
             "software": f"gainshape {step.get('software', {}).get('gainshape', '?')}",
         }
+    return out
+
+
+def _bids_timing(t: dict) -> dict:
+    """One edge's time figures as BIDS keys (units in the keys)."""
+    if t["edge"] != "high-pass":
+        return {"low-pass impulse decay time to 1 % (s)": _round_sig(t["decay_s"], 3),
+                "low-pass step overshoot (%)": _round_sig(t["overshoot_pct"], 3)}
+    out = {"high-pass step settling time to 1 % (s)": _round_sig(t["settling_s"], 3)}
+    if "undershoot_pct" not in t:  # recorded before undershoot and pre-response were apart
+        out["high-pass opposite-polarity excursion, before and after the step (%)"] = _round_sig(
+            t.get("opposite_pct"), 3)
+        return out
+    out["high-pass step undershoot after the step (% of step)"] = _round_sig(t["undershoot_pct"], 3)
+    out["high-pass time of deepest undershoot (s after the step)"] = _round_sig(t["undershoot_s"], 3)
+    if t.get("pre_response_pct") is not None:
+        out["high-pass pre-response before the step (% of step)"] = _round_sig(
+            t["pre_response_pct"], 3)
+        out["high-pass pre-response onset (s before the step)"] = _round_sig(t["pre_response_s"], 3)
+    return out
+
+
+def _bids_stop_band(b: dict) -> dict:
+    """One stop band as a BIDS object: where its attenuation holds (rounded inward) and how much."""
+    out = {"kind": b["kind"], "half-amplitude limits (Hz)": _rounded([b["low"], b["high"]], 4)}
+    if "attenuated_low" in b:
+        out["attenuation holds over (Hz)"] = [_round_sig_toward(b["attenuated_low"], 4, "up"),
+                                              _round_sig_toward(b["attenuated_high"], 4, "down")]
+    out["least attenuation (dB)"] = _round_down(b["attenuation_db"], 1)
     return out
 
 
@@ -552,7 +595,7 @@ def _is_number(value) -> bool:
 def _one_line(step) -> str:
     r = step.get("realized", {})
     cut = ", ".join([f"{hz:.3g}" for _, hz, _, _ in passband_edges(r)]
-                    + [f"{lo:.3g}-{hi:.3g}" for lo, hi, _ in removed_bands(r)])
+                    + [hz_range(lo, hi) for lo, hi, _ in removed_bands(r)])
     stopped = " INTERRUPTED, data partly filtered;" if step["application"].get("interrupted") else ""
     return (f"{step.get('time', '?')}{stopped} {r.get('kind', '?')} ({cut} Hz), "
             f"{_kernel_words(step)}, "
@@ -581,8 +624,8 @@ def _step_sentences(step) -> str:
     ]
     details = [f"passband ripple {r.get('passband_ripple_db', float('nan')):.2g} dB"]
     if np.isfinite(r.get("stopband_attenuation_db", float("nan"))):
-        details.append(f"at least {r['stopband_attenuation_db']:.0f} dB attenuation in every "
-                       "stop band")
+        details.append(f"at least {_round_down(r['stopband_attenuation_db'], 0):.0f} dB "
+                       "attenuation in every stop band over the range stated for it")
     details.append(f"a largest gain deviation from the request of {r.get('max_deviation', 0):.2g}")
     text.append("It had " + ", ".join(details) + ".")
     length = (
@@ -598,6 +641,138 @@ def _step_sentences(step) -> str:
     text.append(f"Each continuous segment was padded at both ends ({a.get('pad', 'reflect')} "
                 "mode of numpy.pad) by at least the kernel's half-length.")
     return " ".join(text)
+
+
+def _brief_sentences(step) -> str:
+    """One step in the two or three sentences a methods section has room for."""
+    r, d, a = step.get("realized", {}), step.get("design", {}), step.get("application", {})
+    if a.get("interrupted"):
+        return _step_sentences(step)
+    n = len(step.get("channels", []))
+    causal = bool(d.get("causal"))
+    direction = ("causal (minimum-phase, one pass, group delay "
+                 f"{1000 * r.get('group_delay', 0.0):.3g} ms)" if causal else
+                 "zero-phase (non-causal, no delay)")
+    if d.get("kernel") == "exact":
+        kernel = "the gain curve applied exactly on each record's frequency grid (no truncation)"
+    else:
+        kernel = (f"a {r.get('length', 0):.3g} s, {d.get('kernel_samples', 0):,}-sample kernel at "
+                  f"{d.get('sfreq', float('nan')):g} Hz, frequency-sampled from a gain curve")
+    kind = r.get("kind", "custom-shape").replace(" + ", " and ")
+    text = [f"A {direction} FIR {kind} filter ({kernel}) was applied to "
+            f"{n} channel{'s' if n != 1 else ''} by FFT of the {a.get('pad', 'reflect')}-padded data."]
+    figures = _brief_edges(r)
+    figures.append(f"passband ripple {r.get('passband_ripple_db', float('nan')):.2g} dB")
+    skirts = [b for b in r.get("stop_bands", []) if "edge" in b["kind"]]
+    if skirts and all("attenuated_low" in b for b in skirts):
+        figures.append("stop-band attenuation at least " + " and ".join(
+            f"{_round_down(b['attenuation_db'], 1):g} dB {held_words(b)}" for b in skirts))
+    elif skirts:
+        figures.append("; ".join(stop_band_words(b) for b in skirts))
+    text.append(_sentence(figures))
+    removed = [b for b in r.get("stop_bands", []) if "edge" not in b["kind"]]
+    if removed:
+        text.append(_brief_removed(removed, _found_in_data(step.get("curve", {}))))
+    if r.get("edge_timing"):
+        text.append(_brief_timing(r["edge_timing"]))
+    if isinstance(d.get("two_rates"), dict):
+        two = d["two_rates"]
+        text.append(f"Below {two['split_hz']:.3g} Hz it ran at a reduced rate of "
+                    f"{two['reduced_rate_hz']:.4g} Hz (aliasing at most {two['aliasing_bound']:.2g}).")
+    return " ".join(text)
+
+
+def _sentence(clauses) -> str:
+    """Clauses joined into one sentence, its first letter capitalised."""
+    text = "; ".join(c for c in clauses if c)
+    return text[:1].upper() + text[1:] + "."
+
+
+def _brief_edges(r) -> list:
+    """The pass band's cutoffs, with their definitions, and the roll-off, as clauses."""
+    edges = passband_edges(r)
+    if not edges:
+        return ["the realized gain did not cross 0.5 (no half-amplitude cutoff)"]
+    cut = " and ".join(f"{hz:.3g}" for _, hz, _, _ in edges)
+    half_power = [hp for _, _, hp, _ in edges if hp is not None]
+    hp = (f" (-3 dB: {' and '.join(f'{v:.3g}' for v in half_power)} Hz)"
+          if len(half_power) == len(edges) else "")
+    slopes = list(dict.fromkeys(f"{s:.3g}" for _, _, _, s in edges if s is not None))
+    plural = "s" if len(edges) > 1 else ""
+    out = [f"half-amplitude (-6 dB) cutoff{plural} {cut} Hz{hp}"]
+    if slopes:
+        out.append(f"roll-off {' and '.join(slopes)} dB/octave")
+    return out
+
+
+def _found_in_data(record) -> bool:
+    """Whether a curve record holds notches proposed from lines found in the data.
+
+    >>> _found_in_data({"curve": {"factors": [{"origin": {"found_by": "gainshape.find_lines"}}]}})
+    True
+    """
+    if isinstance(record, dict):
+        if isinstance(record.get("origin"), dict) and "found_by" in record["origin"]:
+            return True
+        return any(_found_in_data(v) for v in record.values())
+    return isinstance(record, list) and any(_found_in_data(v) for v in record)
+
+
+def _brief_removed(bands, found: bool = False) -> str:
+    """Notches and band-stops in one sentence: where, how wide, the least attenuation;
+    ``found``: the notches were proposed from lines found in the data."""
+    notches = [b for b in bands if "notch" in b["kind"]]
+    stops = [b for b in bands if "notch" not in b["kind"]]
+    parts = []
+    if notches:
+        centres = [hz_words(notch_centre(b), 4) for b in notches]
+        widths = [b["high"] - b["low"] for b in notches]
+        width = (f"{min(widths):.2g} Hz" if f"{min(widths):.2g}" == f"{max(widths):.2g}" else
+                 f"{min(widths):.2g}-{max(widths):.2g} Hz")
+        least = min(b["attenuation_db"] for b in notches)
+        parts.append(f"notch{'es' if len(notches) > 1 else ''} at {_listed(centres)} Hz"
+                     f"{' (lines found in the data)' if found else ''} "
+                     f"(-6 dB width {width}) at least {_round_down(least, 1):g} dB down"
+                     + _held_words(notches))
+    for b in stops:
+        parts.append(stop_band_words(b).replace(" (half amplitude):", " (-6 dB),"))
+    return _sentence(parts)
+
+
+def _held_words(notches) -> str:
+    """Over how much of each notch its least attenuation holds (the narrowest)."""
+    if not all("attenuated_low" in b for b in notches):
+        return " at their deepest"
+    # around each centre as printed, so that the stated range lies inside every notch's own
+    half = min(min(c - b["attenuated_low"], b["attenuated_high"] - c)
+               for b in notches for c in [float(hz_words(notch_centre(b), 4))])
+    return f" within \u00b1{hz_words(half, 2, 'down')} Hz"
+
+
+def _listed(items) -> str:
+    """'a', 'a and b', 'a, b and c'."""
+    return items[0] if len(items) == 1 else ", ".join(items[:-1]) + " and " + items[-1]
+
+
+def _brief_timing(timings) -> str:
+    """The pass-band edges' time behaviour in one sentence."""
+    parts = []
+    for t in timings:
+        if t["edge"] == "high-pass":
+            if "undershoot_pct" in t:
+                under = ("showed no undershoot" if t["undershoot_pct"] < 0.01 else
+                         f"undershot by {t['undershoot_pct']:.2g} %")
+            else:
+                under = f"had an opposite-polarity excursion of {t['opposite_pct']:.3g} %"
+            parts.append(f"the high-pass step response {under} and settled to 1 % in "
+                         f"{_seconds(t['settling_s'])}")
+        else:
+            parts.append(f"low-pass step overshoot was {t['overshoot_pct']:.2g} %")
+    return _sentence(parts)
+
+
+def _seconds(seconds: float) -> str:
+    return f"{seconds * 1000:.3g} ms" if seconds < 1 else f"{seconds:.3g} s"
 
 
 def _two_rates_sentence(r) -> str:
@@ -660,3 +835,23 @@ def _round_sig(value, digits):
 
 def _rounded(values, digits):
     return [_round_sig(v, digits) for v in values]
+
+
+def _round_down(value, decimals):
+    """An attenuation rounded down (so the stated figure still holds).
+
+    >>> _round_down(35.498, 1), _round_down(None, 1)
+    (35.4, 'n/a')
+    """
+    if value is None or not np.isfinite(value):
+        return "n/a"
+    return float(np.floor(value * 10**decimals) / 10**decimals)
+
+
+def _round_sig_toward(value, digits, rounding):
+    """``value`` to ``digits`` significant digits, rounded "up" or "down".
+
+    >>> _round_sig_toward(235.965, 4, "up"), _round_sig_toward(0.0041166, 4, "down")
+    (236.0, 0.004116)
+    """
+    return float(hz_words(value, digits, rounding))

@@ -346,7 +346,8 @@ def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool
                     raw.load_data(verbose=False)
                 filtered = _write_filtered(raw, content, source, fingerprint, output)
                 pair = (raw, filtered) if raw.preload else None
-            text = methods_text(pair[1] if pair else mne.io.read_raw_fif(output, verbose=False))
+            described = pair[1] if pair else mne.io.read_raw_fif(output, verbose=False)
+            text = (methods_text(described), methods_text(described, detail="full"))
             if limits["summary"]:
                 change = band_change(*pair) if pair else _band_change_by_groups(
                     source, output, limits["in_memory_bytes"])
@@ -420,23 +421,29 @@ def _study_band_change(results, found, out_dir: Path):
 
 
 def _study_methods(table, texts, out_dir: Path) -> str:
-    """The study's methods paragraph: each realized filter once, with the
-    recordings it served (``texts``: each recording's paragraph, None if it failed)."""
+    """The study's methods paragraph, brief (``methods.txt``, returned) and
+    full (``methods_full.txt``): each realized filter once, with the
+    recordings it served (``texts``: each recording's (brief, full)
+    paragraphs, None if it failed)."""
     done = table[table["status"] != "failed"]
-    by_text = {}
-    for source, text in zip(table["source"], texts):
-        if text is not None:
-            by_text.setdefault(text, []).append(Path(source).name)
     failed = [Path(s).name for s in table.loc[table["status"] == "failed", "source"]]
-    parts = [f"One filter recipe was applied to {len(done)} of the {len(table)} recordings"
-             + (f"; {len(failed)} could not be filtered ({', '.join(failed)})." if failed else ".")]
-    for text, names in by_text.items():
-        parts.append(f"For {len(names)} recording{'s' if len(names) > 1 else ''} "
-                     f"({', '.join(names)}): {text}")
-    paragraph = " ".join(parts)
+    opening = (f"One filter recipe was applied to {len(done)} of the {len(table)} recordings"
+               + (f"; {len(failed)} could not be filtered ({', '.join(failed)})." if failed else "."))
+    paragraphs = []
+    for form in (0, 1):
+        by_text = {}
+        for source, text in zip(table["source"], texts):
+            if text is not None:
+                by_text.setdefault(text[form], []).append(Path(source).name)
+        paragraphs.append(" ".join([opening] + [
+            f"For {len(names)} recording{'s' if len(names) > 1 else ''} ({', '.join(names)}): {text}"
+            for text, names in by_text.items()]))
     with atomic_output(out_dir / "methods.txt") as staged:
-        staged.write_text(paragraph + "\n", encoding="utf-8")
-    return paragraph
+        staged.write_text(paragraphs[0] + "\n\n(Every stop band and edge of each filter: "
+                          "methods_full.txt.)\n", encoding="utf-8")
+    with atomic_output(out_dir / "methods_full.txt") as staged:
+        staged.write_text(paragraphs[1] + "\n", encoding="utf-8")
+    return paragraphs[0]
 
 
 def _up_to_date(output: Path, content: dict, fingerprint: str) -> bool:
@@ -531,7 +538,9 @@ def _write_report(table, filter_figure, out_dir: Path) -> None:
         report.add_html(_figure_html(_png(figure), "Median over channels of the power change "
                                      "(dB)."), title="What changed, by recording and band")
         plt.close(figure)
-    report.add_html(f"<p>{html.escape(table.attrs['methods'])}</p>", title="Methods")
+    report.add_html(f"<p>{html.escape(table.attrs['methods'])}</p><p><i>Every stop band and "
+                    "edge of each filter: methods_full.txt beside this report.</i></p>",
+                    title="Methods")
     shown = table.assign(source=[Path(s).name for s in table["source"]],
                          output=[Path(o).name if o is not None else "" for o in table["output"]])
     shown = shown.drop(columns=["warnings"] + [e for e in _ENTITIES if shown[e].isna().all()])

@@ -37,7 +37,10 @@ def test_edge_timing_matches_sosfiltfilt(order, btype, cutoff):
     if btype == "highpass":
         settling = t[np.flatnonzero((t >= 0) & (np.abs(step) > 0.01))[-1]]
         assert timing.settling_s == pytest.approx(settling, rel=0.05)
-        assert timing.opposite_pct == pytest.approx(-100 * step.min(), rel=0.05)
+        # the pre-response is everything before the step, the undershoot what follows it
+        assert timing.pre_response_pct == pytest.approx(100 * np.abs(step[t < 0]).max(), rel=0.01)
+        assert timing.undershoot_pct == pytest.approx(max(0.0, -100 * step[t >= 0].min()),
+                                                      rel=0.05, abs=0.01)
     else:
         envelope = np.abs(impulse) / np.abs(impulse).max()
         decay = t[np.flatnonzero((t >= 0) & (envelope >= 0.01))[-1]]
@@ -106,10 +109,27 @@ def test_notch_comb_inside_the_low_pass_stop_band_is_listed_everywhere():
 
     raw = mne.io.RawArray(x * 1e-6, mne.create_info(["Cz", "Pz"], 1000.0, "eeg"), verbose=False)
     out = gs.apply(raw, f)
-    entry = list(gs.bids_filters(out).values())[0]["stop bands (Hz, Hz, attenuation dB, kind)"]
-    assert sum("notch" in row[3] for row in entry) == 5
-    text = gs.methods_text(out)
-    assert all(f"{round(b.low, 1):.4g}" in text or f"{b.low:.4g}" in text for b in notches)
+    entry = list(gs.bids_filters(out).values())[0]["stop bands"]
+    rows = [row for row in entry if "notch" in row["kind"]]
+    assert len(rows) == 5
+    for row, band in zip(rows, notches):  # rounded inward: the stated range lies inside the band's
+        lo, hi = row["attenuation holds over (Hz)"]
+        assert band.attenuated_low <= lo < hi <= band.attenuated_high
+        assert band.attenuated_high - band.attenuated_low - (hi - lo) < 0.01 * hi
+        assert band.attenuation_db - 0.1 < row["least attenuation (dB)"] <= band.attenuation_db
+    full, brief = gs.methods_text(out, detail="full"), gs.methods_text(out)
+    assert all(f"notch at {round((b.attenuated_low + b.attenuated_high) / 2):d} Hz" in full
+               for b in notches)
+    assert "Notches at 50, 100, 150, 200 and 250 Hz" in brief
+    import re
+
+    db, half = map(float, re.search(r"at least ([0-9.]+) dB down within \u00b1([0-9.]+) Hz",
+                                    brief).groups())
+    assert db <= min(b.attenuation_db for b in notches)
+    for centre, band in zip((50, 100, 150, 200, 250), notches):  # the stated range, in every notch
+        assert band.attenuated_low <= centre - half and centre + half <= band.attenuated_high
+        _, h = freqz(f.kernel, worN=np.linspace(centre - half, centre + half, 2001), fs=f.sfreq)
+        assert 20 * np.log10(np.abs(h).max()) <= -db + 0.01  # scipy.signal.freqz of the kernel
 
 
 def _crossing(f, level, lo, hi):
@@ -137,15 +157,30 @@ def test_bids_and_methods_figures_equal_the_characteristics_and_a_measurement(ma
     assert entry["kernel length (s)"] == pytest.approx(f.kernel.size / f.sfreq, rel=1e-3)
     [hp, lp] = c.edge_timing
     assert entry["high-pass step settling time to 1 % (s)"] == pytest.approx(hp.settling_s, rel=1e-2)
+    # NumPy: the cumulative sum of the high-pass edge's own kernel is its step
+    # response (t = 0 at the offset); the edge is timed alone, as this kernel is
+    hp_only = gs.design(gs.highpass(0.5, rolloff=24.0), raw.info["sfreq"])
+    hp_step = np.cumsum(hp_only.kernel)
+    assert entry["high-pass step undershoot after the step (% of step)"] == pytest.approx(
+        -100 * hp_step[hp_only.times >= 0].min(), rel=0.05)
+    assert entry["high-pass pre-response before the step (% of step)"] == pytest.approx(
+        100 * np.abs(hp_step[hp_only.times < 0]).max(), rel=0.02)
+    assert entry["high-pass time of deepest undershoot (s after the step)"] == pytest.approx(
+        hp_only.times[hp_only.times >= 0][np.argmin(hp_step[hp_only.times >= 0])], rel=0.05)
     assert entry["low-pass step overshoot (%)"] == pytest.approx(lp.overshoot_pct, rel=1e-2)
-    assert entry["stopband attenuation (dB)"] == pytest.approx(c.stopband_attenuation_db, rel=1e-2)
+    least = entry["least stop-band attenuation, over each band's stated range (dB)"]
+    assert c.stopband_attenuation_db - 0.1 < least <= c.stopband_attenuation_db  # rounded down
     assert entry["passband ripple (dB)"] == pytest.approx(c.passband_ripple_db, rel=1e-2)
     text = gs.methods_text(out)
-    assert f"cutoff {high:.3g} Hz" in text and f"cutoff {low:.3g} Hz" in text
-    assert f"roll-off {c.rolloff[-1]:.1f} dB/octave" in text
-    assert f"after {hp.settling_s:.3g} s" in text and f"overshoot {lp.overshoot_pct:.1f} %" in text
+    assert f"cutoffs {high:.3g} and {low:.3g} Hz" in text
+    assert f"roll-off {c.rolloff[0]:.3g} and {c.rolloff[-1]:.3g} dB/octave" in text
+    assert f"in {hp.settling_s:.3g} s" in text and f"overshoot was {lp.overshoot_pct:.2g} %" in text
     assert f"passband ripple {c.passband_ripple_db:.2g} dB" in text
-    assert f"at least {c.stopband_attenuation_db:.0f} dB attenuation" in text
+    assert f"(-3 dB: {_crossing(f, 1 / np.sqrt(2), 0.3, 1.0):.3g} and " \
+           f"{_crossing(f, 1 / np.sqrt(2), 20.0, 30.0):.3g} Hz)" in text
+    full = gs.methods_text(out, detail="full")
+    assert f"at least {np.floor(c.stopband_attenuation_db):.0f} dB attenuation" in full
+    assert f"after {hp.settling_s:.3g} s" in full and f"overshoot {lp.overshoot_pct:.1f} %" in full
 
 
 def test_history_table_roll_off_equals_the_characteristics(make_raw):
@@ -230,6 +265,44 @@ def test_minimum_phase_band_pass_edges_time_like_each_edge_alone(low, high, roll
         if edge.edge == "high-pass":
             late = np.flatnonzero(np.abs(step - step[-1]) > 0.01)
             assert edge.settling_s == pytest.approx(late[-1] / sfreq, rel=0.05)
-            assert edge.opposite_pct == pytest.approx(-100 * step.min(), abs=1.0)
+            assert edge.undershoot_pct == pytest.approx(-100 * step.min(), abs=1.0)
+            assert edge.pre_response_pct is None and edge.pre_response_s is None
+            assert edge.undershoot_s == pytest.approx(np.argmin(step) / sfreq, abs=0.05)
         else:
             assert edge.overshoot_pct == pytest.approx(100 * (step.max() - step[-1]), abs=0.2)
+
+
+def test_first_order_high_pass_forwards_and_backwards_matches_its_closed_form():
+    # a first-order high-pass run forwards and backwards has the gain
+    # f^2 / (f^2 + fc^2) and the step response -exp(a t) / 2 before the step and
+    # exp(-a t) / 2 after it (a = 2 pi fc): half the step before it, no
+    # undershoot, 1 % reached ln(50) / a either side (the squared-magnitude
+    # Butterworth case of scipy.signal.filtfilt's documentation; any DSP handbook)
+    # sampled, the kernel's sample at t = 0 holds a / (2 sfreq) of the step (about
+    # 0.3 % at 1000 Hz), so the pre-response is 50 % minus half of that
+    fc, sfreq = 1.0, 1000.0
+    curve = gs.GainCurve(lambda f: f**2 / (f**2 + fc**2))
+    [timing] = gs.design(curve, sfreq, kernel="exact").characteristics.edge_timing
+    a = 2 * np.pi * fc
+    assert timing.pre_response_pct == pytest.approx(50.0 * (1 - a / (2 * sfreq)), abs=0.05)
+    assert timing.pre_response_s == pytest.approx(np.log(50) / a, rel=0.02)
+    assert timing.settling_s == pytest.approx(np.log(50) / a, rel=0.02)
+    assert timing.undershoot_pct < 0.01 and timing.undershoot_s is None
+
+
+@pytest.mark.parametrize("causal", [False, True], ids=["zero phase", "causal"])
+def test_step_figures_equal_numpy_cumsum_of_the_kernel(causal):
+    # NumPy: the step response is the kernel's cumulative sum; t = 0 at the offset
+    f = gs.design(gs.highpass(1.0, rolloff=24.0), SFREQ, causal=causal)
+    [timing] = f.characteristics.edge_timing
+    step = np.cumsum(f.kernel)
+    t = f.times
+    after = step[t >= 0]
+    assert timing.undershoot_pct == pytest.approx(-100 * after.min(), rel=0.01)
+    assert timing.undershoot_s == pytest.approx(t[t >= 0][np.argmin(after)], abs=2 / SFREQ)
+    if causal:
+        assert timing.pre_response_pct is None
+    else:
+        assert timing.pre_response_pct == pytest.approx(100 * np.abs(step[t < 0]).max(), rel=0.01)
+        early = t[(t < 0) & (np.abs(step) > 0.01)]
+        assert timing.pre_response_s == pytest.approx(-early[0], abs=2 / SFREQ)
