@@ -59,7 +59,7 @@ def test_the_comb_notches_each_line_and_says_why():
     assert curve.reasons[0].startswith(
         f"notch at 50.00 Hz, 0.5 Hz wide: a line {float(first.height_db):.1f} dB above the "
         f"background, {float(first.width):.2g} Hz wide, in 4 of 4 channels")
-    assert curve.reasons[1].endswith("harmonic of 50.00 Hz")
+    assert curve.reasons[1].endswith("harmonic 2 of mains")
     assert "harmonic" not in curve.reasons[2]  # 131.3 Hz is nobody's harmonic
     assert curve.reasons[3] == "info['line_freq'] is missing; the data show mains at 50.00 Hz"
     assert gs.GainCurve.from_dict(json.loads(json.dumps(curve.to_dict()))) == curve

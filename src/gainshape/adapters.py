@@ -538,6 +538,52 @@ def _rows_and_segments(inst, kind, idx, data, with_segments=True):
     return idx, _raw_segments(inst) if with_segments else None
 
 
+def event_onsets(inst, events, sfreq: float):
+    """Stimulus onsets in seconds: from ``events`` (an MNE events array with
+    samples in its first column, sample indices, or annotations), or, when
+    ``events`` is None, from ``inst`` (an Epochs' events; a Raw's
+    annotations other than bad and edge spans, else its stim channels);
+    None when there are none or ``events`` is False.
+
+    >>> event_onsets(None, np.array([[250, 0, 1], [500, 0, 1]]), 250.0)
+    array([1., 2.])
+    """
+    import mne
+
+    if events is False:
+        return None
+    if events is None:
+        events = _events_of(inst)
+    if events is None:
+        return None
+    if isinstance(events, mne.Annotations):
+        return np.asarray(events.onset, dtype=float)
+    array = np.asarray(events)
+    if array.ndim not in (1, 2) or array.size == 0 or not np.issubdtype(array.dtype, np.number):
+        raise ValueError("The 'events' parameter takes an MNE events array (samples in the "
+                         "first column), annotations, None or False; an array of shape "
+                         f"{array.shape} was given.")
+    return (array[:, 0] if array.ndim == 2 else array).astype(float) / sfreq
+
+
+def _events_of(inst):
+    """The onsets an MNE object carries (see :func:`event_onsets`)."""
+    import mne
+
+    if isinstance(inst, mne.BaseEpochs):
+        return inst.events
+    if not isinstance(inst, mne.io.BaseRaw):
+        return None
+    kept = [i for i, d in enumerate(inst.annotations.description)
+            if not d.lower().startswith(("bad", "edge"))]
+    if kept:
+        return inst.annotations[kept]
+    if "stim" in inst.get_channel_types():
+        found = mne.find_events(inst, shortest_event=1, verbose=False)
+        return (found[:, 0] - inst.first_samp) if found.size else None
+    return None
+
+
 def clean_spans(inst):
     """For a Raw, the runs of samples (start, stop) that no annotation whose
     description starts with "bad" covers (as MNE leaves them out of

@@ -654,6 +654,25 @@ def _complement_func(a):
     return lambda f: np.maximum(1.0 - np.asarray(a(f), float), 0.0)
 
 
+def requested_notches(recipe: dict | None) -> list[float]:
+    """The notch frequencies (Hz) a curve's recipe asks for: each ``notch``
+    and its harmonics, each ``comb`` tooth, through products.
+
+    >>> requested_notches({"kind": "product", "factors": [{"kind": "bandpass"},
+    ...     {"kind": "notch", "freq": 50.0, "harmonics": 2}, {"kind": "comb", "freqs": [31.7]}]})
+    [50.0, 100.0, 31.7]
+    """
+    recipe = recipe or {}
+    kind = recipe.get("kind")
+    if kind == "notch":
+        return [recipe["freq"] * k for k in range(1, int(recipe.get("harmonics", 1)) + 1)]
+    if kind == "comb":
+        return [float(f) for f in recipe["freqs"]]
+    if kind == "product":
+        return [f for factor in recipe["factors"] for f in requested_notches(factor)]
+    return []
+
+
 # -- recipes --------------------------------------------------------------------
 def _dump(recipe: dict) -> str:
     return json.dumps(recipe)

@@ -16,6 +16,7 @@ import numpy as np
 import scipy.fft as sfft
 from scipy.optimize import brentq, minimize_scalar
 
+from .curves import requested_notches
 from .realize import _cepstral_minimum_phase
 
 __all__ = ["Characteristics", "EdgeFrequency", "EdgeTiming", "StopBand", "characterize", "passband_edges",
@@ -262,7 +263,8 @@ def characterize(curve, response, tol, exact, grid_deviation=None) -> Characteri
         in_low = slice(1, 1 + low.size)
         deviation = max(grid_deviation, float(np.max(np.abs(signed_all[in_low] - requested_all[in_low]))))
     return Characteristics(
-        kind=_kind(half_amp, realized[0], realized[-1], len(nulls[0])),
+        kind=_kind(half_amp, realized[0], realized[-1], len(nulls[0]),
+                   requested_notches(getattr(curve, "recipe", None))),
         half_amplitude=half_amp,
         half_power=half_pow,
         rolloff=rolloffs,
@@ -576,12 +578,13 @@ def _stop_bands(freqs, realized, requested, edges, nulls, tol, curve, response) 
     ``response(freqs)`` is the exact realized gain, for a finer look."""
     bounds = [0.0] + [float(e) for e in edges] + [float(freqs[-1])]
     below = [realized[0] < 0.5] + [e.direction == "falling" for e in edges]
+    notched = requested_notches(getattr(curve, "recipe", None))
     bands = []
     for i, (a, b) in enumerate(zip(bounds[:-1], bounds[1:])):
         if not below[i] or b <= a:
             continue
         kind = ("below the high-pass edge" if i == 0 else "above the low-pass edge"
-                if i == len(edges) else "notch" if (b - a) <= 0.1 * (a + b) / 2 else "band-stop")
+                if i == len(edges) else _inner_kind(a, b, notched))
         bands.append((a, b, kind))
     for i, beside in zip(*nulls):  # notches inside wider stop bands, limited at half the gain beside
         level = 0.5 * beside
@@ -609,6 +612,19 @@ def _stop_bands(freqs, realized, requested, edges, nulls, tol, curve, response) 
         low, high, top = _attenuated_range(freqs, realized, (a, b), where, top, response)
         out.append(StopBand(a, b, -20 * float(np.log10(max(top, 1e-300))), kind, low, high))
     return tuple(out)
+
+
+def _inner_kind(low: float, high: float, notched) -> str:
+    """A stop band between a falling and a rising edge: a "notch" when the
+    request asked for one there (whatever its width) or when it is narrow
+    (at most a tenth of its centre), else a "band-stop".
+
+    >>> _inner_kind(2.75, 3.25, [3.0]), _inner_kind(2.75, 3.25, []), _inner_kind(49.0, 51.0, [])
+    ('notch', 'band-stop', 'notch')
+    """
+    if any(low < f < high for f in notched):
+        return "notch"
+    return "notch" if (high - low) <= 0.1 * (low + high) / 2 else "band-stop"
 
 
 def _attenuated_range(freqs, realized, band, floor, top, response) -> tuple[float, float, float]:
@@ -816,7 +832,7 @@ def _timing_of(name, cutoff, times, impulse, causal) -> EdgeTiming:
     return EdgeTiming(name, cutoff, decay_s=decay, overshoot_pct=float(max(0.0, step.max() - final) * 100))
 
 
-def _kind(edges, gain_dc, gain_nyq, hidden_notches=0) -> str:
+def _kind(edges, gain_dc, gain_nyq, hidden_notches=0, notched=()) -> str:
     """Name the realized shape from its half-amplitude edges and hidden nulls."""
     if not edges:
         return "notch" if hidden_notches else "custom"
@@ -832,9 +848,7 @@ def _kind(edges, gain_dc, gain_nyq, hidden_notches=0) -> str:
         parts = ["band-pass"]
     if len(inner) % 2 or any(e.direction != d for e, d in zip(inner, ["falling", "rising"] * len(inner))):
         return "custom"
-    stops = []
-    for a, b in zip(inner[::2], inner[1::2]):
-        stops.append("notch" if (b - a) <= 0.1 * (a + b) / 2 else "band-stop")
+    stops = [_inner_kind(float(a), float(b), notched) for a, b in zip(inner[::2], inner[1::2])]
     if hidden_notches:
         stops.append("notch")
     for kind in ("band-stop", "notch"):

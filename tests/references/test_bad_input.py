@@ -44,6 +44,11 @@ def _lazy_raw(make_raw):
 
 # (id, builds the input, calls with the input, exception type, message fragment)
 CASES = [
+    ("find_lines events of text", lambda mk: np.random.default_rng(0).standard_normal((2, 5000)),
+     lambda a: gs.find_lines(a, sfreq=250.0, events=np.array(["a", "b"])), ValueError,
+     "The 'events' parameter takes an MNE events array"),
+    ("methods_text detail unknown", lambda mk: mk(),
+     lambda a: gs.methods_text(a, detail="long"), ValueError, "'long' is not a choice for 'detail'"),
     ("negative gain", lambda mk: [[1.0, 2.0], [0.5, -0.1]],
      lambda a: GainCurve.from_points(*a), ValueError, r"'gains'.*>= 0"),
     ("nan gain", lambda mk: [[1.0, 2.0], [0.5, np.nan]],
