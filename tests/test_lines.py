@@ -82,7 +82,7 @@ def test_the_filter_record_says_the_notches_came_from_detection():
     assert origin["found_by"] == "gainshape.find_lines"
     assert origin["settings"]["min_height_db"] == 5.0 and origin["settings"]["resolution"] == 0.1
     assert "found in the data" in gs.methods_text(filtered, detail="full")
-    assert "(lines found in the data)" in gs.methods_text(filtered)
+    assert "(lines found in the data; -6 dB width" in gs.methods_text(filtered)
 
 
 def test_band_change_takes_a_band_per_line_found():

@@ -131,3 +131,18 @@ def test_unloaded_raw_is_filtered_lazily(tmp_path, raw):
     assert out.info["highpass"] == pytest.approx(expected.info["highpass"])
     step = gs.history(out)[0]
     assert step["application"]["lazy"] is True and step["fingerprint_after"] is None
+
+
+def test_a_lazily_filtered_raw_pickles_with_its_data_and_history(tmp_path):
+    import pickle
+
+    import mne
+
+    data = np.random.default_rng(0).standard_normal((3, 5000)) * 1e-6
+    raw = mne.io.RawArray(data, mne.create_info(["Fz", "Cz", "Pz"], 250.0, "eeg"), verbose=False)
+    raw.save(tmp_path / "r_raw.fif", verbose=False)
+    lazy = gs.apply(mne.io.read_raw_fif(tmp_path / "r_raw.fif", preload=False, verbose=False),
+                    gs.lowpass(30.0))
+    back = pickle.loads(pickle.dumps(lazy))
+    np.testing.assert_array_equal(back.get_data(), lazy.get_data())
+    assert gs.history(back) == gs.history(lazy) and len(gs.history(back)) == 1

@@ -266,3 +266,12 @@ def test_export_keeps_the_record_beside_the_file(filtered, tmp_path):
         gs.export(out, tmp_path / "rec.vhdr")
     assert sorted(p.name for p in tmp_path.iterdir()) == [
         "rec.eeg", "rec.gainshape.json", "rec.vhdr", "rec.vmrk"]
+
+
+def test_replay_of_a_step_without_pad_gets_the_damaged_step_message():
+    x = np.random.default_rng(0).standard_normal((2, 2000))
+    _, step = gs.apply(x, gs.lowpass(20.0), sfreq=250.0, return_step=True)
+    del step["application"]["pad"]
+    with pytest.warns(gs.GainshapeWarning, match="Skipped step 1 .*lacks the padding mode"):
+        out = gs.replay([step], x)
+    assert np.array_equal(out, x)  # nothing replayed, the input returned as it was

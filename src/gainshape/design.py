@@ -19,7 +19,7 @@ import scipy.fft as sfft
 
 from ._checks import check_bool, check_positive, warn
 from .curves import GainCurve
-from .measure import (Characteristics, characterize, hz_range, max_deviation, passband_edges,
+from .measure import (Characteristics, characterize, db_floor, hz_range, max_deviation, passband_edges,
                       removed_bands, stop_band_words, timing_words)
 from .rates import TwoRates, two_rates
 from .realize import (KernelResponse, _kernel_spectrum, _minimum_phase_spectrum, _Realizer,
@@ -358,7 +358,8 @@ class FilterDesign:  # numpydoc ignore=PR01
             ("roll-off", slopes or "none (no pass-band edge)"),
             *[("stop band", stop_band_words(b)) for b in realized["stop_bands"]],
             ("passband ripple", f"{c.passband_ripple_db:.3g} dB"),
-            ("stopband attenuation", f"{c.stopband_attenuation_db:.1f} dB (the least of any stop band)"),
+            ("stopband attenuation", f"{db_floor(c.stopband_attenuation_db)} dB (the least of any "
+                                     "stop band, over its stated range)"),
             ("largest gain deviation", f"{c.max_deviation:.2g} (tolerance {self.tolerance:g})"),
             *[("in time", timing_words(t)) for t in realized["edge_timing"]],
             ("phase response", self.phase_words),

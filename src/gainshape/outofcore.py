@@ -12,6 +12,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import numpy as np
+from mne.io import BaseRaw
 
 from ._compat import calibrate_into, unlocked
 from ._files import atomic_output
@@ -45,35 +46,37 @@ def check_request(filt, kernel, pad, nan, copy):
             )
 
 
+class FilteredRaw(BaseRaw):
+    """A Raw whose samples are filtered as they are read (see :func:`filtered_raw`);
+    defined at module level so that it pickles like any Raw."""
+
+    def save(self, fname, *args, **kwargs):
+        """MNE's ``Raw.save``, written whole or not at all (see ``_files``)."""
+        fname = Path(fname)
+        if fname.exists() and not kwargs.get("overwrite", False):
+            raise FileExistsError(
+                f"{fname} exists; pass overwrite=True to replace it (nothing was written)."
+            )
+        with atomic_output(fname) as staged:
+            written = super().save(staged, *args, **kwargs)
+        return None if written is None else [fname.parent / Path(p).name for p in written]
+
+    def _read_segment_file(self, data, idx, fi, start, stop, cals, mult):
+        reader = self._raw_extras[fi]["gainshape_reader"]
+        calibrate_into(data, reader.read(start, stop), idx, cals, mult)
+
+
 def filtered_raw(raw, filt, idx, pad, n_jobs, segments):
     """A Raw that filters channels ``idx`` of ``raw`` (not loaded) block by
     block as it is read; ``segments`` are the (start, stop) sample runs
     filtered independently (between discontinuities)."""
-    from mne.io import BaseRaw
-
     info = raw.info.copy()
     with unlocked(info):
         for ch in info["chs"]:  # the reader returns calibrated data already
             ch["cal"], ch["range"] = 1.0, 1.0
 
-    class _FilteredRaw(BaseRaw):
-        def save(self, fname, *args, **kwargs):
-            """MNE's ``Raw.save``, written whole or not at all (see ``_files``)."""
-            fname = Path(fname)
-            if fname.exists() and not kwargs.get("overwrite", False):
-                raise FileExistsError(
-                    f"{fname} exists; pass overwrite=True to replace it (nothing was written)."
-                )
-            with atomic_output(fname) as staged:
-                written = super().save(staged, *args, **kwargs)
-            return None if written is None else [fname.parent / Path(p).name for p in written]
-
-        def _read_segment_file(self, data, idx, fi, start, stop, cals, mult):
-            reader = self._raw_extras[fi]["gainshape_reader"]
-            calibrate_into(data, reader.read(start, stop), idx, cals, mult)
-
     reader = _BlockReader(raw, filt, idx, pad, n_jobs, segments)
-    out = _FilteredRaw(
+    out = FilteredRaw(
         info, preload=False, first_samps=(raw.first_samp,), last_samps=(raw.last_samp,),
         filenames=(None,), raw_extras=({"gainshape_reader": reader},),
         orig_format="double", dtype=np.float64, verbose=False,

@@ -561,6 +561,9 @@ def _step_problem(step) -> str | None:
         return "a realized figure or the sampling rate is not a number"
     if not isinstance(d.get("causal"), bool) or not all(isinstance(c, str) for c in step["channels"]):
         return "its 'causal' flag or channel names are of the wrong type"
+    a = step["application"]
+    if not isinstance(a.get("pad"), str) or not isinstance(a.get("nan"), str):
+        return "its application lacks the padding mode or the non-finite handling"
     return None
 
 
@@ -730,9 +733,8 @@ def _brief_removed(bands, found: bool = False) -> str:
         width = (f"{min(widths):.2g} Hz" if f"{min(widths):.2g}" == f"{max(widths):.2g}" else
                  f"{min(widths):.2g}-{max(widths):.2g} Hz")
         least = min(b["attenuation_db"] for b in notches)
-        parts.append(f"notch{'es' if len(notches) > 1 else ''} at {_listed(centres)} Hz"
-                     f"{' (lines found in the data)' if found else ''} "
-                     f"(-6 dB width {width}) at least {_round_down(least, 1):g} dB down"
+        parts.append(f"notch{'es' if len(notches) > 1 else ''} at {_listed(centres)} Hz "
+                     f"({'lines found in the data; ' if found else ''}-6 dB width {width}) at least {_round_down(least, 1):g} dB down"
                      + _held_words(notches))
     for b in stops:
         parts.append(stop_band_words(b).replace(" (half amplitude):", " (-6 dB),"))
