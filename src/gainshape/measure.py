@@ -525,15 +525,15 @@ def timing_words(timing: dict) -> str:
     head = f"{timing['edge']} edge ({timing['cutoff']:.3g} Hz): "
     if timing["edge"] != "high-pass":
         return (head + f"impulse response below 1 % of its peak after "
-                f"{_seconds_words(timing['decay_s'])}, step overshoot {timing['overshoot_pct']:.1f} %")
-    settle = f"within 1 % of its final value after {_seconds_words(timing['settling_s'])}"
+                f"{seconds_words(timing['decay_s'])}, step overshoot {timing['overshoot_pct']:.1f} %")
+    settle = f"within 1 % of its final value after {seconds_words(timing['settling_s'])}"
     if "undershoot_pct" not in timing:  # recorded before the two were told apart
         return (head + f"step response {settle}, largest opposite-polarity excursion "
                 f"{timing['opposite_pct']:.1f} % of the step (before and after it)")
     return head + f"{undershoot_words(timing)}, {settle}" + (
         "" if timing.get("pre_response_pct") is None else
         f"; before the step, a pre-response of {timing['pre_response_pct']:.3g} % of the step over "
-        f"{_seconds_words(timing['pre_response_s'])} (zero phase)")
+        f"{seconds_words(timing['pre_response_s'])} (zero phase)")
 
 
 def undershoot_words(timing: dict) -> str:
@@ -545,10 +545,15 @@ def undershoot_words(timing: dict) -> str:
     if timing["undershoot_pct"] < 0.01:
         return "no undershoot after the step (under 0.01 %)"
     return (f"step undershoot {timing['undershoot_pct']:.2g} % (deepest "
-            f"{_seconds_words(timing['undershoot_s'])} after the step)")
+            f"{seconds_words(timing['undershoot_s'])} after the step)")
 
 
-def _seconds_words(seconds: float) -> str:
+def seconds_words(seconds: float) -> str:
+    """Seconds in words: milliseconds below one second.
+
+    >>> seconds_words(0.028), seconds_words(4.1)
+    ('28 ms', '4.1 s')
+    """
     return f"{seconds * 1000:.3g} ms" if seconds < 1 else f"{seconds:.3g} s"
 
 

@@ -20,11 +20,11 @@ from pathlib import Path
 import numpy as np
 import xxhash
 
-from ._checks import warn
+from ._checks import check_option, warn
 from ._files import atomic_output
 from .design import phase_words
 from .measure import (held_words, hz_range, hz_words, notch_centre, passband_edges, removed_bands,
-                      stop_band_words, timing_words, undershoot_words)
+                      seconds_words, stop_band_words, timing_words)
 
 __all__ = [
     "History",
@@ -294,8 +294,6 @@ def methods_text(inst, detail: str = "brief") -> str:
     >>> gs.methods_text(filtered).startswith("Data were filtered with gainshape")
     True
     """
-    from ._checks import check_option
-
     detail = check_option("detail", detail, METHODS_DETAIL)
     steps = history(inst)
     if not steps:
@@ -767,14 +765,10 @@ def _brief_timing(timings) -> str:
             else:
                 under = f"had an opposite-polarity excursion of {t['opposite_pct']:.3g} %"
             parts.append(f"the high-pass step response {under} and settled to 1 % in "
-                         f"{_seconds(t['settling_s'])}")
+                         f"{seconds_words(t['settling_s'])}")
         else:
             parts.append(f"low-pass step overshoot was {t['overshoot_pct']:.2g} %")
     return _sentence(parts)
-
-
-def _seconds(seconds: float) -> str:
-    return f"{seconds * 1000:.3g} ms" if seconds < 1 else f"{seconds:.3g} s"
 
 
 def _two_rates_sentence(r) -> str:
