@@ -253,7 +253,8 @@ def characterize(curve, response, tol, exact, grid_deviation=None) -> Characteri
         ratio_db = 20 * np.log10(realized[passband] / requested_all[passband])
     ripple = float(np.max(np.abs(ratio_db))) if passband.any() else float("nan")
     nulls = _hidden_notches(freqs, realized, half_amp, tol)
-    stops = _stop_bands(freqs, realized, requested_all, half_amp, nulls, tol, curve, gain_fn)
+    notched = requested_notches(curve.recipe)
+    stops = _stop_bands(freqs, realized, requested_all, half_amp, nulls, tol, curve, gain_fn, notched)
     atten = min((b.attenuation_db for b in stops), default=float("nan"))
     timing = _edge_timing(response, signed, gain_at, exact, half_amp,
                           [(b.low, b.high) for b in stops if b.kind not in _SKIRTS])
@@ -264,7 +265,7 @@ def characterize(curve, response, tol, exact, grid_deviation=None) -> Characteri
         deviation = max(grid_deviation, float(np.max(np.abs(signed_all[in_low] - requested_all[in_low]))))
     return Characteristics(
         kind=_kind(half_amp, realized[0], realized[-1], len(nulls[0]),
-                   requested_notches(getattr(curve, "recipe", None))),
+                   notched),
         half_amplitude=half_amp,
         half_power=half_pow,
         rolloff=rolloffs,
@@ -577,13 +578,13 @@ def _hidden_notches(freqs, gain, edges, tol) -> tuple[np.ndarray, np.ndarray]:
     return nulls[~inside_pair], beside[~inside_pair]
 
 
-def _stop_bands(freqs, realized, requested, edges, nulls, tol, curve, response) -> tuple:
+def _stop_bands(freqs, realized, requested, edges, nulls, tol, curve, response, notched) -> tuple:
     """Every stop band (see :class:`StopBand`), in order of frequency;
-    ``nulls`` are :func:`_hidden_notches`' (indices, gain beside them) and
-    ``response(freqs)`` is the exact realized gain, for a finer look."""
+    ``nulls`` are :func:`_hidden_notches`' (indices, gain beside them),
+    ``response(freqs)`` is the exact realized gain, for a finer look, and
+    ``notched`` the notch frequencies the request asked for."""
     bounds = [0.0] + [float(e) for e in edges] + [float(freqs[-1])]
     below = [realized[0] < 0.5] + [e.direction == "falling" for e in edges]
-    notched = requested_notches(getattr(curve, "recipe", None))
     bands = []
     for i, (a, b) in enumerate(zip(bounds[:-1], bounds[1:])):
         if not below[i] or b <= a:
