@@ -22,8 +22,8 @@ def test_default_waveforms_and_components():
     assert list(ds.component.values) == ["step", "pulse", "erp early", "erp late"]
     assert list(ds.waveform.values) == ["step", "pulse", "erp"]
     assert ds.original.dims == ("waveform", "time")
-    for var in ("peak_change_pct", "latency_shift_ms", "onset_shift_ms", "opposite_before",
-                "opposite_before_pct", "opposite_after", "opposite_after_pct", "ringing_s"):
+    for var in ("peak_change_pct", "latency_shift_ms", "onset_shift_ms", "pre_response",
+                "pre_response_pct", "undershoot", "undershoot_pct", "ringing_s"):
         assert ds[var].dims == ("component",)
         assert "units" in ds[var].attrs
 
@@ -107,5 +107,5 @@ def test_ends_off_zero_are_levelled_and_said():
     shifted = gs.audit(gs.highpass(1.0), sfreq=SFREQ, waveform=peak + 1.2e-6)
     assert "straight line between them was removed" in shifted.attrs["notes"]
     assert "straight line" not in clean.attrs["notes"]
-    for key in ("opposite_before_pct", "opposite_after_pct", "peak_change_pct"):
+    for key in ("pre_response_pct", "undershoot_pct", "peak_change_pct"):
         assert float(shifted[key][0]) == pytest.approx(float(clean[key][0]), abs=1.0)

@@ -3,9 +3,9 @@
 Vocabulary: a *waveform* is a test signal (step, pulse, simulated ERP, or the
 user's); a *component* is one bump of it with a polarity; *onset* and
 *offset* are the first and last times a component reaches 10 % of its own
-peak; an *opposite deflection* is the largest excursion against the
-component's polarity that filtering adds (beyond any the original had)
-before its onset or after its offset.
+peak; its *pre-response* and *undershoot* are the largest excursions
+against the component's polarity that filtering adds (beyond any the
+original had) before its onset and after its offset.
 Because filtering is linear, each component of the simulated ERP is filtered
 on its own, so one component's artefacts are not mistaken for another's.
 """
@@ -56,8 +56,10 @@ def audit(filt, *, sfreq: float | None = None, waveform=None) -> xr.Dataset:
     -------
     xarray.Dataset
         Per ``component``: ``peak_change_pct``, ``latency_shift_ms``,
-        ``onset_shift_ms``, ``opposite_before``/``opposite_after`` (data
-        units) and ``_pct`` (of the peak), ``ringing_s`` (from the offset until
+        ``onset_shift_ms``, ``pre_response`` and ``undershoot`` (the
+        largest added excursion against the component's polarity before its
+        onset and after its offset, in data units; ``_pct`` of the peak,
+        ``_time_ms`` when), ``ringing_s`` (from the offset until
         ``|filtered - original|`` last exceeds 1 % of the peak); per ``waveform``
         and ``time``: ``original`` and ``filtered``; per ``component`` and
         ``time``: ``component_filtered`` (each component filtered alone).
@@ -103,11 +105,11 @@ def audit(filt, *, sfreq: float | None = None, waveform=None) -> xr.Dataset:
                "onset_level": _LEVEL, "ringing_level": _RING_LEVEL, "notes": " ".join(notes)},
     )
     for key, units in (("peak_change_pct", "%"), ("latency_shift_ms", "ms"),
-                       ("onset_shift_ms", "ms"), ("opposite_before", unit),
-                       ("opposite_after", unit), ("opposite_before_pct", "%"),
-                       ("opposite_after_pct", "%"), ("ringing_s", "s"), ("peak", unit),
-                       ("peak_latency_ms", "ms"), ("opposite_before_time_ms", "ms"),
-                       ("opposite_after_time_ms", "ms")):
+                       ("onset_shift_ms", "ms"), ("pre_response", unit),
+                       ("undershoot", unit), ("pre_response_pct", "%"),
+                       ("undershoot_pct", "%"), ("ringing_s", "s"), ("peak", unit),
+                       ("peak_latency_ms", "ms"), ("pre_response_time_ms", "ms"),
+                       ("undershoot_time_ms", "ms")):
         ds[key].attrs["units"] = units
     return ds
 
@@ -211,12 +213,12 @@ def _metrics(t, x, y, sfreq) -> dict:
         "peak_change_pct": 100 * (ys[j_peak] - peak) / peak,
         "latency_shift_ms": 1000 * (t[j_peak] - t[i_peak]),
         "onset_shift_ms": 1000 * (t[j_onset] - t[i_onset]),
-        "opposite_before": before,
-        "opposite_before_pct": 100 * before / peak,
-        "opposite_before_time_ms": 1000 * t[k_before] if k_before is not None else float("nan"),
-        "opposite_after": after,
-        "opposite_after_pct": 100 * after / peak,
-        "opposite_after_time_ms": 1000 * t[k_after] if k_after is not None else float("nan"),
+        "pre_response": before,
+        "pre_response_pct": 100 * before / peak,
+        "pre_response_time_ms": 1000 * t[k_before] if k_before is not None else float("nan"),
+        "undershoot": after,
+        "undershoot_pct": 100 * after / peak,
+        "undershoot_time_ms": 1000 * t[k_after] if k_after is not None else float("nan"),
         "ringing_s": float(t[error[-1]] - t[i_offset]) if error.size and error[-1] > i_offset else 0.0,
     }
 

@@ -115,7 +115,7 @@ def main(argv=None) -> int:
     _save_figure(plot_audit(waveforms, show=False), out / "waveform_audit.png")
     print("\nWaveform audit (test waveforms)")
     table = waveforms[["peak_change_pct", "latency_shift_ms", "onset_shift_ms",
-                       "opposite_before_pct", "opposite_after_pct", "ringing_s"]]
+                       "pre_response_pct", "undershoot_pct", "ringing_s"]]
     print(table.to_dataframe().drop(columns="component_waveform").round(2).to_string())
     print("\nMethods paragraph\n" + methods_text(filtered))
     print(f"\nWrote {fif}, band_change.nc and 7 figures to {out}/ in "

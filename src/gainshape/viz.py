@@ -497,13 +497,13 @@ def _mark_component(ax, t, alone, row):
     ax.plot([latency + float(row.latency_shift_ms) / 1000],
             [peak * (1 + float(row.peak_change_pct) / 100)],
             marker=marker, color="C0", linestyle="none")
-    for side in ("before", "after"):
-        pct, when = float(row[f"opposite_{side}_pct"]), float(row[f"opposite_{side}_time_ms"])
+    for name, words in (("pre_response", "before"), ("undershoot", "after")):
+        pct, when = float(row[f"{name}_pct"]), float(row[f"{name}_time_ms"])
         if not np.isfinite(pct) or pct < _LABEL_PCT:
             continue
         idx = int(np.argmin(np.abs(t - when / 1000)))
         ax.plot([t[idx]], [alone[idx]], marker="o", color="C3", linestyle="none")
-        ax.annotate(f"{pct:.0f}% {side}", (t[idx], alone[idx]), textcoords="offset points",
+        ax.annotate(f"{pct:.0f}% {words}", (t[idx], alone[idx]), textcoords="offset points",
                     xytext=(4, -10 * np.sign(peak)), fontsize="x-small", color="C3")
 
 

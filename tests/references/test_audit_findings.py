@@ -25,7 +25,7 @@ def _audit(curve, causal=False):
 
 def test_one_hz_high_pass_makes_larger_opposite_deflections_than_point_one():
     gentle, strong = _audit(gs.highpass(0.1)), _audit(gs.highpass(1.0))
-    for side in ("opposite_before_pct", "opposite_after_pct"):
+    for side in ("pre_response_pct", "undershoot_pct"):
         late_gentle = float(gentle[side].sel(component="erp late"))
         late_strong = float(strong[side].sel(component="erp late"))
         assert late_strong > 2 * late_gentle
@@ -38,7 +38,7 @@ def test_minimum_phase_low_pass_onsets_later_never_earlier(cutoff):
     shifts = ds.onset_shift_ms.values
     assert np.all(shifts >= 0.0)
     assert np.any(shifts > 0.0)
-    assert np.all(ds.opposite_before_pct.values < 1e-9)  # nothing before the input (FFT round-off)
+    assert np.all(ds.pre_response_pct.values < 1e-9)  # nothing before the input (FFT round-off)
 
 
 def test_zero_phase_keeps_peak_latency_of_symmetric_components():

@@ -214,7 +214,7 @@ def _check_audit_rows(ds, names):
         assert float(row.onset_shift_ms) == pytest.approx(
             1000 * (t[np.flatnonzero(y >= 0.1 * y[j])[0]] - t[onset]), abs=1e-9)
         added = np.maximum(-y, 0) - np.maximum(-x, 0)
-        assert float(row.opposite_after_pct) == pytest.approx(
+        assert float(row.undershoot_pct) == pytest.approx(
             100 * max(added[offset + 1 :].max(), 0) / x[i], abs=1e-9)
         late = np.flatnonzero(np.abs(y - x) > 0.01 * x[i])
         assert float(row.ringing_s) == pytest.approx(max(t[late[-1]] - t[offset], 0.0), abs=1e-9)
