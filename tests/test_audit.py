@@ -109,3 +109,12 @@ def test_ends_off_zero_are_levelled_and_said():
     assert "straight line" not in clean.attrs["notes"]
     for key in ("pre_response_pct", "undershoot_pct", "peak_change_pct"):
         assert float(shifted[key][0]) == pytest.approx(float(clean[key][0]), abs=1.0)
+
+
+def test_data_given_as_the_filter_points_to_waveform():
+    # common practice (no source): the data are passed by name, the filter first
+    info = mne.create_info(["Cz"], 500.0, "eeg")
+    evoked = mne.EvokedArray(np.zeros((1, 500)), info, tmin=-0.2)
+    for wrong in (evoked, np.zeros(500)):
+        with pytest.raises(TypeError, match=r"Pass it as waveform="):
+            gs.audit(wrong)

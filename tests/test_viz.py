@@ -141,3 +141,20 @@ def test_audit_markers_sit_on_the_waveform_peaks():
             k = int(np.argmin(np.abs(t - grey.get_xdata()[0])))
             assert grey.get_ydata()[0] == pytest.approx(original[k], rel=1e-9)
     plt.close(fig)
+
+
+def test_audit_of_an_evoked_in_volts_is_drawn_in_microvolts():
+    # MNE stores EEG in volts (MNE documentation, "units": SI units); ERPs are read in µV
+    import mne
+
+    t = np.arange(-0.2, 0.8, 1 / 250.0)
+    wave = 5e-6 * np.exp(-0.5 * ((t - 0.3) / 0.05) ** 2)
+    evoked = mne.EvokedArray(wave[None, :], mne.create_info(["Cz"], 250.0, "eeg"), tmin=-0.2)
+    ds = gs.audit(gs.lowpass(20.0), waveform=evoked)
+    fig = gs.plot_audit(ds, show=False)
+    ax = fig.axes[0]
+    assert ax.get_ylabel().endswith("(µV)")
+    np.testing.assert_allclose(_line(ax, "original").get_ydata(), 1e6 * ds.original.values[0])
+    peak_mark = [ln for ln in ax.get_lines() if ln.get_marker() in ("v", "^")][0]
+    assert peak_mark.get_ydata()[0] == pytest.approx(1e6 * float(ds.peak[0]), rel=1e-9)
+    plt.close(fig)

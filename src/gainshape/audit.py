@@ -115,6 +115,12 @@ def audit(filt, *, sfreq: float | None = None, waveform=None) -> xr.Dataset:
 
 
 def _design(filt, sfreq, waveform):
+    if isinstance(filt, np.ndarray) or hasattr(filt, "info"):
+        raise TypeError(
+            f"audit takes the filter first and a waveform by name; a {type(filt).__name__} "
+            "was given as the filter. Pass it as waveform=, e.g. "
+            "gs.audit(gs.highpass(0.1), waveform=evoked.copy().pick(['Cz']))."
+        )
     check_filter(filt)
     if isinstance(filt, FilterDesign):
         if sfreq is not None and check_positive("sfreq", sfreq) != filt.sfreq:

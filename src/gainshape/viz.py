@@ -464,23 +464,25 @@ def plot_audit(ds, *, tmin=-0.5, tmax=2.0, show=True):
     _check_result(ds, "ds", ("original", "filtered", "component_filtered"), "gs.audit(filt)")
     names = [str(w) for w in ds.waveform.values]
     t = ds.time.values
+    unit = ds.attrs.get("units", "")
+    scale, unit = (1e6, "µV") if unit == "V" else (1.0, unit)  # volts drawn in microvolts
     fig, axes = plt.subplots(len(names), 1, figsize=(9, 2.6 * len(names) + 0.5),
                              layout="constrained", squeeze=False)
     for ax, name in zip(axes[:, 0], names):
-        original = ds.original.sel(waveform=name).values
-        filtered = ds.filtered.sel(waveform=name).values
+        original = scale * ds.original.sel(waveform=name).values
+        filtered = scale * ds.filtered.sel(waveform=name).values
         ax.plot(t, original, color="0.45", linewidth=1.2, label="original")
         ax.plot(t, filtered, color="C0", linewidth=1.4, label="filtered")
         components = ds.component.values[ds.component_waveform.values == name]
         for comp in components:
-            alone = ds.component_filtered.sel(component=comp).values
+            alone = scale * ds.component_filtered.sel(component=comp).values
             if len(components) > 1:
                 ax.plot(t, alone, color="C0", linewidth=0.8, linestyle=":")
-            _mark_component(ax, t, alone, ds.sel(component=comp))
+            _mark_component(ax, t, alone, ds.sel(component=comp), scale)
         ax.axhline(0.0, color="0.6", linewidth=0.7)
         ax.axvline(0.0, color="0.6", linewidth=0.7)
         ax.set_xlim(max(tmin, t[0]), min(tmax, t[-1]))
-        ax.set_ylabel(f"{name} ({ds.attrs.get('units', '')})")
+        ax.set_ylabel(f"{name} ({unit})")
         ax.grid(True, alpha=0.3)
     axes[0, 0].legend(loc="best", fontsize="small")
     axes[-1, 0].set_xlabel("time (s)")
@@ -490,8 +492,8 @@ def plot_audit(ds, *, tmin=-0.5, tmax=2.0, show=True):
     return fig
 
 
-def _mark_component(ax, t, alone, row):
-    peak, latency = float(row.peak), float(row.peak_latency_ms) / 1000
+def _mark_component(ax, t, alone, row, scale):
+    peak, latency = scale * float(row.peak), float(row.peak_latency_ms) / 1000
     marker = "v" if peak > 0 else "^"
     ax.plot([latency], [peak], marker=marker, color="0.3", linestyle="none")
     ax.plot([latency + float(row.latency_shift_ms) / 1000],
