@@ -43,6 +43,7 @@ def test_each_output_equals_apply_on_its_recording_and_the_corrupt_file_is_repor
     table = gs.run_study(recipe, inputs, out, client=client, verbose=False)
     assert list(table["status"]) == ["filtered", "filtered", "filtered", "failed"]
     assert "broken_raw.fif" in table["error"].iloc[3] and table["output"].iloc[3] is None
+    assert list(table["error"].iloc[:3]) == ["", "", ""]  # no error: an empty string, not None/NaN
     for source, output in zip(inputs[:3], table["output"].iloc[:3]):
         # reference: gs.apply on the recording read whole, with the recipe's arguments
         expected = gs.apply(mne.io.read_raw_fif(source, preload=True), **gs.read_recipe(recipe))

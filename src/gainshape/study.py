@@ -15,6 +15,7 @@ from __future__ import annotations
 import contextlib
 import json
 import os
+import re
 import resource
 import shutil
 import sys
@@ -159,6 +160,8 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
             figure = None
     table = pd.DataFrame([[row[0], *entities, *row[1:]] for (row, _), (_, _, entities)
                           in zip(results, found)], columns=COLUMNS)
+    for column in ("error", "warnings"):  # no error, no warning: an empty string
+        table[column] = [text if isinstance(text, str) else "" for text in table[column]]
     table.attrs["band_change"] = _study_band_change(results, found, out_dir)
     table.attrs["methods"] = _study_methods(table, [extras["methods"] for _, extras in results],
                                             out_dir)
@@ -517,8 +520,20 @@ def _figure_html(png: bytes, caption: str) -> str:
             f"<figcaption>{html.escape(caption)}</figcaption></figure>")
 
 
-_TABLE_STYLE = ("<style>.gs-recordings td {white-space: nowrap} .gs-recordings td:last-child "
-                "{white-space: normal; overflow-wrap: anywhere}</style>")  # long errors wrap
+_REPORT_HEADERS = {"worker_peak_mb": "worker peak (MB)"}
+_TABLE_STYLE = "<style>.gs-recordings {width: 100%} .gs-recordings td {overflow-wrap: break-word}</style>"
+
+
+def _breakable(text) -> str:
+    """``text`` escaped for HTML, with break opportunities after ``_ - / . \\`` so
+    that long file names wrap inside the report's table (which then fits the page).
+
+    >>> _breakable("sub-01_eeg.fif")
+    'sub-<wbr>01_<wbr>eeg.<wbr>fif'
+    """
+    import html
+
+    return re.sub(r"([_/\\.-])", r"\1<wbr>", html.escape(str(text)))
 
 
 def _write_report(table, filter_figure, out_dir: Path) -> None:
@@ -532,26 +547,35 @@ def _write_report(table, filter_figure, out_dir: Path) -> None:
 
     report = mne.Report(title="gainshape study", verbose=False)
     if filter_figure is not None:
-        report.add_html(_figure_html(*filter_figure), title="The realized filter")
+        report.add_html(_figure_html(*filter_figure), title="The realized filter",
+                        tags=("filter",))
     if table.attrs.get("band_change") is not None:
         figure = plot_study_band_change(table.attrs["band_change"], show=False)
         report.add_html(_figure_html(_png(figure), "Median over channels of the power change "
-                                     "(dB)."), title="What changed, by recording and band")
+                                     "(dB)."), title="What changed, by recording and band",
+                        tags=("band-change",))
         plt.close(figure)
     report.add_html(f"<p>{html.escape(table.attrs['methods'])}</p><p><i>Every stop band and "
                     "edge of each filter: methods_full.txt beside this report.</i></p>",
-                    title="Methods")
-    shown = table.assign(source=[Path(s).name for s in table["source"]],
-                         output=[Path(o).name if o is not None else "" for o in table["output"]])
-    shown = shown.drop(columns=["warnings"] + [e for e in _ENTITIES if shown[e].isna().all()])
-    report.add_html(_TABLE_STYLE + shown.to_html(
-        index=False, na_rep="", float_format="{:.3g}".format, justify="left",
-        classes="table table-sm table-striped gs-recordings", border=0), title="Recordings")
-    said = [(Path(source).name, text) for source, text in zip(table["source"], table["warnings"])
-            if text]
-    if said:
-        report.add_html("<dl>" + "".join(
-            f"<dt>{html.escape(name)}</dt><dd>{html.escape(text).replace(chr(10), '<br>')}</dd>"
-            for name, text in said) + "</dl>", title="Warnings")
+                    title="Methods", tags=("methods",))
+    shown = table.assign(source=[Path(s).name for s in table["source"]])
+    shown = shown.drop(columns=["output", "error", "warnings"]
+                       + [e for e in _ENTITIES if shown[e].isna().all()])
+    text = {c: (_breakable if c == "source" else html.escape)
+            for c in shown.columns if shown[c].dtype == object}
+    report.add_html(_TABLE_STYLE + shown.rename(columns=_REPORT_HEADERS).to_html(
+        index=False, na_rep="", float_format="{:.3g}".format, justify="left", escape=False,
+        formatters={_REPORT_HEADERS.get(c, c): f for c, f in text.items()},
+        classes="table table-sm table-striped gs-recordings", border=0)
+        + "<p><i>The filtered files: the table's output column, and the derivatives "
+        "folder beside this report.</i></p>", title="Recordings", tags=("recordings",))
+    for column, title, tag in (("error", "Why recordings failed", "failures"),
+                               ("warnings", "Warnings", "warnings")):
+        said = [(Path(source).name, text) for source, text in zip(table["source"], table[column])
+                if text]
+        if said:
+            report.add_html("<dl>" + "".join(
+                f"<dt>{_breakable(name)}</dt><dd>{_breakable(text).replace(chr(10), '<br>')}</dd>"
+                for name, text in said) + "</dl>", title=title, tags=(tag,))
     with atomic_output(out_dir / "report.html") as staged:
         report.save(staged, open_browser=False, overwrite=True, verbose=False)
