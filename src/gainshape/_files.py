@@ -16,7 +16,7 @@ import tempfile
 from contextlib import contextmanager
 from pathlib import Path
 
-__all__ = ["atomic_output"]
+__all__ = ["atomic_output", "atomic_outputs"]
 
 
 @contextmanager
@@ -35,14 +35,45 @@ def atomic_output(final):
     >>> (folder / "notes.txt").read_text(), sorted(p.name for p in folder.iterdir())
     ('complete', ['notes.txt'])
     """
-    final = Path(final)
-    if not final.parent.is_dir():
-        raise FileNotFoundError(f"Cannot write {final.name}: the folder {final.parent} does not "
+    with atomic_outputs(final) as (staged,):
+        yield staged
+
+
+@contextmanager
+def atomic_outputs(*finals):
+    """Yield staged paths for several files of one folder, moved together.
+
+    Nothing reaches a final name unless the whole block succeeds; then the
+    files are moved in the order given (each move is atomic; a process
+    killed between two moves leaves the earlier ones new, so write the
+    file that vouches for the others, such as a sidecar, last).
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> folder = pathlib.Path(tempfile.mkdtemp())
+    >>> try:
+    ...     with atomic_outputs(folder / "data.bin", folder / "data.json") as (data, side):
+    ...         _ = data.write_bytes(b"1234")
+    ...         raise OSError("disk full while writing the sidecar")
+    ... except OSError:
+    ...     pass
+    >>> sorted(p.name for p in folder.iterdir())
+    []
+    """
+    finals = [Path(f) for f in finals]
+    folder = finals[0].parent
+    if any(f.parent != folder for f in finals):
+        raise ValueError("atomic_outputs writes files of one folder; "
+                         f"{', '.join(str(f) for f in finals)} are in several.")
+    if not folder.is_dir():
+        raise FileNotFoundError(f"Cannot write {finals[0].name}: the folder {folder} does not "
                                 "exist; create it first or choose another path.")
-    staging = Path(tempfile.mkdtemp(prefix=f".{final.name}.", suffix=".partial", dir=final.parent))
+    staging = Path(tempfile.mkdtemp(prefix=f".{finals[0].name}.", suffix=".partial", dir=folder))
     try:
-        yield staging / final.name
-        for part in sorted(staging.iterdir()):
-            os.replace(part, final.parent / part.name)
+        yield tuple(staging / f.name for f in finals)
+        order = {f.name: i for i, f in enumerate(finals)}
+        for part in sorted(staging.iterdir(), key=lambda p: order.get(p.name, -1)):  # splits first
+            os.replace(part, folder / part.name)
     finally:
         shutil.rmtree(staging, ignore_errors=True)

@@ -5,18 +5,22 @@
     gainshape history FILE
 
 Exit codes: 0 done; 1 some recordings failed (the others are done, the
-table says which); 2 bad usage or input (nothing was done).
+table says which); 2 bad usage or input, a missing extra, a file that
+cannot be read, or another run on the same output folder (nothing was
+done); 130 interrupted (Ctrl-C: the workers are stopped, nothing is
+half-written).
 """
 
 from __future__ import annotations
 
 import argparse
 import sys
+import warnings
 from pathlib import Path
 
 __all__ = ["main"]
 
-EXIT_DONE, EXIT_SOME_FAILED, EXIT_USAGE = 0, 1, 2
+EXIT_DONE, EXIT_SOME_FAILED, EXIT_USAGE, EXIT_INTERRUPTED = 0, 1, 2, 130
 
 
 def main(argv=None) -> int:
@@ -30,9 +34,15 @@ def main(argv=None) -> int:
     args = _parser().parse_args(argv)
     try:
         return args.command(args)
-    except (ValueError, FileNotFoundError, TypeError) as err:
+    except (ValueError, OSError, TypeError, ImportError) as err:
         print(f"gainshape {args.name}: {err}", file=sys.stderr)
         return EXIT_USAGE
+    except KeyboardInterrupt as err:
+        done = (f"{err.done} of {err.total} recordings done" if hasattr(err, "done")
+                else "no recording done")
+        print(f"gainshape {args.name}: interrupted: {done}, nothing half-written",
+              file=sys.stderr)
+        return EXIT_INTERRUPTED
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -55,6 +65,8 @@ def _parser() -> argparse.ArgumentParser:
         run.add_argument(f"--{entity}", action="append", help=f"only this {entity} of a BIDS "
                                                              "root (repeatable)")
     run.add_argument("--overwrite", action="store_true", help="redo recordings that are up to date")
+    run.add_argument("--allow-short", action="store_true",
+                     help="filter recordings shorter than their own files state (truncated)")
     run.add_argument("--quiet", action="store_true", help="no progress bar")
     run.set_defaults(command=_run, name="run")
     describe = commands.add_parser("describe", help="print the filter a recipe realizes at a rate")
@@ -76,31 +88,14 @@ def _run(args) -> int:
     recipe = read_recipe(args.recipe)  # a damaged recipe stops here, before a cluster starts
     inputs = args.inputs[0] if len(args.inputs) == 1 and Path(args.inputs[0]).is_dir() else args.inputs
     selection = {"subjects": args.subject, "sessions": args.session, "tasks": args.task}
-    with _client(args) as client:
-        table = run_study(recipe, inputs, args.out, client, overwrite=args.overwrite,
-                          verbose=not args.quiet, **selection)
+    table = run_study(recipe, inputs, args.out, args.scheduler, overwrite=args.overwrite,
+                      workers=args.workers, allow_short=args.allow_short,
+                      verbose=not args.quiet, **selection)
     print(table[["source", "status", "seconds", "error"]].to_string(index=False))
     for source, said in zip(table["source"], table["warnings"]):
         if said:
             print(f"\nWarnings for {Path(source).name}:\n  " + said.replace("\n", "\n  "))
     return EXIT_SOME_FAILED if (table["status"] == "failed").any() else EXIT_DONE
-
-
-def _client(args):
-    """A client for --scheduler or --workers; otherwise run_study's own local cluster."""
-    import contextlib
-
-    if args.scheduler:
-        import distributed
-
-        return distributed.Client(args.scheduler)
-    if args.workers:
-        import distributed
-
-        cluster = distributed.LocalCluster(n_workers=args.workers, threads_per_worker=1,
-                                           processes=True, dashboard_address=":0")
-        return distributed.Client(cluster)
-    return contextlib.nullcontext(None)
 
 
 def _describe(args) -> int:
@@ -118,7 +113,14 @@ def _history(args) -> int:
 
     from .provenance import history, methods_text
 
-    raw = mne.io.read_raw_fif(args.file, preload=False, verbose=False)
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # MNE's file-naming advice is not the point here
+            raw = mne.io.read_raw_fif(args.file, preload=False, verbose=False)
+    except Exception as err:  # one line, whatever the reader's complaint
+        raise ValueError(f"cannot read {args.file} as a FIF recording "
+                         f"({type(err).__name__}: {str(err).splitlines()[0] if str(err) else ''})"
+                         ) from None
     steps = history(raw)
     print(f"{len(steps)} step{'s' if len(steps) != 1 else ''} recorded in {args.file}")
     for number, step in enumerate(steps, start=1):

@@ -16,7 +16,6 @@ import contextlib
 import json
 import os
 import re
-import resource
 import shutil
 import sys
 import time
@@ -25,8 +24,8 @@ from pathlib import Path
 
 import xxhash
 
-from ._checks import check_bool, check_positive
-from ._files import atomic_output
+from ._checks import check_bool, check_positive, warn
+from ._files import atomic_output, atomic_outputs
 from .adapters import apply
 from .provenance import bids_filters, methods_text
 from .recipes import read_recipe, recipe_content, recipe_design, recipe_from_content
@@ -58,7 +57,8 @@ _SIDECAR_KEY = "gainshape"
 
 def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=None, tasks=None,
               overwrite: bool = False, in_memory_mb: float = 1024.0, summary: bool = True,
-              raise_errors: bool = False, verbose=None):
+              raise_errors: bool = False, allow_short: bool = False, workers: int | None = None,
+              verbose=None):
     """Filter every recording of a study with one recipe, on a Dask cluster.
 
     Parameters
@@ -96,6 +96,13 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
     raise_errors : bool
         Raise a RuntimeError after the run if any recording failed (the
         others are done all the same).
+    workers : int | None
+        Worker processes of the local cluster started when ``client`` is
+        None (default: one per core); the cluster is closed at the end.
+    allow_short : bool
+        Filter a recording whose data are shorter than its own files state
+        (a truncated data file, markers past the end); by default such a
+        recording fails as "truncated or damaged input".
     verbose : bool | None
         False: no progress bar.
 
@@ -135,21 +142,33 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
     >>> table = gs.run_study("filter.json", ["a_raw.fif", "b_raw.fif"], "out")  # doctest: +SKIP
     >>> table[["source", "status", "seconds"]]  # doctest: +SKIP
     """
-    import pandas as pd
-
     content = _recipe_content(recipe)
     overwrite = check_bool("overwrite", overwrite)
     limits = {"in_memory_bytes": check_positive("in_memory_mb", in_memory_mb) * _MB,
-              "summary": check_bool("summary", summary)}
+              "summary": check_bool("summary", summary),
+              "allow_short": check_bool("allow_short", allow_short)}
     raise_errors = check_bool("raise_errors", raise_errors)
+    if workers is not None:
+        workers = int(check_positive("workers", workers))
+    _require("distributed", "dask", "pandas")
     out_dir = Path(out_dir)
     found = _recordings(inputs, {"subjects": subjects, "sessions": sessions, "tasks": tasks})
     sources = [source for source, _, _ in found]
     outputs = [out_dir / relative for _, relative, _ in found]
     _check_distinct(sources, outputs)
     out_dir.mkdir(parents=True, exist_ok=True)
+    with _one_run_at_a_time(out_dir):
+        return _run_locked(content, found, sources, outputs, out_dir, client, workers,
+                           overwrite, limits, raise_errors, verbose)
+
+
+def _run_locked(content, found, sources, outputs, out_dir, client, workers, overwrite, limits,
+                raise_errors, verbose):
+    """run_study's work once the output folder is this run's alone."""
+    import pandas as pd
+
     _write_dataset_description(out_dir)
-    with _connected(client) as connection:
+    with _connected(client, workers) as connection:
         # the report's filter figure is drawn on the cluster beside the recordings
         figure = connection.submit(_filter_figure, content, sources, pure=False)
         results = _gathered(connection, sources, [content, outputs, overwrite, limits],
@@ -162,15 +181,32 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
                           in zip(results, found)], columns=COLUMNS)
     for column in ("error", "warnings"):  # no error, no warning: an empty string
         table[column] = [text if isinstance(text, str) else "" for text in table[column]]
-    table.attrs["band_change"] = _study_band_change(results, found, out_dir)
-    table.attrs["methods"] = _study_methods(table, [extras["methods"] for _, extras in results],
-                                            out_dir)
-    _write_report(table, figure, out_dir)
+    table.attrs.update(band_change=None, methods="", problems=[])
+    for key, make in (
+            ("band_change", lambda: _study_band_change(results, found, out_dir)),
+            ("methods", lambda: _study_methods(table, [extras["methods"] for _, extras in results],
+                                               out_dir)),
+            (None, lambda: _write_report(table, figure, out_dir))):
+        try:  # what is drawn from the recordings never undoes them
+            made = make()
+        except Exception as err:
+            if raise_errors:
+                raise
+            table.attrs["problems"].append(f"{_PARTS[key]}: {type(err).__name__}: {err}")
+            warn(f"The study's {_PARTS[key]} could not be made ({type(err).__name__}: {err}); "
+                 "the recordings' outputs are complete, and table.attrs['problems'] says so.")
+        else:
+            if key:
+                table.attrs[key] = made
     failed = table[table["status"] == "failed"]
     if raise_errors and len(failed):
         raise RuntimeError(f"{len(failed)} of {len(table)} recordings failed: "
                            + "; ".join(failed["error"]))
     return table
+
+
+_PARTS = {"band_change": "band-change summary (band_change.nc)",
+          "methods": "methods paragraph (methods.txt)", None: "report (report.html)"}
 
 
 def _recipe_content(recipe) -> dict:
@@ -190,12 +226,18 @@ def _recordings(inputs, selection) -> list:
     if any(value is not None for value in selection.values()):
         raise ValueError("'subjects', 'sessions' and 'tasks' select recordings of a BIDS root; "
                          "the inputs are a list of files.")
+    missing = [str(p) for p in inputs if not Path(p).is_file()]
+    if missing:
+        raise FileNotFoundError(f"{len(missing)} of the {len(inputs)} inputs do not exist or are "
+                                f"not files: {', '.join(missing[:5])}{' ...' if len(missing) > 5 else ''}"
+                                " (nothing was done).")
     return [(Path(p), Path(f"{_base_name(Path(p))}_filtered_raw.fif"), (None, None, None))
             for p in inputs]
 
 
 def _bids_recordings(root: Path, selection) -> list:
     """Every EEG recording of a BIDS dataset (the selected ones), with its derivative's place."""
+    _require("mne_bids", "bids")
     import mne_bids
 
     if not (root / "dataset_description.json").exists():
@@ -251,8 +293,78 @@ def _write_dataset_description(out_dir: Path) -> None:
         staged.write_text(json.dumps(content, indent=2) + "\n", encoding="utf-8")
 
 
+def _require(module: str, extra: str, *more: str) -> None:
+    """ImportError naming the extra to install unless ``module`` (and ``more``) import.
+
+    >>> _require("json", "none")
+    """
+    import importlib
+
+    absent = []
+    for name in (module, *more):
+        try:
+            importlib.import_module(name)
+        except ImportError:
+            absent.append(name)
+    if absent:
+        raise ImportError(f"This needs {', '.join(absent)}, which is not installed: "
+                          f'pip install "gainshape[{extra}]"')
+
+
+_LOCK_NAME = ".gainshape-run.lock"
+
+
 @contextlib.contextmanager
-def _connected(client):
+def _one_run_at_a_time(out_dir: Path):
+    """Hold the output folder's lock file for the run: a second run on the
+    same folder refuses (a lock left by a process that is gone is taken over)."""
+    import socket
+
+    lock = out_dir / _LOCK_NAME
+    me = {"pid": os.getpid(), "host": socket.gethostname(), "since": time.strftime("%Y-%m-%d %H:%M:%S")}
+    for _ in range(2):
+        try:
+            with open(lock, "x", encoding="utf-8") as stream:
+                stream.write(json.dumps(me))
+            break
+        except FileExistsError:
+            holder = _lock_holder(lock)
+            if holder is None or _alive(holder, me["host"]):
+                raise FileExistsError(
+                    f"Another gainshape run is writing to {out_dir} ({_holder_words(holder)}); "
+                    "nothing was done. Run again when it has finished; if no run is going on, "
+                    f"remove {lock}.") from None
+            lock.unlink(missing_ok=True)  # its process is gone
+    try:
+        yield
+    finally:
+        lock.unlink(missing_ok=True)
+
+
+def _lock_holder(lock: Path) -> dict | None:
+    try:
+        return json.loads(lock.read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        return None
+
+
+def _alive(holder: dict, host: str) -> bool:
+    """Whether the lock's process may still run (on another host it is assumed so)."""
+    if holder.get("host") != host:
+        return True
+    import psutil  # distributed's own dependency
+
+    return psutil.pid_exists(int(holder.get("pid", -1)))
+
+
+def _holder_words(holder: dict | None) -> str:
+    if holder is None:
+        return "its lock file cannot be read"
+    return f"process {holder.get('pid')} on {holder.get('host')}, since {holder.get('since')}"
+
+
+@contextlib.contextmanager
+def _connected(client, workers=None):
     """The client to use: the given one, one for an address, or a local cluster."""
     import distributed
 
@@ -265,7 +377,7 @@ def _connected(client):
         if _LOCAL_WORKERS["distributed.worker.multiprocessing-method"] == "fork":
             _import_what_workers_use()
         with dask.config.set(_LOCAL_WORKERS), distributed.LocalCluster(
-                n_workers=os.cpu_count() or 1, threads_per_worker=1, processes=True,
+                n_workers=workers or os.cpu_count() or 1, threads_per_worker=1, processes=True,
                 dashboard_address=":0") as cluster, distributed.Client(cluster) as own:
             yield own
         return
@@ -308,10 +420,21 @@ def _gathered(connection, sources, task_arguments, show: bool) -> list:
                 i, _ = pending.pop(future.key)
                 rows[i] = _task_result(future, sources[i])
                 bar.update(1)
-    except BaseException:  # interrupted: what has not started does not start
+    except KeyboardInterrupt as err:  # what has not started does not start
+        connection.cancel([f for _, f in pending.values()])
+        raise Interrupted(sum(r is not None for r in rows), count) from err
+    except BaseException:
         connection.cancel([f for _, f in pending.values()])
         raise
     return rows
+
+
+class Interrupted(KeyboardInterrupt):
+    """Ctrl-C during a study, with how many of its recordings were done."""
+
+    def __init__(self, done: int, total: int):
+        super().__init__(f"{done} of {total} recordings done")
+        self.done, self.total = done, total
 
 
 def _task_result(future, source: Path) -> tuple:
@@ -339,28 +462,148 @@ def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool
         warnings.simplefilter("always")
         try:
             fingerprint = file_fingerprint(source)
-            pair = None  # (before, after) in memory, when the recording was filtered there
             if not overwrite and _up_to_date(output, content, fingerprint):
                 status = "up to date"
+                described = mne.io.read_raw_fif(output, verbose=False)
+                text, change = _described(described, None, source, output, limits)
             else:
                 _remove_stale_staging(output)
-                raw = mne.io.read_raw(source, preload=False, verbose=False)
-                if _data_bytes(raw) <= limits["in_memory_bytes"]:
-                    raw.load_data(verbose=False)
-                filtered = _write_filtered(raw, content, source, fingerprint, output)
-                pair = (raw, filtered) if raw.preload else None
-            described = pair[1] if pair else mne.io.read_raw_fif(output, verbose=False)
-            text = (methods_text(described), methods_text(described, detail="full"))
-            if limits["summary"]:
-                change = band_change(*pair) if pair else _band_change_by_groups(
-                    source, output, limits["in_memory_bytes"])
+                output.parent.mkdir(parents=True, exist_ok=True)
+                # everything is made in a staging folder; the previous output is
+                # replaced only when the recording's every part has succeeded
+                with atomic_outputs(output, output.with_suffix(".json")) as staged:
+                    text, change = _filtered_and_described(source, content, fingerprint,
+                                                           staged, limits)
         except Exception as err:  # isolated: the other recordings go on
             status, error, written, text = ("failed", f"{source.name}: {type(err).__name__}: {err}",
                                             None, None)
+            change = None
     said = "\n".join(dict.fromkeys(str(w.message) for w in caught))
-    peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
-    return [str(source), status, time.perf_counter() - start, peak_mb, written, error,
+    return [str(source), status, time.perf_counter() - start, _peak_mb(), written, error,
             said], {"band_change": change, "methods": text}
+
+
+def _filtered_and_described(source: Path, content: dict, fingerprint: str, staged: tuple,
+                            limits: dict) -> tuple:
+    """Filter ``source`` into the staged (data, sidecar) pair; its methods
+    texts and band change (the staged files are what is described)."""
+    import mne
+
+    raw = read_whole(source, allow_short=limits["allow_short"])
+    if _data_bytes(raw) <= limits["in_memory_bytes"]:
+        raw.load_data(verbose=False)
+    filtered = _write_filtered(raw, content, source, fingerprint, *staged)
+    pair = (raw, filtered) if raw.preload else None
+    described = filtered if pair else mne.io.read_raw_fif(staged[0], verbose=False)
+    return _described(described, pair, source, staged[0], limits)
+
+
+def _described(described, pair, source: Path, output: Path, limits: dict) -> tuple:
+    """(brief, full) methods texts of ``described`` and its band change
+    (None unless ``limits["summary"]``), in memory from ``pair`` or by groups
+    of channels from the files."""
+    text = (methods_text(described), methods_text(described, detail="full"))
+    if not limits["summary"]:
+        return text, None
+    change = band_change(*pair) if pair else _band_change_by_groups(
+        source, output, limits["in_memory_bytes"])
+    return text, change
+
+
+_DAMAGE_SAID = ("outside data range", "Invalid tag", "truncated", "does not match")
+
+
+def read_whole(source: Path, allow_short: bool = False):
+    """``mne.io.read_raw`` (not loaded), refusing a recording whose data are
+    shorter than its own files state, unless ``allow_short``.
+
+    What is checked: the reader's warnings (events beyond the data, a
+    damaged FIF tag, a size that does not match); for BrainVision, a data
+    file that ends inside a sample and markers past its last sample; for
+    EDF/BDF, the records the header states against the bytes that follow it.
+
+    Examples
+    --------
+    >>> read_whole(Path("missing.vhdr"))  # doctest: +IGNORE_EXCEPTION_DETAIL
+    Traceback (most recent call last):
+    ...
+    FileNotFoundError: missing.vhdr
+    """
+    import mne
+
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        raw = mne.io.read_raw(source, preload=False, verbose=False)
+    said = [str(w.message) for w in caught]
+    problem = _shortfall(source, raw) or next(
+        (f"the reader said: {m}" for m in said if any(k in m for k in _DAMAGE_SAID)), None)
+    for message in said:  # passed on, as a reader's warnings would be
+        warnings.warn(message, stacklevel=2)
+    if problem and not allow_short:
+        raise ValueError(f"truncated or damaged input: {problem}. Nothing was filtered; "
+                         "restore the file, or pass allow_short=True (--allow-short) to "
+                         "filter the samples it holds.")
+    return raw
+
+
+def _shortfall(source: Path, raw) -> str | None:
+    """What the recording's own files say it should hold and it does not (or None)."""
+    suffix = source.suffix.lower()
+    if suffix == ".vhdr":
+        return _brainvision_shortfall(source, raw)
+    if suffix in (".edf", ".bdf"):
+        return _edf_shortfall(source, raw, 3 if suffix == ".bdf" else 2)
+    return None
+
+
+def _brainvision_shortfall(source: Path, raw) -> str | None:
+    header = source.read_text(encoding="utf-8", errors="replace")
+    files = dict(re.findall(r"^(DataFile|MarkerFile)=(.+?)\s*$", header, flags=re.M))
+    width = {"INT_16": 2, "UINT_16": 2, "INT_32": 4, "IEEE_FLOAT_32": 4}.get(
+        (re.findall(r"^BinaryFormat=(\S+)", header, flags=re.M) or ["INT_16"])[0], 2)
+    n_channels = int((re.findall(r"^NumberOfChannels=(\d+)", header, flags=re.M) or ["0"])[0])
+    data = source.parent / files.get("DataFile", "")
+    if n_channels and data.is_file():
+        size, frame = data.stat().st_size, n_channels * width
+        if size % frame:
+            return (f"the header states {n_channels} channels of {width} bytes per sample, and "
+                    f"{data.name} holds {size // frame} samples and {size % frame} bytes more")
+    markers = source.parent / files.get("MarkerFile", "")
+    if markers.is_file():
+        positions = [int(p) for p in re.findall(r"^Mk\d+=[^,]*,[^,]*,(\d+),",
+                                                markers.read_text(encoding="utf-8",
+                                                                  errors="replace"), flags=re.M)]
+        if positions and max(positions) > raw.n_times:
+            return (f"the marker file states events up to sample {max(positions)}, and the "
+                    f"data file holds {raw.n_times} samples")
+    return None
+
+
+def _edf_shortfall(source: Path, raw, width: int) -> str | None:
+    with open(source, "rb") as stream:
+        head = stream.read(256)
+        n_signals = int(head[252:256].decode("ascii", "replace").strip() or 0)
+        n_records = int(head[236:244].decode("ascii", "replace").strip() or -1)
+        stream.seek(256 + 216 * n_signals)
+        counts = [int(stream.read(8).decode("ascii", "replace").strip() or 0)
+                  for _ in range(n_signals)]
+    record_bytes = width * sum(counts)
+    held = (source.stat().st_size - 256 * (1 + n_signals)) // max(record_bytes, 1)
+    if n_records > held:
+        per_record = max(counts) if counts else 0
+        return (f"the header states {n_records * per_record} samples ({n_records} records), and "
+                f"the file holds {held * per_record}")
+    return None
+
+
+def _peak_mb() -> float:
+    """This process's peak resident set size in MB (NaN where it cannot be read)."""
+    try:
+        import resource
+    except ImportError:  # Windows
+        return float("nan")
+    scale = 1024.0 * 1024.0 if sys.platform == "darwin" else 1024.0  # bytes on macOS, KiB on Linux
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / scale
 
 
 def _data_bytes(raw) -> int:
@@ -368,16 +611,15 @@ def _data_bytes(raw) -> int:
     return 8 * len(raw.ch_names) * raw.n_times
 
 
-def _write_filtered(raw, content: dict, source: Path, fingerprint: str, output: Path):
-    """The filtered recording and its sidecar, each written whole or not at all."""
+def _write_filtered(raw, content: dict, source: Path, fingerprint: str, data_path: Path,
+                    sidecar_path: Path):
+    """The filtered recording and its sidecar, written to the (staged) paths given."""
     filtered = apply(raw, verbose=False, **recipe_from_content(content, source))
     record = {"SoftwareFilters": bids_filters(filtered),
               _SIDECAR_KEY: {"recipe": content, "source": str(source),
                              "source_fingerprint": fingerprint}}
-    output.parent.mkdir(parents=True, exist_ok=True)
-    filtered.save(output, overwrite=True, verbose=False)
-    with atomic_output(output.with_suffix(".json")) as staged:
-        staged.write_text(json.dumps(record, indent=2) + "\n", encoding="utf-8")
+    filtered.save(data_path, overwrite=True, verbose=False)
+    sidecar_path.write_text(json.dumps(record, indent=2) + "\n", encoding="utf-8")
     return filtered
 
 
@@ -546,6 +788,10 @@ def _write_report(table, filter_figure, out_dir: Path) -> None:
     from .viz import plot_study_band_change
 
     report = mne.Report(title="gainshape study", verbose=False)
+    if table.attrs.get("problems"):
+        report.add_html("<ul>" + "".join(f"<li>{_breakable(p)}</li>" for p in
+                                         table.attrs["problems"]) + "</ul>",
+                        title="Parts of this report that could not be made", tags=("problems",))
     if filter_figure is not None:
         report.add_html(_figure_html(*filter_figure), title="The realized filter",
                         tags=("filter",))
