@@ -275,3 +275,25 @@ def test_replay_of_a_step_without_pad_gets_the_damaged_step_message():
     with pytest.warns(gs.GainshapeWarning, match="Skipped step 1 .*lacks the padding mode"):
         out = gs.replay([step], x)
     assert np.array_equal(out, x)  # nothing replayed, the input returned as it was
+
+
+def test_export_checks_its_writer_first_and_writes_whole_or_nothing(filtered, tmp_path,
+                                                                    monkeypatch):
+    # the writer packages are those mne.export.export_raw names for each format (MNE docs)
+    import sys
+
+    out = filtered.copy().pick(["Fz", "Cz", "Pz", "Oz"])
+    monkeypatch.setitem(sys.modules, "edfio", None)  # import edfio raises ImportError
+    with pytest.raises(ImportError, match="pip install edfio"):
+        gs.export(out, tmp_path / "rec.edf")
+    assert list(tmp_path.iterdir()) == []
+    with pytest.raises(ValueError, match="rec.txt"):
+        gs.export(out, tmp_path / "rec.txt")
+    pytest.importorskip("pybv")
+
+    def fails(*args, **kwargs):
+        raise OSError(28, "No space left on device")  # ENOSPC while the data are written
+    monkeypatch.setattr(mne.export, "export_raw", fails)
+    with pytest.raises(OSError, match="No space"):
+        gs.export(out, tmp_path / "rec.vhdr")
+    assert list(tmp_path.iterdir()) == []  # neither the data nor the sidecar

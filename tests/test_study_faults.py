@@ -392,3 +392,28 @@ def test_a_damaged_sidecar_is_not_trusted(study, client):
     table = gs.run_study(recipe, root, out, client=client, verbose=False)
     assert list(table.status) == ["up to date", "filtered", "up to date"]
     assert json.loads(sidecar.read_text())["gainshape"]["recipe"]
+
+
+# -- truncated FIF and EDF files in a list of files -----------------------------------------
+def _fif(path, raw):
+    raw.save(path, verbose=False)
+
+
+def _edf(path, raw):
+    pytest.importorskip("edfio")
+    mne.export.export_raw(path, raw, fmt="edf", verbose=False)
+
+
+@pytest.mark.parametrize("suffix, write", [("_raw.fif", _fif), (".edf", _edf)], ids=["FIF", "EDF"])
+def test_a_truncated_file_in_a_list_fails_as_truncated(tmp_path, client, make_raw, suffix,
+                                                       write):
+    raw = make_raw(sfreq=250.0, seconds=30.0, seed=5).pick("eeg")
+    good, cut = tmp_path / f"good{suffix}", tmp_path / f"cut{suffix}"
+    write(good, raw)
+    write(cut, raw)
+    os.truncate(cut, cut.stat().st_size // 2)
+    recipe = gs.write_recipe(tmp_path / "f.json", gs.lowpass(30.0), picks="eeg")
+    table = gs.run_study(recipe, [good, cut], tmp_path / "out", client=client, verbose=False)
+    assert list(table.status) == ["filtered", "failed"]
+    assert "truncated or damaged input" in table.error.iloc[1], table.error.iloc[1]
+    assert not (tmp_path / "out" / "cut_filtered_raw.fif").exists()

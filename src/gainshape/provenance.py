@@ -21,7 +21,7 @@ import numpy as np
 import xxhash
 
 from ._checks import check_option, warn
-from ._files import atomic_output
+from ._files import atomic_output, atomic_outputs
 from .design import phase_words
 from .measure import (held_words, hz_range, hz_words, notch_centre, passband_edges, removed_bands,
                       seconds_words, stop_band_words, timing_words)
@@ -509,14 +509,42 @@ def export(inst, fname, *, overwrite: bool = False, **export_options) -> list:
     if existing and not overwrite:
         raise FileExistsError(f"{existing[0]} exists; pass overwrite=True to replace it "
                               "(nothing was written).")
+    _check_writer(fname)
     steps = history(inst)
     record = {"history": list(steps), "SoftwareFilters": bids_filters(inst),
-              "methods": methods_text(inst)}
-    with atomic_output(sidecar) as staged:
-        staged.write_text(json.dumps(record, indent=2) + "\n", encoding="utf-8")
-    with atomic_output(fname) as staged:
-        mne.export.export_raw(staged, inst, overwrite=True, verbose=False, **export_options)
+              "methods": methods_text(inst), "methods_full": methods_text(inst, detail="full")}
+    with atomic_outputs(fname, sidecar) as (staged_data, staged_sidecar):  # moved together
+        mne.export.export_raw(staged_data, inst, overwrite=True, verbose=False, **export_options)
+        staged_sidecar.write_text(json.dumps(record, indent=2) + "\n", encoding="utf-8")
     return [sidecar, fname]
+
+
+# the package MNE's exporter needs for each format (mne.export.export_raw's documentation)
+_WRITERS = {".vhdr": ("pybv", "BrainVision"), ".edf": ("edfio", "EDF"), ".bdf": ("edfio", "BDF"),
+            ".set": ("eeglabio", "EEGLAB")}
+
+
+def _check_writer(fname: Path) -> None:
+    """ImportError naming the package to install, before anything is written.
+
+    >>> _check_writer(Path("rec.txt"))
+    Traceback (most recent call last):
+    ...
+    ValueError: export writes .bdf, .edf, .set, .vhdr files; rec.txt was given.
+    """
+    import importlib
+
+    suffix = fname.suffix.lower()
+    if suffix not in _WRITERS:
+        raise ValueError(f"export writes {', '.join(sorted(_WRITERS))} files; {fname.name} was "
+                         "given.")
+    package, format_name = _WRITERS[suffix]
+    try:
+        importlib.import_module(package)
+    except ImportError:
+        raise ImportError(f"Writing {format_name} ({fname.name}) needs the {package} package, "
+                          f"which is not installed: pip install {package} (nothing was "
+                          "written).") from None
 
 
 # -- helpers --------------------------------------------------------------------

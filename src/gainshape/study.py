@@ -536,7 +536,8 @@ def read_whole(source: Path, allow_short: bool = False):
         raw = mne.io.read_raw(source, preload=False, verbose=False)
     said = [str(w.message) for w in caught]
     problem = _shortfall(source, raw) or next(
-        (f"the reader said: {m}" for m in said if any(k in m for k in _DAMAGE_SAID)), None)
+        (f"the reader said: {m.rstrip('.')}; the file holds {raw.n_times} samples" for m in said
+         if any(k in m for k in _DAMAGE_SAID)), None)
     for message in said:  # passed on, as a reader's warnings would be
         warnings.warn(message, stacklevel=2)
     if problem and not allow_short:
