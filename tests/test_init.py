@@ -8,9 +8,13 @@ def test_package_exports_exactly_all():
     # common practice (no source): __init__ re-exports the public API and nothing else
     import types
 
-    public = {name for name, value in vars(gs).items()
-              if not name.startswith("_") and not isinstance(value, types.ModuleType)}
+    public = {name for name in dir(gs)
+              if not name.startswith("_") and not isinstance(getattr(gs, name), types.ModuleType)}
     assert public == set(gs.__all__)
+    import gainshape.audit  # noqa: F401  (a submodule of the same name does not hide the function)
+    import gainshape.design  # noqa: F401
+
+    assert callable(gs.audit) and callable(gs.design) and gs.design.__module__ == "gainshape.design"
     assert len(gs.__all__) == len(set(gs.__all__))
 
 
