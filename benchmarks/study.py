@@ -23,7 +23,12 @@ Each way is timed after one warm-up run in the same process (imports, first
 designs, the report's first use), as the best of ``--repeat`` runs; the
 study's times include starting and closing its cluster.
 
+First, the command line on a 4-recording study: the run that does the
+work, then re-runs with nothing to do (a fresh process each, interpreter
+start included: they are answered from file stamps, with no cluster).
+
     python benchmarks/study.py [--recordings 16] [--minutes 10] [--repeat 2] [--folder DIR]
+    python benchmarks/study.py --up-to-date-only --minutes 1
 """
 
 from __future__ import annotations
@@ -132,6 +137,34 @@ def _nothing(i):
     return i
 
 
+def up_to_date_rerun(folder: Path, minutes: float, repeat: int) -> tuple:
+    """Seconds of ``gainshape run`` (the console script, a fresh process each
+    time, interpreter start included) on a 4-recording study: the run that
+    does the work, then re-runs with nothing to do (all of them)."""
+    import shutil
+    import subprocess
+    import sys
+
+    import gainshape as gs
+
+    script = Path(sys.executable).parent / "gainshape"
+    recipe = gs.write_recipe(folder / "rerun_recipe.json", gs.bandpass(0.1, 40.0), picks="eeg")
+    paths = [write_recording(folder / "in4" / f"rec{i}_raw.fif", minutes, i) for i in range(4)]
+    out = folder / "rerun_out"
+    shutil.rmtree(out, ignore_errors=True)
+    command = [str(script), "run", str(recipe), *map(str, paths), "--out", str(out), "--quiet"]
+    start = time.perf_counter()
+    subprocess.run(command, check=True, capture_output=True)
+    work = time.perf_counter() - start
+    reruns = []
+    for _ in range(repeat):
+        start = time.perf_counter()
+        done = subprocess.run(command, check=True, capture_output=True, text=True)
+        reruns.append(time.perf_counter() - start)
+        assert done.stdout.count("up to date") == 4, done.stdout
+    return work, reruns
+
+
 def main() -> None:
     import gainshape as gs
 
@@ -141,9 +174,17 @@ def main() -> None:
     parser.add_argument("--repeat", type=int, default=2, help="best of this many runs")
     parser.add_argument("--folder", type=Path,
                         default=Path(tempfile.gettempdir()) / "gainshape_study_bench")
+    parser.add_argument("--up-to-date-only", action="store_true",
+                        help="only the 4-recording re-run with nothing to do")
     args = parser.parse_args()
     folder = args.folder
     folder.mkdir(parents=True, exist_ok=True)
+    work, reruns = up_to_date_rerun(folder, args.minutes, max(args.repeat, 5))
+    print(f"gainshape run, 4 recordings of {args.minutes:g} min (cold: a fresh process each): "
+          f"{work:.2f} s doing the work; re-runs with nothing to do: "
+          + ", ".join(f"{r:.3f}" for r in reruns) + " s")
+    if args.up_to_date_only:
+        return
     recipe_file = gs.write_recipe(folder / "recipe.json", gs.bandpass(0.1, 40.0), picks="eeg")
     recipe = gs.read_recipe(recipe_file)
     paths = [write_recording(folder / "in" / f"rec{i:02d}_raw.fif", args.minutes, i)

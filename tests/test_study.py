@@ -287,3 +287,76 @@ def test_the_study_summary_gathers_band_change_and_states_the_filter_once(study,
     report = (out / "report.html").read_text()
     assert "The realized filter" in report and "broken_raw.fif" in report
     assert "One filter recipe was applied to 3 of the 4 recordings" in report
+
+
+@pytest.fixture
+def finished(tmp_path, make_raw, client):
+    """Two recordings filtered by a completed run (so the study's state is written)."""
+    paths = []
+    for i in range(2):
+        path = tmp_path / "in" / f"rec{i}_raw.fif"
+        path.parent.mkdir(exist_ok=True)
+        make_raw(seconds=30.0, seed=i).save(path)
+        paths.append(path)
+    recipe = gs.write_recipe(tmp_path / "filter.json", gs.bandpass(0.5, 40.0), picks="eeg")
+    first = gs.run_study(recipe, paths, tmp_path / "out", client=client, verbose=False)
+    assert list(first["status"]) == ["filtered"] * 2
+    return recipe, paths, tmp_path / "out", first
+
+
+def _no_cluster(monkeypatch):
+    from gainshape import study as study_module
+
+    def refuse(*args, **kwargs):
+        raise AssertionError("a cluster was asked for")
+    monkeypatch.setattr(study_module, "_connected", refuse)
+
+
+def test_nothing_changed_is_answered_from_stamps_without_a_cluster(finished, monkeypatch):
+    recipe, paths, out, first = finished
+    _no_cluster(monkeypatch)
+    again = gs.run_study(recipe, paths, out, verbose=False)
+    assert list(again["status"]) == ["up to date"] * 2 and list(again["error"]) == ["", ""]
+    assert again.attrs["methods"] == first.attrs["methods"]
+    np.testing.assert_array_equal(again.attrs["band_change"].change_db.values,
+                                  first.attrs["band_change"].change_db.values)
+
+
+def test_a_rewritten_recipe_of_the_same_content_is_still_up_to_date_without_a_cluster(
+        finished, monkeypatch):
+    recipe, paths, out, first = finished
+    recipe.write_text(json.dumps(json.loads(recipe.read_text()), indent=4))  # other bytes
+    _no_cluster(monkeypatch)
+    again = gs.run_study(recipe, paths, out, verbose=False)
+    assert list(again["status"]) == ["up to date"] * 2
+    xr = pytest.importorskip("xarray")
+    xr.testing.assert_allclose(again.attrs["band_change"].change_db,
+                               first.attrs["band_change"].change_db)
+
+
+def test_a_replaced_output_file_is_redone(finished, client):
+    recipe, paths, out, first = finished
+    output = first["output"].iloc[1]
+    output.write_bytes(output.read_bytes()[:-10] + b"0123456789")  # same size, other bytes
+    again = gs.run_study(recipe, paths, out, client=client, verbose=False)
+    assert list(again["status"]) == ["up to date", "filtered"]
+
+
+def test_a_new_input_in_a_bids_root_is_seen(bids_root, bids_recipe, client, tmp_path, make_raw):
+    import shutil
+
+    import mne_bids
+
+    root = tmp_path / "root"
+    shutil.copytree(bids_root, root)
+    broken = _eeg_file(root, "01", "b", "rest", ".vhdr")
+    for companion in broken.parent.glob(broken.name.split(".")[0] + ".*"):
+        companion.unlink()  # a study whose recordings all succeed
+    out = tmp_path / "out"
+    first = gs.run_study(bids_recipe, root, out, client=client, verbose=False)
+    assert set(first["status"]) == {"filtered"}
+    raw = make_raw(sfreq=250.0, seconds=20.0, seed=50).pick("eeg")
+    path = mne_bids.BIDSPath(subject="03", session="a", task="rest", datatype="eeg", root=root)
+    mne_bids.write_raw_bids(raw, path, format="BrainVision", allow_preload=True, verbose=False)
+    again = gs.run_study(bids_recipe, root, out, client=client, verbose=False)
+    assert list(again["status"]) == ["up to date"] * len(first) + ["filtered"]

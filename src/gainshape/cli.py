@@ -82,20 +82,41 @@ def _parser() -> argparse.ArgumentParser:
 
 
 def _run(args) -> int:
-    from .recipes import read_recipe
-    from .study import run_study
+    from ._stamps import unchanged_study
 
-    recipe = read_recipe(args.recipe)  # a damaged recipe stops here, before a cluster starts
     inputs = args.inputs[0] if len(args.inputs) == 1 and Path(args.inputs[0]).is_dir() else args.inputs
     selection = {"subjects": args.subject, "sessions": args.session, "tasks": args.task}
-    table = run_study(recipe, inputs, args.out, args.scheduler, overwrite=args.overwrite,
+    kept = None if args.overwrite else unchanged_study(args.recipe, inputs, Path(args.out),
+                                                       selection, summary=True)
+    if kept is not None:  # answered from file stamps: no MNE, no cluster
+        print(_table_text([[source, "up to date", 0.0, ""] for source, *_ in kept]))
+        return EXIT_DONE
+    from .study import run_study
+
+    table = run_study(args.recipe, inputs, args.out, args.scheduler, overwrite=args.overwrite,
                       workers=args.workers, allow_short=args.allow_short,
                       verbose=not args.quiet, **selection)
-    print(table[["source", "status", "seconds", "error"]].to_string(index=False))
+    print(_table_text(table[["source", "status", "seconds", "error"]].values.tolist()))
     for source, said in zip(table["source"], table["warnings"]):
         if said:
             print(f"\nWarnings for {Path(source).name}:\n  " + said.replace("\n", "\n  "))
     return EXIT_SOME_FAILED if (table["status"] == "failed").any() else EXIT_DONE
+
+
+def _table_text(rows) -> str:
+    """The run's table as text: source, status, seconds, error (columns aligned).
+
+    >>> print(_table_text([["a_raw.fif", "filtered", 1.234, ""]]))
+    source     status    seconds  error
+    a_raw.fif  filtered     1.23
+    """
+    cells = [["source", "status", "seconds", "error"]]
+    cells += [[str(src), str(status), f"{seconds:.2f}", str(error)]
+              for src, status, seconds, error in rows]
+    widths = [max(len(row[i]) for row in cells) for i in range(4)]
+    lines = ["  ".join([row[0].ljust(widths[0]), row[1].ljust(widths[1]),
+                        row[2].rjust(widths[2]), row[3]]).rstrip() for row in cells]
+    return "\n".join(lines)
 
 
 def _describe(args) -> int:

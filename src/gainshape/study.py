@@ -22,10 +22,10 @@ import time
 import warnings
 from pathlib import Path
 
-import xxhash
-
 from ._checks import check_bool, check_positive, warn
 from ._files import atomic_output, atomic_outputs
+from ._stamps import (SIDECAR_KEY, STATE_NAME, file_fingerprint, file_stamps, sidecar_record,
+                      stamp, state, unchanged_study, verdict)
 from .adapters import apply
 from .provenance import bids_filters, methods_text
 from .recipes import read_recipe, recipe_content, recipe_design, recipe_from_content
@@ -37,7 +37,6 @@ COLUMNS = ["source", "subject", "session", "task", "status", "seconds", "worker_
            "output", "error", "warnings"]
 _ENTITIES = ("subject", "session", "task")
 _READABLE = [".vhdr", ".edf", ".bdf", ".set", ".fif", ".cnt", ".mff"]
-_HASH_CHUNK = 8 * 2**20
 _MB = 2**20
 # How the local cluster's workers start. On Linux they are forked from this
 # process: they start in 0.2 s instead of 2.8 s, find NumPy, SciPy, MNE and
@@ -52,7 +51,6 @@ _LOCAL_WORKERS = {
     # recording took 0.89 s instead of 0.99 s on two busy workers (two A/B runs)
     "distributed.worker.profile.enabled": False,
 }
-_SIDECAR_KEY = "gainshape"
 
 
 def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=None, tasks=None,
@@ -126,12 +124,37 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
         recordings it served, and the recordings that failed. ``report.html``
         (an ``mne.Report``) shows the realized filter, the band change by
         recording, the methods paragraph and the table.
+        ``table.attrs["problems"]`` lists the study's own files that could
+        not be made (the summary, the methods paragraph, the report): such a
+        failure is recorded there and warned about, never raised unless
+        ``raise_errors``, and never undoes a recording.
+
+    Notes
+    -----
+    Nothing is lost: each recording's filtered file, sidecar, methods text
+    and band change are made in a staging folder and moved into place
+    only when all of them succeeded, so a recording that fails leaves its
+    previous derivative byte-identical. A recording is up to date when its
+    sidecar holds the same recipe and its source files have the recorded
+    sizes and times (when only the times moved, their content hash
+    decides); this is decided before any cluster starts, and when nothing
+    changed since the last complete run (``.gainshape-study.json`` in
+    ``out_dir``) the call answers from the files alone. One run at a time
+    may write to ``out_dir``: a second one raises FileExistsError before
+    any work.
 
     Raises
     ------
     ValueError
         Before any work, for a damaged recipe or two inputs that would
         write the same output.
+    FileNotFoundError
+        Before any work, for inputs that do not exist.
+    ImportError
+        Before any work, when the ``dask`` extra (or, for a BIDS root, the
+        ``bids`` extra) is not installed; the message gives the command.
+    FileExistsError
+        Before any work, when another run is writing to ``out_dir``.
 
     See Also
     --------
@@ -152,31 +175,54 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
         workers = int(check_positive("workers", workers))
     _require("distributed", "dask", "pandas")
     out_dir = Path(out_dir)
-    found = _recordings(inputs, {"subjects": subjects, "sessions": sessions, "tasks": tasks})
+    selection = {"subjects": subjects, "sessions": sessions, "tasks": tasks}
+    kept = None if overwrite else unchanged_study(recipe, inputs, out_dir, selection,
+                                                  limits["summary"])
+    if kept is not None:  # nothing changed since the last complete run
+        return _unchanged_table(kept, out_dir, limits["summary"])
+    found = _recordings(inputs, selection)
     sources = [source for source, _, _ in found]
     outputs = [out_dir / relative for _, relative, _ in found]
     _check_distinct(sources, outputs)
     out_dir.mkdir(parents=True, exist_ok=True)
     with _one_run_at_a_time(out_dir):
-        return _run_locked(content, found, sources, outputs, out_dir, client, workers,
-                           overwrite, limits, raise_errors, verbose)
+        table = _run_locked(content, found, outputs, out_dir, {"client": client, "workers": workers},
+                            overwrite, limits, raise_errors, verbose)
+        _write_state(table, recipe, content, inputs, selection, limits["summary"], out_dir)
+    failed = table[table["status"] == "failed"]
+    if raise_errors and len(failed):
+        raise RuntimeError(f"{len(failed)} of {len(table)} recordings failed: "
+                           + "; ".join(failed["error"]))
+    return table
 
 
-def _run_locked(content, found, sources, outputs, out_dir, client, workers, overwrite, limits,
+def _run_locked(content, found, outputs, out_dir, cluster: dict, overwrite, limits,
                 raise_errors, verbose):
-    """run_study's work once the output folder is this run's alone."""
+    """run_study's work once the output folder is this run's alone: the
+    recordings found up to date from their stamps are answered here, the
+    others go to the cluster (none is started when there are none)."""
     import pandas as pd
 
     _write_dataset_description(out_dir)
-    with _connected(client, workers) as connection:
-        # the report's filter figure is drawn on the cluster beside the recordings
-        figure = connection.submit(_filter_figure, content, sources, pure=False)
-        results = _gathered(connection, sources, [content, outputs, overwrite, limits],
-                            verbose is not False)
-        try:
-            figure = figure.result()
-        except Exception:  # the report goes without it; the recordings' rows say why
-            figure = None
+    sources = [source for source, _, _ in found]
+    results = [None if overwrite else _kept_result(s, o, content, out_dir, limits)
+               for s, o in zip(sources, outputs)]
+    todo = [i for i, r in enumerate(results) if r is None]
+    if todo:
+        with _connected(cluster["client"], cluster["workers"]) as connection:
+            # the report's filter figure is drawn on the cluster beside the recordings
+            figure = connection.submit(_filter_figure, content, sources, pure=False)
+            done = _gathered(connection, [sources[i] for i in todo],
+                             [content, [outputs[i] for i in todo], overwrite, limits],
+                             verbose is not False)
+            for i, result in zip(todo, done):
+                results[i] = result
+            try:
+                figure = figure.result()
+            except Exception:  # the report goes without it; the recordings' rows say why
+                figure = None
+    else:
+        figure = _filter_figure(content, sources)
     table = pd.DataFrame([[row[0], *entities, *row[1:]] for (row, _), (_, _, entities)
                           in zip(results, found)], columns=COLUMNS)
     for column in ("error", "warnings"):  # no error, no warning: an empty string
@@ -198,11 +244,66 @@ def _run_locked(content, found, sources, outputs, out_dir, client, workers, over
         else:
             if key:
                 table.attrs[key] = made
-    failed = table[table["status"] == "failed"]
-    if raise_errors and len(failed):
-        raise RuntimeError(f"{len(failed)} of {len(table)} recordings failed: "
-                           + "; ".join(failed["error"]))
     return table
+
+
+def _kept_result(source: Path, output: Path, content: dict, out_dir: Path, limits: dict):
+    """The (row, extras) of a recording found up to date from its stamps,
+    with its methods texts from its sidecar and its band change from the
+    study's last summary; None when it must go to the cluster."""
+    start = time.perf_counter()
+    if verdict(source, output, content) != "up to date":
+        return None
+    record = sidecar_record(output) or {}
+    change = _previous_band_change(out_dir, source) if limits["summary"] else None
+    if "methods" not in record or (limits["summary"] and change is None):
+        return None
+    return ([str(source), "up to date", time.perf_counter() - start, float("nan"), output, "",
+             ""], {"band_change": change, "methods": tuple(record["methods"])})
+
+
+def _previous_band_change(out_dir: Path, source: Path):
+    """The recording's band change in the study's last ``band_change.nc`` (None if absent)."""
+    import xarray as xr
+
+    path = out_dir / "band_change.nc"
+    try:
+        with xr.open_dataset(path) as previous:
+            if str(source) not in previous["recording"].values:
+                return None
+            one = previous.sel(recording=str(source)).load()
+    except (OSError, ValueError, KeyError):
+        return None
+    one = one.drop_vars(["recording", *_ENTITIES], errors="ignore")
+    return one.dropna("channel", how="all")  # channels the study's union added
+
+
+def _unchanged_table(kept, out_dir: Path, summary: bool):
+    """run_study's table when nothing changed since the last complete run."""
+    import pandas as pd
+    import xarray as xr
+
+    table = pd.DataFrame([[source, sub, ses, task, "up to date", 0.0, float("nan"), Path(output),
+                           "", ""] for source, sub, ses, task, output in kept], columns=COLUMNS)
+    state = json.loads((out_dir / STATE_NAME).read_text(encoding="utf-8"))
+    table.attrs.update(band_change=xr.load_dataset(out_dir / "band_change.nc") if summary else None,
+                       methods=state["methods"], problems=[])
+    return table
+
+
+def _write_state(table, recipe, content, inputs, selection, summary, out_dir: Path) -> None:
+    """The study's state after a run in which every part succeeded (else none:
+    the next run then looks at every recording again)."""
+    path = out_dir / STATE_NAME
+    if (table["status"] == "failed").any() or table.attrs["problems"]:
+        with contextlib.suppress(OSError):  # a read-only folder keeps it; each recording is checked
+            path.unlink(missing_ok=True)
+        return
+    rows = [(r.source, r.subject, r.session, r.task, r.output) for r in table.itertuples()]
+    record = {**state(recipe, content, inputs, selection, summary, rows),
+              "methods": table.attrs["methods"]}
+    with atomic_output(path) as staged:
+        staged.write_text(json.dumps(record, indent=1) + "\n", encoding="utf-8")
 
 
 _PARTS = {"band_change": "band-change summary (band_change.nc)",
@@ -461,8 +562,7 @@ def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         try:
-            fingerprint = file_fingerprint(source)
-            if not overwrite and _up_to_date(output, content, fingerprint):
+            if not overwrite and verdict(source, output, content) == "up to date":
                 status = "up to date"
                 described = mne.io.read_raw_fif(output, verbose=False)
                 text, change = _described(described, None, source, output, limits)
@@ -472,8 +572,7 @@ def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool
                 # everything is made in a staging folder; the previous output is
                 # replaced only when the recording's every part has succeeded
                 with atomic_outputs(output, output.with_suffix(".json")) as staged:
-                    text, change = _filtered_and_described(source, content, fingerprint,
-                                                           staged, limits)
+                    text, change = _filtered_and_described(source, content, staged, limits)
         except Exception as err:  # isolated: the other recordings go on
             status, error, written, text = ("failed", f"{source.name}: {type(err).__name__}: {err}",
                                             None, None)
@@ -483,19 +582,27 @@ def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool
             said], {"band_change": change, "methods": text}
 
 
-def _filtered_and_described(source: Path, content: dict, fingerprint: str, staged: tuple,
-                            limits: dict) -> tuple:
+def _filtered_and_described(source: Path, content: dict, staged: tuple, limits: dict) -> tuple:
     """Filter ``source`` into the staged (data, sidecar) pair; its methods
-    texts and band change (the staged files are what is described)."""
+    texts and band change (the staged data file is what is described). The
+    sidecar, which vouches for the data, is written last."""
     import mne
 
+    stamps, fingerprint = file_stamps(source), file_fingerprint(source)
     raw = read_whole(source, allow_short=limits["allow_short"])
     if _data_bytes(raw) <= limits["in_memory_bytes"]:
         raw.load_data(verbose=False)
-    filtered = _write_filtered(raw, content, source, fingerprint, *staged)
+    filtered = apply(raw, verbose=False, **recipe_from_content(content, source))
+    filtered.save(staged[0], overwrite=True, verbose=False)
     pair = (raw, filtered) if raw.preload else None
     described = filtered if pair else mne.io.read_raw_fif(staged[0], verbose=False)
-    return _described(described, pair, source, staged[0], limits)
+    text, change = _described(described, pair, source, staged[0], limits)
+    record = {"SoftwareFilters": bids_filters(filtered),
+              SIDECAR_KEY: {"recipe": content, "source": str(source),
+                            "source_fingerprint": fingerprint, "source_stamps": stamps,
+                            "output_stamp": stamp(staged[0]), "methods": list(text)}}
+    staged[1].write_text(json.dumps(record, indent=2) + "\n", encoding="utf-8")
+    return text, change
 
 
 def _described(described, pair, source: Path, output: Path, limits: dict) -> tuple:
@@ -612,18 +719,6 @@ def _data_bytes(raw) -> int:
     return 8 * len(raw.ch_names) * raw.n_times
 
 
-def _write_filtered(raw, content: dict, source: Path, fingerprint: str, data_path: Path,
-                    sidecar_path: Path):
-    """The filtered recording and its sidecar, written to the (staged) paths given."""
-    filtered = apply(raw, verbose=False, **recipe_from_content(content, source))
-    record = {"SoftwareFilters": bids_filters(filtered),
-              _SIDECAR_KEY: {"recipe": content, "source": str(source),
-                             "source_fingerprint": fingerprint}}
-    filtered.save(data_path, overwrite=True, verbose=False)
-    sidecar_path.write_text(json.dumps(record, indent=2) + "\n", encoding="utf-8")
-    return filtered
-
-
 def _remove_stale_staging(output: Path) -> None:
     """Staging folders a killed worker left for this output (its task is the
     only writer of the output, so none of them is in use)."""
@@ -690,41 +785,6 @@ def _study_methods(table, texts, out_dir: Path) -> str:
     with atomic_output(out_dir / "methods_full.txt") as staged:
         staged.write_text(paragraphs[1] + "\n", encoding="utf-8")
     return paragraphs[0]
-
-
-def _up_to_date(output: Path, content: dict, fingerprint: str) -> bool:
-    sidecar = output.with_suffix(".json")
-    if not (output.exists() and sidecar.exists()):
-        return False
-    try:
-        record = json.loads(sidecar.read_text(encoding="utf-8"))[_SIDECAR_KEY]
-    except (ValueError, KeyError, TypeError):
-        return False
-    return record.get("recipe") == content and record.get("source_fingerprint") == fingerprint
-
-
-def file_fingerprint(source: Path) -> str:
-    """XXH3-128 of the recording's file and its companions (same stem, same folder).
-
-    BrainVision and EEGLAB keep the data beside the header, so every file
-    named like the source counts.
-
-    >>> import tempfile
-    >>> folder = Path(tempfile.mkdtemp())
-    >>> _ = (folder / "a.vhdr").write_text("header"); _ = (folder / "a.eeg").write_text("data")
-    >>> before = file_fingerprint(folder / "a.vhdr")
-    >>> _ = (folder / "a.eeg").write_text("other data")
-    >>> file_fingerprint(folder / "a.vhdr") == before
-    False
-    """
-    h = xxhash.xxh3_128()
-    stem = source.name.split(".")[0]
-    for path in sorted(p for p in source.parent.glob(stem + ".*") if p.is_file()) or [source]:
-        h.update(path.name.encode())
-        with open(path, "rb") as stream:
-            while chunk := stream.read(_HASH_CHUNK):
-                h.update(chunk)
-    return "xxh3_128:" + h.hexdigest()
 
 
 def _filter_figure(content: dict, sources) -> tuple | None:
