@@ -55,7 +55,7 @@ _LOCAL_WORKERS = {
 
 def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=None, tasks=None,
               overwrite: bool = False, in_memory_mb: float = 1024.0, summary: bool = True,
-              raise_errors: bool = False, allow_short: bool = False, workers: int | None = None,
+              raise_errors: bool = False, workers: int | None = None, allow_short: bool = False,
               verbose=None):
     """Filter every recording of a study with one recipe, on a Dask cluster.
 
@@ -129,20 +129,6 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
         failure is recorded there and warned about, never raised unless
         ``raise_errors``, and never undoes a recording.
 
-    Notes
-    -----
-    Nothing is lost: each recording's filtered file, sidecar, methods text
-    and band change are made in a staging folder and moved into place
-    only when all of them succeeded, so a recording that fails leaves its
-    previous derivative byte-identical. A recording is up to date when its
-    sidecar holds the same recipe and its source files have the recorded
-    sizes and times (when only the times moved, their content hash
-    decides); this is decided before any cluster starts, and when nothing
-    changed since the last complete run (``.gainshape-study.json`` in
-    ``out_dir``) the call answers from the files alone. One run at a time
-    may write to ``out_dir``: a second one raises FileExistsError before
-    any work.
-
     Raises
     ------
     ValueError
@@ -159,6 +145,20 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
     See Also
     --------
     write_recipe, apply, bids_filters
+
+    Notes
+    -----
+    Nothing is lost: each recording's filtered file, sidecar, methods text
+    and band change are made in a staging folder and moved into place
+    only when all of them succeeded, so a recording that fails leaves its
+    previous derivative byte-identical. A recording is up to date when its
+    sidecar holds the same recipe and its source files have the recorded
+    sizes and times (when only the times moved, their content hash
+    decides); this is decided before any cluster starts, and when nothing
+    changed since the last complete run (``.gainshape-study.json`` in
+    ``out_dir``) the call answers from the files alone. One run at a time
+    may write to ``out_dir``: a second one raises FileExistsError before
+    any work.
 
     Examples
     --------
