@@ -419,3 +419,38 @@ def test_a_truncated_file_in_a_list_fails_as_truncated(tmp_path, client, make_ra
     assert list(table.status) == ["filtered", "failed"]
     assert "truncated or damaged input" in table.error.iloc[1], table.error.iloc[1]
     assert not (tmp_path / "out" / "cut_filtered_raw.fif").exists()
+
+
+def test_a_worker_killed_while_writing_keeps_the_previous_output(study, monkeypatch):
+    # the worker process dies (os._exit) after part of the victim's new file is staged
+    import dask
+
+    recipe, root, out = study
+    before, inputs = _sums(out), _sums(root)
+    real = study_module._filter_recording
+
+    def dies_while_writing(source, content, output, overwrite, limits):  # pickled by value
+        if VICTIM in str(source):
+            staging = output.parent / f".{output.name}.killed.partial"
+            staging.mkdir()
+            (staging / output.name).write_bytes(b"half a recording")
+            os._exit(1)
+        return real(source, content, output, overwrite, limits)
+
+    monkeypatch.setattr(study_module, "_filter_recording", dies_while_writing)
+    with dask.config.set({"distributed.scheduler.allowed-failures": 0}), \
+            distributed.LocalCluster(n_workers=1, threads_per_worker=1, processes=True,
+                                     dashboard_address=":0") as cluster, \
+            distributed.Client(cluster) as processes:
+        table = gs.run_study(recipe, root, out, client=processes, overwrite=True, verbose=False)
+    row = table[table.subject == "02"].iloc[0]
+    assert row.status == "failed" and "KilledWorker" in row.error
+    final = {k: v for k, v in _victim_files(_sums(out)).items() if ".partial" not in k}
+    assert final == _victim_files(before)
+    assert _sums(root) == inputs
+    monkeypatch.undo()
+    with distributed.Client(processes=False, n_workers=1, threads_per_worker=1,
+                            dashboard_address=None) as c:
+        again = gs.run_study(recipe, root, out, client=c, verbose=False)
+    assert list(again.status) == ["up to date"] * 3  # the kept output is still the right one
+    assert not list(out.rglob("*.partial"))  # and the dead worker's staging folder is gone

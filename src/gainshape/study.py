@@ -204,6 +204,8 @@ def _run_locked(content, found, outputs, out_dir, cluster: dict, overwrite, limi
     import pandas as pd
 
     _write_dataset_description(out_dir)
+    for output in outputs:  # what a killed worker of an earlier run left (this run holds the lock)
+        _remove_stale_staging(output)
     sources = [source for source, _, _ in found]
     results = [None if overwrite else _kept_result(s, o, content, out_dir, limits)
                for s, o in zip(sources, outputs)]
@@ -567,7 +569,6 @@ def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool
                 described = mne.io.read_raw_fif(output, verbose=False)
                 text, change = _described(described, None, source, output, limits)
             else:
-                _remove_stale_staging(output)
                 output.parent.mkdir(parents=True, exist_ok=True)
                 # everything is made in a staging folder; the previous output is
                 # replaced only when the recording's every part has succeeded
@@ -720,8 +721,8 @@ def _data_bytes(raw) -> int:
 
 
 def _remove_stale_staging(output: Path) -> None:
-    """Staging folders a killed worker left for this output (its task is the
-    only writer of the output, so none of them is in use)."""
+    """Staging folders a killed worker left for this output (the run holds
+    the folder's lock, so none of them is in use)."""
     for name in (output.name, output.with_suffix(".json").name):
         for stale in output.parent.glob(f".{name}.*.partial"):
             shutil.rmtree(stale, ignore_errors=True)
