@@ -122,6 +122,7 @@ def test_a_damaged_input_fails_and_its_previous_output_is_kept(study, client, na
     table = gs.run_study(recipe, root, out, client=client, verbose=False)
     row = table[table.subject == "02"].iloc[0]
     assert row.status == "failed" and said in row.error, row.error
+    assert row.error.startswith("previous output kept, from ") and row.output.is_file()
     assert list(table.status[table.subject != "02"]) == ["up to date"] * 2
     after = _sums(out)
     assert _victim_files(after) == _victim_files(before)  # byte-identical
@@ -226,6 +227,7 @@ def test_a_fault_while_filtering_keeps_the_previous_output(study, client, monkey
     monkeypatch.undo()
     row = table[table.subject == "02"].iloc[0]
     assert row.status == "failed" and said in row.error, row.error
+    assert row.error.startswith("previous output kept, from ") and row.output.is_file()
     assert _victim_files(_sums(out)) == _victim_files(before)
     assert _sums(root) == inputs
     assert not list(out.rglob("*.partial"))

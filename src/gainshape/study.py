@@ -112,7 +112,10 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
         "up to date" or "failed"), ``seconds``, ``worker_peak_mb`` (the
         worker process's peak resident memory so far), ``output`` (Path or
         None), ``error`` and ``warnings`` (what the filtering and the band
-        change warned about, one message per line, "" if nothing).
+        change warned about, one message per line, "" if nothing). A
+        failed recording whose previous derivative is kept has that file as
+        its ``output``, and its error starts "previous output kept, from
+        <date>".
         A recording whose worker died (after Dask's retries) is "failed"
         like any other; one whose output was written but whose row was lost
         with its worker is run again by Dask and then reads "up to date". ``table.attrs["band_change"]`` holds
@@ -521,7 +524,7 @@ def _gathered(connection, sources, task_arguments, show: bool) -> list:
         with tqdm(total=count, unit="recording", disable=not show) as bar:
             for future in distributed.as_completed([f for _, f in pending.values()]):
                 i, _ = pending.pop(future.key)
-                rows[i] = _task_result(future, sources[i])
+                rows[i] = _task_result(future, sources[i], outputs[i])
                 bar.update(1)
     except KeyboardInterrupt as err:  # what has not started does not start
         connection.cancel([f for _, f in pending.values()])
@@ -540,16 +543,26 @@ class Interrupted(KeyboardInterrupt):
         self.done, self.total = done, total
 
 
-def _task_result(future, source: Path) -> tuple:
+def _task_result(future, source: Path, output: Path) -> tuple:
     """The task's (row, extras), or a failed row if its worker died."""
     try:
         return future.result()
     except Exception as err:  # e.g. KilledWorker: the process died running it
-        error = f"{source.name}: {type(err).__name__}: {err}"
-        return [str(source), "failed", float("nan"), float("nan"), None, error, ""], {
+        written, error = _failure(source, output, err)
+        return [str(source), "failed", float("nan"), float("nan"), written, error, ""], {
             "band_change": None, "methods": None}
     finally:
         future.release()
+
+
+def _failure(source: Path, output: Path, err: Exception) -> tuple:
+    """(the output kept, or None; the error's words) of a failed recording:
+    its previous derivative, when there is one, is kept and said so."""
+    words = f"{source.name}: {type(err).__name__}: {err}"
+    if not (output.is_file() and output.with_suffix(".json").is_file()):
+        return None, words
+    when = time.strftime("%Y-%m-%d %H:%M:%S", time.localtime(output.stat().st_mtime))
+    return output, f"previous output kept, from {when}; {words}"
 
 
 def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool,
@@ -575,9 +588,8 @@ def _filter_recording(source: Path, content: dict, output: Path, overwrite: bool
                 with atomic_outputs(output, output.with_suffix(".json")) as staged:
                     text, change = _filtered_and_described(source, content, staged, limits)
         except Exception as err:  # isolated: the other recordings go on
-            status, error, written, text = ("failed", f"{source.name}: {type(err).__name__}: {err}",
-                                            None, None)
-            change = None
+            written, error = _failure(source, output, err)
+            status, text, change = "failed", None, None
     said = "\n".join(dict.fromkeys(str(w.message) for w in caught))
     return [str(source), status, time.perf_counter() - start, _peak_mb(), written, error,
             said], {"band_change": change, "methods": text}
