@@ -38,3 +38,16 @@ def rng():
 @pytest.fixture(scope="session")
 def make_raw():
     return simulated_raw
+
+
+@pytest.fixture
+def two_recordings(tmp_path):
+    """A low-pass recipe file and two 20 s FIF recordings in tmp_path."""
+    import gainshape as gs
+
+    paths = []
+    for i in range(2):
+        path = tmp_path / f"rec{i}_raw.fif"
+        simulated_raw(seconds=20.0, seed=i).save(path)
+        paths.append(path)
+    return gs.write_recipe(tmp_path / "filter.json", gs.lowpass(30.0), picks="eeg"), paths

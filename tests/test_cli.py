@@ -12,19 +12,8 @@ from gainshape.cli import main
 pytest.importorskip("distributed")
 
 
-@pytest.fixture
-def files(tmp_path, make_raw):
-    paths = []
-    for i in range(2):
-        path = tmp_path / f"rec{i}_raw.fif"
-        make_raw(seconds=20.0, seed=i).save(path)
-        paths.append(path)
-    recipe = gs.write_recipe(tmp_path / "filter.json", gs.lowpass(30.0), picks="eeg")
-    return recipe, paths
-
-
-def test_run_filters_every_file_and_exits_0(files, tmp_path, capsys):
-    recipe, paths = files
+def test_run_filters_every_file_and_exits_0(two_recordings, tmp_path, capsys):
+    recipe, paths = two_recordings
     code = main(["run", str(recipe), *map(str, paths), "--out", str(tmp_path / "out"),
                  "--workers", "1", "--quiet"])
     assert code == 0
@@ -38,16 +27,16 @@ def test_run_filters_every_file_and_exits_0(files, tmp_path, capsys):
         assert abs(out.get_data() - expected.get_data()).max() < 1e-12
 
 
-def test_run_exits_1_when_a_recording_fails(files, tmp_path):
-    recipe, paths = files
+def test_run_exits_1_when_a_recording_fails(two_recordings, tmp_path):
+    recipe, paths = two_recordings
     broken = tmp_path / "broken_raw.fif"
     broken.write_bytes(b"x" * 100)
     assert main(["run", str(recipe), str(paths[0]), str(broken), "--out", str(tmp_path / "o"),
                  "--workers", "1", "--quiet"]) == 1
 
 
-def test_describe_prints_the_realized_characteristics(files, capsys):
-    recipe, _ = files
+def test_describe_prints_the_realized_characteristics(two_recordings, capsys):
+    recipe, _ = two_recordings
     assert main(["describe", str(recipe), "--sfreq", "250"]) == 0
     printed = capsys.readouterr().out
     realized = gs.design(gs.lowpass(30.0), 250.0).summary()
@@ -55,8 +44,8 @@ def test_describe_prints_the_realized_characteristics(files, capsys):
         assert f"{label}: {value}" in printed
 
 
-def test_history_prints_steps_and_the_methods_paragraph(files, tmp_path, capsys):
-    _, paths = files
+def test_history_prints_steps_and_the_methods_paragraph(two_recordings, tmp_path, capsys):
+    _, paths = two_recordings
     filtered = gs.apply(mne.io.read_raw_fif(paths[0], preload=True), gs.lowpass(30.0))
     filtered.save(tmp_path / "f_raw.fif")
     assert main(["history", str(tmp_path / "f_raw.fif")]) == 0

@@ -29,18 +29,8 @@ def _run(*args, env=None, cwd=None):
                           env=env, cwd=cwd, timeout=300)
 
 
-@pytest.fixture
-def recordings(tmp_path, make_raw):
-    paths = []
-    for i in range(2):
-        path = tmp_path / f"rec{i}_raw.fif"
-        make_raw(seconds=20.0, seed=i).save(path)
-        paths.append(path)
-    return gs.write_recipe(tmp_path / "filter.json", gs.lowpass(30.0), picks="eeg"), paths
-
-
-def test_a_missing_input_exits_2_before_any_folder_or_cluster(recordings, tmp_path):
-    recipe, paths = recordings
+def test_a_missing_input_exits_2_before_any_folder_or_cluster(two_recordings, tmp_path):
+    recipe, paths = two_recordings
     done = _run("run", recipe, paths[0], tmp_path / "nonexist_dir", "--out", tmp_path / "o2")
     assert done.returncode == 2
     assert not (tmp_path / "o2").exists()
@@ -48,16 +38,16 @@ def test_a_missing_input_exits_2_before_any_folder_or_cluster(recordings, tmp_pa
     assert len(lines) == 1 and "nonexist_dir" in lines[0] and "Traceback" not in done.stderr
 
 
-def test_a_damaged_recipe_exits_2(recordings, tmp_path):
-    _, paths = recordings
+def test_a_damaged_recipe_exits_2(two_recordings, tmp_path):
+    _, paths = two_recordings
     bad = tmp_path / "bad.json"
     bad.write_text("{not json")
     done = _run("run", bad, paths[0], "--out", tmp_path / "o")
     assert done.returncode == 2 and not (tmp_path / "o").exists()
 
 
-def test_a_missing_extra_is_named_with_its_install_command_and_exits_2(recordings, tmp_path):
-    recipe, paths = recordings
+def test_a_missing_extra_is_named_with_its_install_command_and_exits_2(two_recordings, tmp_path):
+    recipe, paths = two_recordings
     hidden = tmp_path / "hide"
     (hidden / "distributed").mkdir(parents=True)  # an installed-looking package that cannot import
     (hidden / "distributed" / "__init__.py").write_text(
@@ -79,8 +69,8 @@ def test_history_of_a_file_it_cannot_read_exits_2_with_one_line(tmp_path):
         assert "cannot read" in done.stderr and "naming convention" not in done.stderr
 
 
-def test_done_exits_0_and_a_failed_recording_exits_1_with_empty_error_cells(recordings, tmp_path):
-    recipe, paths = recordings
+def test_done_exits_0_and_a_failed_recording_exits_1_with_empty_error_cells(two_recordings, tmp_path):
+    recipe, paths = two_recordings
     done = _run("run", recipe, *paths, "--out", tmp_path / "o", "--workers", "1", "--quiet")
     assert done.returncode == 0, done.stderr
     table = done.stdout.split("\nWarnings for")[0]
@@ -92,8 +82,8 @@ def test_done_exits_0_and_a_failed_recording_exits_1_with_empty_error_cells(reco
     assert done.returncode == 1 and "broken_raw.fif" in done.stdout
 
 
-def test_a_second_run_on_the_same_folder_exits_2_and_writes_nothing(recordings, tmp_path):
-    recipe, paths = recordings
+def test_a_second_run_on_the_same_folder_exits_2_and_writes_nothing(two_recordings, tmp_path):
+    recipe, paths = two_recordings
     out = tmp_path / "o"
     out.mkdir()
     import socket
