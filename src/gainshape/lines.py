@@ -91,8 +91,9 @@ def find_lines(inst, *, sfreq=None, resolution=None, freq_range=(1.0, None),
         Dimension ``line`` (by frequency): ``frequency`` (Hz, the
         interpolated peak of a tone or the middle of a wider line),
         ``height_db`` (the typical excess at the peak), ``width`` (Hz, full
-        width at half the excess power; a steady tone shows the window's
-        1.44 bins), ``cause`` ("mains", "mains harmonic",
+        width at half the highest bin's excess power, interpolated linearly
+        between bins: a steady tone reads 1.33 bins on a bin, 2.04 bins
+        midway between two), ``cause`` ("mains", "mains harmonic",
         "stimulus-locked", "harmonic" or "unexplained", assigned in that
         order: to the mains frequency ``info["line_freq"]`` states, or, when
         it is missing, the line found at 50 or 60 Hz; to the stimulus rate;

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.fft as sfft
 from scipy.optimize import brentq, minimize_scalar
+from scipy.signal import fftconvolve
 
 from .curves import requested_notches
 from .realize import _cepstral_minimum_phase
@@ -274,7 +275,7 @@ def characterize(curve, response, tol, exact, grid_deviation=None) -> Characteri
         stopband_attenuation_db=float(atten),
         max_deviation=deviation,
         edge_timing=timing,
-        group_delay=_group_delay(response),
+        group_delay=_group_delay(response, half_pow, realized[0] >= _HALF_POWER),
         length=response.kernel.size / sfreq,
     )
 
@@ -863,10 +864,35 @@ def _kind(edges, gain_dc, gain_nyq, hidden_notches=0, notched=()) -> str:
     return " + ".join(parts)
 
 
-def _group_delay(response) -> float:
-    """Gain-squared-weighted mean group delay (s) over the half-power pass band; 0 for zero phase."""
+def _group_delay(response, half_power, passes_at_zero: bool) -> float:
+    """Gain-squared-weighted mean group delay (s) over the half-power pass band; 0 for zero phase.
+
+    The mean is an exact integral: with kernel h, |H|^2 = sum_k r[k] cos(w k)
+    and group delay x |H|^2 = Re(G conj H) = sum_k c[k] cos(w k), where
+    r[k] = sum_n h[n + k] h[n], c[k] = sum_n (n + k) h[n + k] h[n] and G the
+    transform of n h[n]; each cosine is integrated in closed form between
+    the half-power crossings. (A sum on the FFT grid is off by up to a grid
+    step of the integrand at each band end: 0.2 % for a 0.1 Hz edge.)
+
+    >>> from gainshape.realize import KernelResponse
+    >>> r = KernelResponse(np.array([0.0, 0.0, 1.0]), 0, 100.0, causal=True)
+    >>> round(_group_delay(r, (), True), 12)  # a pure delay of 2 samples
+    0.02
+    """
     if not response.causal:
         return 0.0
-    weight = response.gain**2
-    passband = weight >= 0.5
-    return float(np.sum(response.group_delay()[passband] * weight[passband]) / np.sum(weight[passband]))
+    h = response.kernel
+    nyquist = response.sfreq / 2.0
+    ends = [0.0] * int(passes_at_zero) + [float(e) for e in half_power] + [nyquist]
+    intervals = [(a, b) for a, b in zip(ends[::2], ends[1::2]) if b > a]
+    if not intervals:  # nowhere at half power or above: no pass band to average over
+        return float("nan")
+    lags = np.arange(-(h.size - 1), h.size)
+    r = fftconvolve(h, h[::-1])
+    c = fftconvolve(np.arange(h.size) * h, h[::-1])
+    omega = 2 * np.pi * lags / response.sfreq
+    safe = np.where(lags == 0, 1.0, omega)
+    integral = sum(np.where(lags == 0, b - a, (np.sin(safe * b) - np.sin(safe * a)) / safe)
+                   for a, b in intervals)
+    samples = float(np.dot(c, integral) / np.dot(r, integral))
+    return (samples - response.offset) / response.sfreq
