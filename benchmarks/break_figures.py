@@ -61,6 +61,18 @@ breaks = [
  ("engine: kernel folded onto one sample less", "src/gainshape/engine.py", "    at = (np.arange(design.kernel.size) - design.offset + half) % period", "    at = (np.arange(design.kernel.size) - design.offset + half) % (period - 1)"),
  ("BIDS reduced rate x2", "src/gainshape/provenance.py", 'two.get("reduced_rate_hz"), 6)', '2 * two.get("reduced_rate_hz"), 6)'),
  ("history table roll-off x2", "src/gainshape/provenance.py", 'f"{slope:.1f}" for _, _, _, slope in passband if slope is not None', 'f"{2 * slope:.1f}" for _, _, _, slope in passband if slope is not None'),
+ ("group delay: averaged from 0 Hz (wrong range)", "src/gainshape/measure.py", "    intervals = [(a, b) for a, b in zip(ends[::2], ends[1::2]) if b > a]", "    intervals = [(0.0, b) for a, b in zip(ends[::2], ends[1::2]) if b > a]"),
+ ("group delay: in samples, not seconds (units)", "src/gainshape/measure.py", "    return (samples - response.offset) / response.sfreq", "    return samples - response.offset"),
+ ("BIDS: half-power of the half-amplitude field (swapped fields)", "src/gainshape/provenance.py", "            edges[f\"{name} half-power cutoff (Hz)\"] = _round_sig(half_power, 4)", "            edges[f\"{name} half-power cutoff (Hz)\"] = _round_sig(hz, 4)"),
+ ("summary: kernel samples one short (wrong count)", "src/gainshape/design.py", "(\"kernel length\", f\"{c.length:.4g} s ({self.kernel.size} samples)\"),", "(\"kernel length\", f\"{c.length:.4g} s ({self.kernel.size - 1} samples)\"),"),
+ ("study summary: labels shifted by one (misaligned labels)", "src/gainshape/study.py", "             for (row, extras), (_, _, entities) in zip(results, found)", "             for (row, extras), (_, _, entities) in zip(results, found[1:] + found[:1])"),
+ ("Epochs map: mean of dB, not of power (wrong level)", "src/gainshape/summaries.py", "    return (10 * np.log10(after / before)).transpose(\"channel\", \"band\").values", "    return ds.change_db.mean(\"epoch\").transpose(\"channel\", \"band\").values"),
+ ("line width: at a quarter of the peak (wrong level)", "src/gainshape/lines.py", "    half = top / 2.0", "    half = top / 4.0"),
+ ("editor: after spectrum of the unfiltered rows (swapped)", "src/gainshape/drawing.py", "        after_rows = filter_array(self.rows, realized)", "        after_rows = self.rows"),
+ ("audit pre-response: % of the filtered peak (wrong denominator)", "src/gainshape/audit.py", "        \"pre_response_pct\": 100 * before / peak,", "        \"pre_response_pct\": 100 * before / ys[j_peak],"),
+ ("audit pre-response: in % where data units are named (units)", "src/gainshape/audit.py", "        \"pre_response\": before,", "        \"pre_response\": 100 * before / peak,"),
+ ("failed row: previous output not named", "src/gainshape/study.py", "    return output, f\"previous output kept, from {when}; {words}\"", "    return None, words"),
+ ("truncation: marker check off by the whole file", "src/gainshape/study.py", "        if positions and max(positions) > raw.n_times:", "        if positions and max(positions) > 2 * raw.n_times:"),
 ]
 chosen = [b for b in breaks if not sys.argv[1:] or any(n in b[0] for n in sys.argv[1:])]
 caught = 0

@@ -1,6 +1,7 @@
 """A whole study: every recording filtered file to file on Dask, resumable."""
 
 import json
+from pathlib import Path
 
 import mne
 import numpy as np
@@ -178,8 +179,29 @@ def test_a_bids_root_is_filtered_into_derivatives_and_the_corrupt_file_is_report
     assert description["GeneratedBy"][0]["Name"] == "gainshape"
     sidecar = json.loads(table["output"].iloc[5].with_suffix(".json").read_text())
     assert sidecar["SoftwareFilters"] == gs.bids_filters(mne.io.read_raw_fif(table["output"].iloc[5]))
+    _summary_labels_follow_their_recordings(table)
     again = gs.run_study(bids_recipe, bids_root, out, client=client, verbose=False)
     assert list(again["status"]) == ["up to date"] * 2 + ["failed"] + ["up to date"] * 3
+    _summary_labels_follow_their_recordings(again)
+
+
+def _summary_labels_follow_their_recordings(table):
+    """Row by row: each recording of the band-change summary carries its own subject,
+    session and task (the BIDS names in its path), the failed one is absent, and its
+    change equals gs.band_change of its input and output."""
+    import re
+
+    summary = table.attrs["band_change"]
+    done = table[table["status"] != "failed"]
+    assert list(summary.recording.values) == list(done["source"])
+    for source, output in zip(done["source"], done["output"]):
+        one = summary.sel(recording=source)
+        named = re.search(r"sub-(\w+?)_ses-(\w+?)_task-(\w+?)_eeg", Path(source).name).groups()
+        assert (str(one.subject.values), str(one.session.values), str(one.task.values)) == named
+        expected = gs.band_change(mne.io.read_raw(source, preload=True),
+                                  mne.io.read_raw_fif(output, preload=True))
+        np.testing.assert_allclose(one.change_db.sel(channel=expected.channel).values,
+                                   expected.change_db.values, rtol=1e-6, atol=1e-9)
 
 
 def test_bids_entities_select_recordings(bids_root, bids_recipe, client, tmp_path):
