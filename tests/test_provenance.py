@@ -1,6 +1,7 @@
 """Provenance: records survive MNE workflows and become text and BIDS metadata."""
 
 import json
+import warnings
 
 import mne
 import numpy as np
@@ -297,3 +298,19 @@ def test_export_checks_its_writer_first_and_writes_whole_or_nothing(filtered, tm
     with pytest.raises(OSError, match="No space"):
         gs.export(out, tmp_path / "rec.vhdr")
     assert list(tmp_path.iterdir()) == []  # neither the data nor the sidecar
+
+
+def test_the_demo_filter_s_brief_paragraph_is_at_most_130_words():
+    # the demo's pipeline: the comb found in the simulated workshop recording times the
+    # band-pass; a journal gives a filter two or three sentences (Widmann, Schroeger &
+    # Maess 2015 list what they hold); 130 words is the project's bound for this filter
+    from gainshape.demo import demo_curve
+    from gainshape.simulate import simulate_workshop_recording
+
+    raw = simulate_workshop_recording()
+    comb = gs.suggest_notches(gs.find_lines(raw))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", gs.GainshapeWarning)
+        text = gs.methods_text(gs.apply(raw, demo_curve(comb), verbose=False))
+    assert len(text.split()) <= 130, (len(text.split()), text)
+    assert text.count("Step response:") == 1 and "undershoot" in text and "overshoot" in text

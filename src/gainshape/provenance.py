@@ -783,20 +783,19 @@ def _listed(items) -> str:
 
 
 def _brief_timing(timings) -> str:
-    """The pass-band edges' time behaviour in one sentence."""
+    """The pass-band edges' step responses in one short sentence."""
     parts = []
     for t in timings:
         if t["edge"] == "high-pass":
             if "undershoot_pct" in t:
-                under = ("showed no undershoot" if t["undershoot_pct"] < 0.01 else
-                         f"undershot by {t['undershoot_pct']:.2g} %")
-            else:
-                under = f"had an opposite-polarity excursion of {t['opposite_pct']:.3g} %"
-            parts.append(f"the high-pass step response {under} and settled to 1 % in "
-                         f"{seconds_words(t['settling_s'])}")
+                under = ("no undershoot" if t["undershoot_pct"] < 0.01 else
+                         f"undershoot {t['undershoot_pct']:.2g} %")
+            else:  # a record written before undershoot and pre-response were told apart
+                under = f"opposite-polarity excursion {t['opposite_pct']:.3g} %"
+            parts.append(f"high-pass {under}, settling to 1 % in {seconds_words(t['settling_s'])}")
         else:
-            parts.append(f"low-pass step overshoot was {t['overshoot_pct']:.2g} %")
-    return _sentence(parts)
+            parts.append(f"low-pass overshoot {t['overshoot_pct']:.2g} %")
+    return "Step response: " + "; ".join(parts) + "." if parts else ""
 
 
 def _two_rates_sentence(r) -> str:

@@ -174,7 +174,7 @@ def test_bids_and_methods_figures_equal_the_characteristics_and_a_measurement(ma
     text = gs.methods_text(out)
     assert f"cutoffs {high:.3g} and {low:.3g} Hz" in text
     assert f"roll-off {c.rolloff[0]:.3g} and {c.rolloff[-1]:.3g} dB/octave" in text
-    assert f"in {hp.settling_s:.3g} s" in text and f"overshoot was {lp.overshoot_pct:.2g} %" in text
+    assert f"in {hp.settling_s:.3g} s" in text and f"low-pass overshoot {lp.overshoot_pct:.2g} %" in text
     assert f"passband ripple {c.passband_ripple_db:.2g} dB" in text
     assert f"(-3 dB: {_crossing(f, 1 / np.sqrt(2), 0.3, 1.0):.3g} and " \
            f"{_crossing(f, 1 / np.sqrt(2), 20.0, 30.0):.3g} Hz)" in text
