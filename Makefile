@@ -5,7 +5,7 @@ VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 
-.PHONY: demo test test-browser docs venv clean
+.PHONY: demo test test-wheel test-browser docs venv clean
 
 venv: $(STAMP)
 
@@ -21,6 +21,21 @@ demo: $(STAMP)
 test: $(STAMP)
 	MPLBACKEND=Agg $(BIN)/python -m pytest -q
 	$(MAKE) docs
+	$(MAKE) test-wheel
+
+# the product as users install it: an sdist and a wheel built from it, the
+# wheel installed into a fresh environment that had MNE-Python first, and a
+# smoke script run from outside the source tree
+WHEEL_VENV := build/wheel-venv
+test-wheel: $(STAMP)
+	rm -rf build/dist $(WHEEL_VENV)
+	$(BIN)/python -m build --outdir build/dist . > /dev/null
+	$(PYTHON) -m venv $(WHEEL_VENV)
+	$(WHEEL_VENV)/bin/python -m pip install --quiet --upgrade pip
+	$(WHEEL_VENV)/bin/python -m pip install --quiet mne
+	$(WHEEL_VENV)/bin/python -m pip install --quiet build/dist/gainshape-*.whl
+	$(BIN)/python -m zipfile -l build/dist/gainshape-*.whl | awk '{print $$1}' | grep '^gainshape/'
+	cd $(WHEEL_VENV) && MPLBACKEND=Agg bin/python $(CURDIR)/tests/wheel/smoke.py
 
 # the curve editor and the study report in a real browser: Debian's Chromium (installed when
 # missing and apt-get can run), JupyterLab and Playwright; the screenshot is

@@ -19,7 +19,7 @@ _HOMES = {
     "methods_text": "provenance", "write_bids_filters": "provenance", "read_recipe": "recipes",
     "write_recipe": "recipes", "run_study": "study", "band_change": "summaries",
     "observed_gain": "summaries", "plot_audit": "viz", "plot_band_change": "viz",
-    "plot_lines": "viz", "plot_observed_gain": "viz",
+    "plot_lines": "viz", "plot_observed_gain": "viz", "about": "about",
 }
 
 
@@ -54,6 +54,7 @@ __all__ = [
     "FilterDesign",
     "GainCurve",
     "GainshapeWarning",
+    "about",
     "apply",
     "audit",
     "band_change",

@@ -83,6 +83,78 @@ def calibrate_into(data, block, idx, cals, mult) -> None:
     _mult_cal_one(data, block, idx, cals, mult)
 
 
+def data_of(inst) -> np.ndarray:
+    """The data array of a loaded Raw or Epochs itself (not a copy), which
+    gainshape reads and, with ``copy=False``, writes in place.
+
+    Relies on the ``_data`` attribute (checked with MNE 1.13; see tests/test_compat.py); MNE's
+    public ``get_data`` returns a copy, and ``apply_function`` runs a
+    function per channel, neither of which can fill a preallocated output.
+    """
+    return inst._data
+
+
+def copy_with_empty_data(inst):
+    """``inst.copy()`` whose data array is new and unfilled (the engine writes
+    every sample of it), sparing a copy of data about to be replaced.
+
+    Relies on the ``_data`` attribute (checked with MNE 1.13; see tests/test_compat.py): the data
+    array is left out of the copy through deepcopy's memo, so ``inst``
+    itself is never touched (safe under threads and interruption).
+    """
+    from copy import deepcopy
+
+    data = inst._data
+    out = deepcopy(inst, {id(data): np.empty(data.shape[:-1] + (0,), dtype=data.dtype)})
+    out._data = np.empty_like(data)
+    return out
+
+
+def reader_raw_class():
+    """A ``mne.io.BaseRaw`` subclass whose samples come from a reader object
+    (``reader.read(start, stop)`` -> all channels, calibrated).
+
+    Relies on MNE's reader protocol (checked with MNE 1.13; see tests/test_compat.py): the
+    ``_read_segment_file`` method every MNE file reader implements, the
+    ``raw_extras`` constructor argument that carries per-file state to it,
+    and :func:`calibrate_into`. There is no public way to make a Raw whose
+    samples are computed when read.
+    """
+    from mne.io import BaseRaw
+
+    class ReaderRaw(BaseRaw):
+        """A Raw read through ``raw_extras[0]["gainshape_reader"]``."""
+
+        def _read_segment_file(self, data, idx, fi, start, stop, cals, mult):
+            reader = self._raw_extras[fi]["gainshape_reader"]
+            calibrate_into(data, reader.read(start, stop), idx, cals, mult)
+
+    return ReaderRaw
+
+
+def reader_raw_arguments(reader, first_samp: int, last_samp: int) -> dict:
+    """The private constructor arguments of :func:`reader_raw_class`'s class
+    beside ``info`` (one "file", float64 samples, nothing preloaded)."""
+    return dict(preload=False, first_samps=(first_samp,), last_samps=(last_samp,),
+                filenames=(None,), raw_extras=({"gainshape_reader": reader},),
+                orig_format="double", dtype=np.float64, verbose=False)
+
+
+def shims_in_use() -> list:
+    """The private SciPy and MNE interfaces gainshape is using here, one line each."""
+    return [
+        "mne._fiff.pick._picks_to_idx (reading picks)",
+        "mne._fiff.pick.get_channel_type_constants (picks that are channel types)",
+        "Info._unlock (setting info['highpass'] and ['lowpass'] after filtering)",
+        "mne._fiff.utils._mult_cal_one (the lazily filtered Raw's reader)",
+        "BaseRaw._read_segment_file and raw_extras (the lazily filtered Raw)",
+        "Raw/Epochs ._data (filtering in place, copies without the old data)",
+        "scipy.fft._pocketfft.pypocketfft (transforms into given arrays)" if POCKETFFT
+        is not None else "scipy.fft public functions (the private pocketfft binding is "
+        "not usable here)",
+    ]
+
+
 def pocketfft_with_out():
     """scipy.fft's pocketfft binding if it writes into given arrays as expected, else None.
 

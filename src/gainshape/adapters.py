@@ -10,12 +10,11 @@ recordings.
 
 from __future__ import annotations
 
-from copy import deepcopy
 from dataclasses import dataclass
 
 import numpy as np
 
-from ._compat import channel_type_words, picks_to_indices, unlocked
+from ._compat import channel_type_words, copy_with_empty_data, data_of, picks_to_indices, unlocked
 from ._checks import check_bool, check_int, check_option, check_positive, warn
 from .curves import GainCurve
 from .design import FilterDesign, check_filter, check_kernel_request, design
@@ -167,15 +166,15 @@ def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
         inst = inst.copy() if copy else inst
         inst.load_data()
         copy = False  # the loaded copy is ours to filter in place
-    data = inst._data if kind != "evoked" else inst.data
+    data = data_of(inst) if kind != "evoked" else inst.data
     rows, segments = _rows_and_segments(inst, kind, idx, data)
     row_names = _row_names(names, kind, len(rows))
     flat = data.reshape(-1, data.shape[-1])
     if nan == "raise":  # before any work, on the input itself
         check_finite(flat, row_names, None if kind == "epochs" else inst.info["sfreq"],
                      picked=rows)
-    out = _copy_with_empty_data(inst) if copy else inst
-    out_data = out._data if kind != "evoked" else out.data
+    out = copy_with_empty_data(inst) if copy else inst
+    out_data = data_of(out) if kind != "evoked" else out.data
     before = fingerprint(flat, rows)
     seconds = None if segments is None else [
         [a / filt.sfreq, b / filt.sfreq] for a, b in segments]
@@ -232,19 +231,6 @@ def _require_sfreq(sfreq) -> float:
             "rate in Hz, e.g. sfreq=1000.0."
         )
     return check_positive("sfreq", sfreq)
-
-
-def _copy_with_empty_data(inst):
-    """``inst.copy()`` whose data array is new and unfilled (the engine writes
-    every sample of it), sparing a copy of data about to be replaced.
-
-    The data array is left out of the copy through deepcopy's memo, so
-    ``inst`` itself is never touched (safe under threads and interruption).
-    """
-    data = inst._data
-    out = deepcopy(inst, {id(data): np.empty(data.shape[:-1] + (0,), dtype=data.dtype)})
-    out._data = np.empty_like(data)
-    return out
 
 
 @dataclass(frozen=True)

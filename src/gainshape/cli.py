@@ -2,7 +2,9 @@
 
     gainshape run RECIPE.json INPUT... --out DIR [--scheduler ADDRESS] [--workers N]
     gainshape describe RECIPE.json --sfreq 500
-    gainshape history FILE
+    gainshape history FILE [--full]
+    gainshape about
+    gainshape --version
 
 Exit codes: 0 done; 1 some recordings failed (the others are done, the
 table says which); 2 bad usage or input, a missing extra, a file that
@@ -50,6 +52,9 @@ def _parser() -> argparse.ArgumentParser:
         prog="gainshape", description="Filter EEG recordings with gain-curve recipes.",
         epilog="Exit codes: 0 done; 1 some recordings failed (the others are done); "
                "2 bad usage or input (nothing was done).")
+    from . import __version__
+
+    parser.add_argument("--version", action="version", version=f"gainshape {__version__}")
     commands = parser.add_subparsers(required=True, metavar="COMMAND")
     run = commands.add_parser("run", help="filter recordings (a BIDS root or files) with a recipe",
                               description="Filter every recording with a recipe, one Dask task "
@@ -78,7 +83,17 @@ def _parser() -> argparse.ArgumentParser:
     history.add_argument("--full", action="store_true",
                          help="the full methods paragraph: every stop band and edge")
     history.set_defaults(command=_history, name="history")
+    about = commands.add_parser("about", help="versions, platform and optional features, "
+                                              "for a bug report")
+    about.set_defaults(command=_about, name="about")
     return parser
+
+
+def _about(args) -> int:
+    from .about import about
+
+    print(about())
+    return EXIT_DONE
 
 
 def _run(args) -> int:

@@ -12,9 +12,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import numpy as np
-from mne.io import BaseRaw
-
-from ._compat import calibrate_into, unlocked
+from ._compat import reader_raw_arguments, reader_raw_class, unlocked
 from ._files import atomic_output
 from .design import FilterDesign
 from .engine import (LOCAL_PAD_MODES, block_plan, check_finite, fft_workers,
@@ -46,7 +44,7 @@ def check_request(filt, kernel, pad, nan, copy):
             )
 
 
-class FilteredRaw(BaseRaw):
+class FilteredRaw(reader_raw_class()):
     """A Raw whose samples are filtered as they are read (see :func:`filtered_raw`);
     defined at module level so that it pickles like any Raw."""
 
@@ -61,10 +59,6 @@ class FilteredRaw(BaseRaw):
             written = super().save(staged, *args, **kwargs)
         return None if written is None else [fname.parent / Path(p).name for p in written]
 
-    def _read_segment_file(self, data, idx, fi, start, stop, cals, mult):
-        reader = self._raw_extras[fi]["gainshape_reader"]
-        calibrate_into(data, reader.read(start, stop), idx, cals, mult)
-
 
 def filtered_raw(raw, filt, idx, pad, n_jobs, segments):
     """A Raw that filters channels ``idx`` of ``raw`` (not loaded) block by
@@ -76,11 +70,7 @@ def filtered_raw(raw, filt, idx, pad, n_jobs, segments):
             ch["cal"], ch["range"] = 1.0, 1.0
 
     reader = _BlockReader(raw, filt, idx, pad, n_jobs, segments)
-    out = FilteredRaw(
-        info, preload=False, first_samps=(raw.first_samp,), last_samps=(raw.last_samp,),
-        filenames=(None,), raw_extras=({"gainshape_reader": reader},),
-        orig_format="double", dtype=np.float64, verbose=False,
-    )
+    out = FilteredRaw(info, **reader_raw_arguments(reader, raw.first_samp, raw.last_samp))
     out.set_annotations(raw.annotations)
     return out
 
