@@ -5,7 +5,7 @@ VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 
-.PHONY: demo test test-wheel test-browser docs venv clean
+.PHONY: demo test test-wheel test-oldest test-browser docs venv clean
 
 venv: $(STAMP)
 
@@ -22,6 +22,7 @@ test: $(STAMP)
 	MPLBACKEND=Agg $(BIN)/python -m pytest -q
 	$(MAKE) docs
 	$(MAKE) test-wheel
+	$(MAKE) test-oldest
 
 # the product as users install it: an sdist and a wheel built from it, the
 # wheel installed into a fresh environment that had MNE-Python first, and a
@@ -36,6 +37,23 @@ test-wheel: $(STAMP)
 	$(WHEEL_VENV)/bin/python -m pip install --quiet build/dist/gainshape-*.whl
 	$(BIN)/python -m zipfile -l build/dist/gainshape-*.whl | awk '{print $$1}' | grep '^gainshape/'
 	cd $(WHEEL_VENV) && MPLBACKEND=Agg bin/python $(CURDIR)/tests/wheel/smoke.py
+
+# the core suite with the lowest versions gainshape declares (tests/oldest.txt)
+OLDEST_VENV := build/oldest-venv
+CORE_TESTS := tests/test_curves.py tests/test_realize.py tests/test_rates.py tests/test_measure.py \
+	tests/test_design.py tests/test_engine.py tests/test_adapters.py tests/test_outofcore.py \
+	tests/test_provenance.py tests/test_recipes.py tests/test_summaries.py tests/test_spectra.py \
+	tests/test_lines.py tests/test_audit.py tests/test_compat.py tests/references
+test-oldest:
+	rm -rf $(OLDEST_VENV)
+	$(PYTHON) -m venv $(OLDEST_VENV)
+	$(OLDEST_VENV)/bin/python -m pip install --quiet --upgrade pip
+	$(OLDEST_VENV)/bin/python -m pip install --quiet -r tests/oldest.txt
+	$(OLDEST_VENV)/bin/python -m pip install --quiet --no-deps .
+	$(OLDEST_VENV)/bin/python -c "import numpy, scipy, mne, xarray, matplotlib; print('oldest:', \
+		'NumPy', numpy.__version__, 'SciPy', scipy.__version__, 'MNE', mne.__version__, \
+		'xarray', xarray.__version__, 'matplotlib', matplotlib.__version__)"
+	MPLBACKEND=Agg $(OLDEST_VENV)/bin/python -m pytest -q -p no:cacheprovider $(CORE_TESTS)
 
 # the curve editor and the study report in a real browser: Debian's Chromium (installed when
 # missing and apt-get can run), JupyterLab and Playwright; the screenshot is

@@ -1,6 +1,7 @@
 """Each private SciPy or MNE interface gainshape uses (gainshape._compat), tested by
 what it must do, so a change in MNE or SciPy fails here first. Passed with
-MNE-Python 1.13.2 and SciPy 1.17.1."""
+MNE-Python 1.6.0 / SciPy 1.11.4 (make test-oldest) and MNE-Python 1.13.2 /
+SciPy 1.17.1."""
 
 import numpy as np
 import pytest

@@ -1,22 +1,29 @@
 """Every use of another library's private interface, behind one small function each.
 
-Each function says what it relies on, the versions it was tested with
-(SciPy 1.17.1, MNE-Python 1.13.2) and what happens without it. Nothing
+Each function says what it relies on and what happens without it. All of
+them pass tests/test_compat.py with the oldest versions gainshape declares
+(SciPy 1.11.4, MNE-Python 1.6.0: ``make test-oldest``) and the newest
+(SciPy 1.17.1, MNE-Python 1.13.2). Nothing
 else in gainshape imports a private name of SciPy or MNE.
 """
 
 from __future__ import annotations
 
+import threading
+
 import numpy as np
 import scipy.fft as sfft
 
-__all__ = ["levels_to_caller_outside", "picks_to_indices", "channel_type_words", "unlocked", "calibrate_into",
-           "pocketfft_with_out", "forward_real", "backward_real"]
+__all__ = ["levels_to_caller_outside", "picks_to_indices", "channel_type_words", "unlocked",
+           "calibrate_into", "data_of", "copy_with_empty_data", "reader_raw_class",
+           "reader_raw_arguments", "shims_in_use", "pocketfft_with_out", "forward_real",
+           "backward_real"]
 
 # pocketfft's r2c/c2r take (input, axes, forward, normalization, output, workers);
 # normalization 0 is none, 2 is 1/n (the inverse of scipy.fft.irfft's default).
 _NO_SCALING, _SCALE_BY_N = 0, 2
 _LAST_AXIS = (1,)
+_PICKS_LOCK = threading.Lock()
 
 
 def levels_to_caller_outside(folder: str) -> int:
@@ -46,7 +53,8 @@ def picks_to_indices(info, picks, *, none="data", allow_empty=False) -> np.ndarr
     """
     from mne._fiff.pick import _picks_to_idx
 
-    return _picks_to_idx(info, picks, none=none, exclude=(), allow_empty=allow_empty)
+    with _PICKS_LOCK:  # MNE 1.6 checks an Info by writing to it: two threads reading one race
+        return _picks_to_idx(info, picks, none=none, exclude=(), allow_empty=allow_empty)
 
 
 def channel_type_words() -> set:
@@ -87,7 +95,7 @@ def data_of(inst) -> np.ndarray:
     """The data array of a loaded Raw or Epochs itself (not a copy), which
     gainshape reads and, with ``copy=False``, writes in place.
 
-    Relies on the ``_data`` attribute (checked with MNE 1.13; see tests/test_compat.py); MNE's
+    Relies on the ``_data`` attribute (MNE 1.6 and 1.13 checked by tests/test_compat.py); MNE's
     public ``get_data`` returns a copy, and ``apply_function`` runs a
     function per channel, neither of which can fill a preallocated output.
     """
@@ -98,7 +106,7 @@ def copy_with_empty_data(inst):
     """``inst.copy()`` whose data array is new and unfilled (the engine writes
     every sample of it), sparing a copy of data about to be replaced.
 
-    Relies on the ``_data`` attribute (checked with MNE 1.13; see tests/test_compat.py): the data
+    Relies on the ``_data`` attribute (MNE 1.6 and 1.13 checked by tests/test_compat.py): the data
     array is left out of the copy through deepcopy's memo, so ``inst``
     itself is never touched (safe under threads and interruption).
     """
@@ -114,7 +122,7 @@ def reader_raw_class():
     """A ``mne.io.BaseRaw`` subclass whose samples come from a reader object
     (``reader.read(start, stop)`` -> all channels, calibrated).
 
-    Relies on MNE's reader protocol (checked with MNE 1.13; see tests/test_compat.py): the
+    Relies on MNE's reader protocol (MNE 1.6 and 1.13 checked by tests/test_compat.py): the
     ``_read_segment_file`` method every MNE file reader implements, the
     ``raw_extras`` constructor argument that carries per-file state to it,
     and :func:`calibrate_into`. There is no public way to make a Raw whose
