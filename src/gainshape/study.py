@@ -755,7 +755,8 @@ def _band_change_by_groups(source: Path, output: Path, group_bytes: float):
     size = max(1, int(group_bytes // (2 * 8 * after.n_times)))
     groups = [names[i : i + size] for i in range(0, len(names), size)]
     parts = [band_change(before.copy().pick(group), after.copy().pick(group)) for group in groups]
-    return xr.concat(parts, dim="channel", combine_attrs="drop_conflicts")
+    return xr.concat(parts, dim="channel", combine_attrs="drop_conflicts",
+                     coords="different", compat="equals")
 
 
 def _study_band_change(results, found, out_dir: Path):
@@ -768,7 +769,8 @@ def _study_band_change(results, found, out_dir: Path):
              if extras["band_change"] is not None]
     if not parts:
         return None
-    summary = xr.concat(parts, dim="recording", join="outer", combine_attrs="drop_conflicts")
+    summary = xr.concat(parts, dim="recording", join="outer", combine_attrs="drop_conflicts",
+                        coords="different", compat="equals")
     with atomic_output(out_dir / "band_change.nc") as staged:
         summary.to_netcdf(staged)
     return summary
