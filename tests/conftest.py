@@ -51,3 +51,15 @@ def two_recordings(tmp_path):
         simulated_raw(seconds=20.0, seed=i).save(path)
         paths.append(path)
     return gs.write_recipe(tmp_path / "filter.json", gs.lowpass(30.0), picks="eeg"), paths
+
+
+@pytest.fixture
+def free_port():
+    """A function returning a TCP port free on 127.0.0.1 now."""
+    import socket
+
+    def port() -> int:
+        with socket.socket() as s:
+            s.bind(("127.0.0.1", 0))
+            return s.getsockname()[1]
+    return port

@@ -11,7 +11,6 @@ screenshot to ``docs/_static/`` (``GAINSHAPE_SCREENSHOTS``).
 import json
 import os
 import shutil
-import socket
 import subprocess
 import sys
 import time
@@ -38,14 +37,8 @@ CELLS = [
 ]
 
 
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
 @pytest.fixture
-def lab(tmp_path):
+def lab(tmp_path, free_port):
     """A JupyterLab server on localhost with its own settings, in tmp_path."""
     nb = nbformat.v4.new_notebook(cells=[nbformat.v4.new_code_cell(c) for c in CELLS])
     nb.metadata["kernelspec"] = {"name": "python3", "display_name": "Python 3",
@@ -57,7 +50,7 @@ def lab(tmp_path):
                            ("@jupyterlab/apputils-extension/notification", {"fetchNews": "false"})):
         (settings / plugin).parent.mkdir(parents=True, exist_ok=True)
         (settings / f"{plugin}.jupyterlab-settings").write_text(json.dumps(values))
-    port = _free_port()
+    port = free_port()
     env = {**os.environ, "JUPYTER_CONFIG_DIR": str(tmp_path / "config"),
            "JUPYTERLAB_SETTINGS_DIR": str(settings),
            "JUPYTER_RUNTIME_DIR": str(tmp_path / "runtime"), "MPLBACKEND": "Agg"}

@@ -5,9 +5,7 @@ separate nodes would be). Reference: gs.apply on each recording, to 1e-12.
 """
 
 import os
-import shutil
 import signal
-import socket
 import subprocess
 import sys
 import time
@@ -26,16 +24,10 @@ DASK = Path(sys.executable).parent / "dask"
 pytestmark = pytest.mark.skipif(not DASK.exists(), reason="the dask command is not installed")
 
 
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
 @pytest.fixture
-def cluster(tmp_path):
+def cluster(tmp_path, free_port):
     """(address, worker processes); every process is stopped and checked gone at the end."""
-    port = _free_port()
+    port = free_port()
     address = f"tcp://127.0.0.1:{port}"
     started = [subprocess.Popen([str(DASK), "scheduler", "--host", "127.0.0.1", "--port",
                                  str(port), "--no-dashboard"], cwd=tmp_path,
