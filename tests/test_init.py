@@ -83,7 +83,8 @@ BORROWED_PARAMETERS = {"phase", "filter_length", "l_freq", "h_freq", "trans_band
                        "l_trans_bandwidth", "h_trans_bandwidth", "fir_window", "fir_design",
                        "iir_params"}
 BORROWED_STRINGS = ("zero-double", "Invalid value for the", "Allowed values are",
-                    "firwin", "length='auto'", 'length="auto"')
+                    "firwin", "length='auto'", 'length="auto"', "but got",
+                    "must be an instance of")
 
 
 def _public_callables():
@@ -117,8 +118,12 @@ def test_source_strings_hold_no_borrowed_option_or_message():
     from pathlib import Path
 
     src = Path(gs.__file__).parent
-    strings = [node.value for path in src.glob("*.py") for node in ast.walk(ast.parse(path.read_text()))
+    nodes = [node for path in src.glob("*.py") for node in ast.walk(ast.parse(path.read_text()))]
+    strings = [node.value for node in nodes
                if isinstance(node, ast.Constant) and isinstance(node.value, str)]
+    # an f-string's pieces read as one text, its fields as {} ("..., but " f"got {x}")
+    strings += ["".join(v.value if isinstance(v, ast.Constant) else "{}" for v in node.values)
+                for node in nodes if isinstance(node, ast.JoinedStr)]
     assert len(strings) > 100
     for text in strings:
         for borrowed in BORROWED_STRINGS:

@@ -266,9 +266,9 @@ def as_arrays(inst, *, sfreq=None, name="inst") -> Signals:
         sfreq = _require_sfreq(sfreq)
         if inst.ndim not in (1, 2) or inst.dtype.kind != "f" or 0 in inst.shape:
             raise ValueError(
-                f"The '{name}' parameter must be a 1-D or 2-D (channels x times) floating-point "
-                "array with at least one channel and one sample, but got shape "
-                f"{inst.shape} and dtype {inst.dtype}."
+                f"The '{name}' parameter takes a 1-D or 2-D (channels x times) floating-point "
+                "array with at least one channel and one sample; one of shape "
+                f"{inst.shape} and dtype {inst.dtype} was given."
             )
         data = np.atleast_2d(inst)
         names = [str(i) for i in range(data.shape[0])]
@@ -410,8 +410,8 @@ def _check_steps(steps) -> None:
         isinstance(s, dict) and {"design", "application"} <= set(s) for s in steps
     ):
         raise TypeError(
-            "The 'steps' parameter must be a list of recorded steps, e.g. "
-            f"gs.history(filtered), but got {type(steps).__name__}; call "
+            "The 'steps' parameter takes a list of recorded steps, e.g. "
+            f"gs.history(filtered); a {type(steps).__name__} was given. Call "
             "replay(steps, unfiltered_data)."
         )
 
@@ -436,8 +436,8 @@ def _array_picks(picks, n_ch) -> np.ndarray:
         rows = np.arange(n_ch)[picks]
     except (IndexError, TypeError):
         raise ValueError(
-            f"The 'picks' parameter must index the array's {n_ch} rows along its "
-            f"second-to-last axis (integers, a slice or a boolean mask), but got {picks!r}."
+            f"The 'picks' parameter takes an index of the array's {n_ch} rows along its "
+            f"second-to-last axis (integers, a slice or a boolean mask); {picks!r} was given."
         ) from None
     return _distinct_nonempty(np.atleast_1d(rows), picks, lambda i: f"row {i}")
 

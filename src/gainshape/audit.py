@@ -153,9 +153,9 @@ def _components(filt, sfreq, waveform):
     signals = as_arrays(waveform, sfreq=sfreq, name="waveform")
     if signals.kind == "epochs" or (signals.kind == "array" and waveform.ndim != 1):
         raise ValueError(
-            "The 'waveform' parameter must be an Evoked or a 1-D array (one waveform), but "
-            f"got {'Epochs' if signals.kind == 'epochs' else f'shape {waveform.shape}'}; "
-            "average epochs first, or pass one row."
+            "The 'waveform' parameter takes an Evoked or a 1-D array (one waveform); "
+            f"{'Epochs were' if signals.kind == 'epochs' else f'an array of shape {waveform.shape} was'} "
+            "given. Average epochs first, or pass one row."
         )
     if not np.abs(signals.data).max() > 0:
         raise ValueError(

@@ -533,19 +533,19 @@ def notch(
     width = check_positive("width", width)
     if width >= 2 * freq:
         raise ValueError(
-            f"The 'width' parameter must be below twice 'freq' ({2 * freq:g} Hz) "
-            f"so the lower half-amplitude point stays above 0 Hz, but got {width:g}."
+            f"The 'width' parameter takes a width below twice 'freq' ({2 * freq:g} Hz), so "
+            f"the lower half-amplitude point stays above 0 Hz; {width:g} was given."
         )
     harmonics = check_int("harmonics", harmonics, minimum=1)
     if harmonics > _MAX_HARMONICS:
         raise ValueError(
-            f"The 'harmonics' parameter must be at most {_MAX_HARMONICS}, but got "
-            f"{harmonics}; harmonics at or above Nyquist are dropped at design anyway."
+            f"The 'harmonics' parameter takes at most {_MAX_HARMONICS}; {harmonics} was "
+            "given (harmonics at or above Nyquist are dropped at design anyway)."
         )
     if harmonics > 1 and width >= freq:
         raise ValueError(
-            f"The 'width' parameter must be below 'freq' ({freq:g} Hz) when there are "
-            f"harmonics, so neighbouring notches stay apart, but got {width:g} Hz; for "
+            f"The 'width' parameter takes a width below 'freq' ({freq:g} Hz) when there are "
+            f"harmonics, so neighbouring notches stay apart; {width:g} Hz was given. For "
             "one wide stop band use gainshape.bandstop."
         )
     rolloff = check_positive("rolloff", rolloff)
@@ -770,8 +770,8 @@ def _fit_below(r: dict, nyquist: float, notes: list) -> dict:
     for key in ("cutoff", "low", "high", "freq"):
         if key in r and r[key] >= nyquist:
             raise ValueError(
-                f"The '{key}' of the {_describe(r)} curve must be below the "
-                f"Nyquist frequency ({nyquist:g} Hz), but got {r[key]:g} Hz."
+                f"The '{key}' of the {_describe(r)} curve has to lie below the "
+                f"Nyquist frequency ({nyquist:g} Hz); {r[key]:g} Hz was given."
             )
     if r["kind"] == "notch":
         kept = int(min(r["harmonics"], np.ceil(nyquist / r["freq"]) - 1))
@@ -802,8 +802,8 @@ def _check_band(low, high):
     high = check_positive("high", high)
     if high <= low:
         raise ValueError(
-            f"The 'high' parameter must be above 'low' ({low:g} Hz), but got "
-            f"{high:g} Hz."
+            f"The 'high' parameter takes a frequency above 'low' ({low:g} Hz); "
+            f"{high:g} Hz was given."
         )
     return low, high
 
@@ -813,29 +813,30 @@ def _validated_points(freqs, gains, freq_scale, gain_scale):
     g = _as_1d_float("gains", gains)
     if f.size != g.size:
         raise ValueError(
-            f"The 'freqs' and 'gains' parameters must have equal lengths, but "
-            f"got {f.size} and {g.size}."
+            f"The 'freqs' and 'gains' parameters take sequences of equal lengths; "
+            f"{f.size} and {g.size} values were given."
         )
     if f.size < 2:
-        raise ValueError(f"A curve needs at least 2 points, but got {f.size}.")
+        raise ValueError(f"A curve needs at least 2 points; {f.size} was given.")
     if not np.all(np.isfinite(f)):
-        raise ValueError(f"The 'freqs' parameter must be finite, but got {f.tolist()}.")
+        raise ValueError(f"The 'freqs' parameter takes finite numbers; {f.tolist()} was given.")
     if np.any(np.diff(f) <= 0):
         raise ValueError(
-            f"The 'freqs' parameter must be strictly increasing, but got {f.tolist()}."
+            f"The 'freqs' parameter takes strictly increasing frequencies; {f.tolist()} was "
+            "given."
         )
     if freq_scale == "log" and f[0] <= 0:
         raise ValueError(
-            "The 'freqs' parameter must be > 0 with freq_scale='log', but got "
-            f"{f[0]:g} Hz as its first point."
+            "The 'freqs' parameter takes frequencies > 0 with freq_scale='log'; its first "
+            f"point was {f[0]:g} Hz."
         )
     if f[0] < 0:
-        raise ValueError(f"The 'freqs' parameter must be >= 0, but got {f[0]:g} Hz.")
+        raise ValueError(f"The 'freqs' parameter takes frequencies >= 0; {f[0]:g} Hz was given.")
     if not np.all(np.isfinite(g)):
-        raise ValueError(f"The 'gains' parameter must be finite, but got {g.tolist()}.")
+        raise ValueError(f"The 'gains' parameter takes finite numbers; {g.tolist()} was given.")
     if gain_scale == "linear" and np.any(g < 0):
         raise ValueError(
-            f"The 'gains' parameter must be >= 0 (linear gain), but got {g.tolist()}."
+            f"The 'gains' parameter takes gains >= 0 (linear gain); {g.tolist()} was given."
         )
     top = g.max() if gain_scale == "linear" else 10 ** (g.max() / 20)
     if top > 1:
@@ -848,11 +849,12 @@ def _as_1d_float(name, values):
         arr = np.asarray(values, dtype=float)
     except (TypeError, ValueError):
         raise TypeError(
-            f"The '{name}' parameter must be a 1-D sequence of numbers, but got "
-            f"{values!r}."
+            f"The '{name}' parameter takes a 1-D sequence of numbers; {values!r} was "
+            "given."
         ) from None
     if arr.ndim != 1:
         raise ValueError(
-            f"The '{name}' parameter must be 1-D, but got shape {arr.shape}."
+            f"The '{name}' parameter takes a 1-D sequence; one of shape {arr.shape} was "
+            "given."
         )
     return arr

@@ -29,10 +29,10 @@ def check_request(filt, kernel, pad, nan, copy):
     problems = [
         (exact, "kernel='exact' applies the gain on the whole record's grid and needs "
                 "the record in memory; use kernel='shortest' or a length in seconds"),
-        (pad not in LOCAL_PAD_MODES, f"the 'pad' parameter must be one of "
-                                     f"{', '.join(repr(m) for m in LOCAL_PAD_MODES)}, "
-                                     f"but got {pad!r}"),
-        (nan != "raise", f"the 'nan' parameter must be 'raise', but got {nan!r}"),
+        (pad not in LOCAL_PAD_MODES, f"the 'pad' parameter takes "
+                                     f"{', '.join(repr(m) for m in LOCAL_PAD_MODES)} here; "
+                                     f"{pad!r} was given"),
+        (nan != "raise", f"the 'nan' parameter takes only 'raise' here; {nan!r} was given"),
         (not copy, "the 'copy' parameter is False, but a file cannot be filtered in "
                    "place; leave copy=True"),
     ]

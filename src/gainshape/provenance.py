@@ -445,8 +445,8 @@ def write_bids_filters(bids_path, inst) -> None:
         ) from None
     if not isinstance(bids_path, BIDSPath):
         raise TypeError(
-            "The 'bids_path' parameter must be an mne_bids.BIDSPath of the recording, but "
-            f"got {type(bids_path).__name__} ({bids_path!r}); e.g. BIDSPath(subject='01', "
+            "The 'bids_path' parameter takes an mne_bids.BIDSPath of the recording; "
+            f"{type(bids_path).__name__} ({bids_path!r}) was given. E.g. BIDSPath(subject='01', "
             "task='rest', datatype='eeg', root=...)."
         )
     filters = bids_filters(inst)
@@ -500,8 +500,8 @@ def export(inst, fname, *, overwrite: bool = False, **export_options) -> list:
 
     if not isinstance(inst, mne.io.BaseRaw):
         raise TypeError(
-            "The 'inst' parameter must be an mne.io.Raw (export epochs and evoked data "
-            f"through MNE and write gs.history yourself), but got {type(inst).__name__}."
+            "The 'inst' parameter takes an mne.io.Raw (export epochs and evoked data "
+            f"through MNE and write gs.history yourself); a {type(inst).__name__} was given."
         )
     fname = Path(fname)
     sidecar = fname.with_name(fname.stem + ".gainshape.json")

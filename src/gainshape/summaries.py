@@ -253,8 +253,8 @@ def _bands(bands, signals, after, lines=None) -> tuple[dict, str]:
         bands, source = {**bands, **_line_bands(lines)}, "the lines found by find_lines"
     if not isinstance(bands, dict) or not bands:
         raise TypeError(
-            "The 'bands' parameter must be a dict of name -> (low, high) in Hz, "
-            f"but got {bands!r}."
+            "The 'bands' parameter takes a dict of name -> (low, high) in Hz; "
+            f"{bands!r} was given."
         )
     nyquist = signals.sfreq / 2.0
     checked = {}
@@ -263,12 +263,12 @@ def _bands(bands, signals, after, lines=None) -> tuple[dict, str]:
             low, high = (float(v) for v in edges)
         except (TypeError, ValueError):
             raise TypeError(
-                f"Band {name!r} must be a (low, high) pair of numbers in Hz, but got {edges!r}."
+                f"Band {name!r} takes a (low, high) pair of numbers in Hz; {edges!r} was given."
             ) from None
         if not 0 <= low < high <= nyquist:
             raise ValueError(
-                f"Band {name!r} must satisfy 0 <= low < high <= Nyquist ({nyquist:g} Hz), "
-                f"but got ({low:g}, {high:g})."
+                f"Band {name!r} needs 0 <= low < high <= Nyquist ({nyquist:g} Hz); "
+                f"({low:g}, {high:g}) was given."
             )
         checked[str(name)] = (low, high)
     return checked, source

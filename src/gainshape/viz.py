@@ -616,8 +616,8 @@ def _check_result(value, name, needed, made_by):
     """TypeError naming the parameter unless ``value`` has the ``needed`` parts."""
     if not all(hasattr(value, part) for part in needed):
         raise TypeError(
-            f"The '{name}' parameter must be the result of {made_by}, but got "
-            f"{type(value).__name__}."
+            f"The '{name}' parameter takes the result of {made_by}; a "
+            f"{type(value).__name__} was given."
         )
 
 
