@@ -33,7 +33,7 @@ def test_warning_class_is_userwarning():
 # The layers of docs/architecture.md, lowest first; a module may import (at module level)
 # only modules before it. Deferred imports inside functions are the documented
 # exceptions (design -> viz for FilterDesign.plot, adapters -> outofcore).
-LAYERS = ["_compat", "_checks", "_files", "_stamps", "_spectra", "curves", "realize", "rates", "measure", "design", "engine", "recipes", "provenance", "adapters", "outofcore",
+LAYERS = ["_compat", "_checks", "_files", "_stamps", "_spectra", "curves", "realize", "rates", "measure", "lengths", "design", "engine", "recipes", "provenance", "adapters", "outofcore",
           "summaries", "lines", "audit", "viz", "drawing", "study", "about", "cli", "simulate", "demo"]
 MNE_AWARE = {"_compat", "adapters", "outofcore", "provenance", "study", "cli", "simulate", "demo"}  # provenance: version, mne-bids
 

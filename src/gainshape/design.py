@@ -19,6 +19,7 @@ import scipy.fft as sfft
 
 from ._checks import check_bool, check_positive, warn
 from .curves import GainCurve
+from .lengths import long_kernel_cause
 from .measure import (Characteristics, characterize, db_floor, hz_range, max_deviation, passband_edges,
                       removed_bands, stop_band_words, timing_words)
 from .rates import TwoRates, two_rates
@@ -497,9 +498,11 @@ def _realized(curve, sfreq, causal, kernel_request, tolerance) -> tuple:
             f"within {chars.max_deviation:.3g} (tolerance {tolerance:g}); {fix}"
         )
     if chars.length > _LONG_KERNEL_SECONDS:
-        notes += (f"the kernel is {chars.length:.0f} s long (over {_LONG_KERNEL_SECONDS:g} s): "
-                  "records shorter than a few times that are mostly padding where it reaches; "
-                  "a gentler or higher low-frequency edge shortens it",)
+        cause = long_kernel_cause(curve, chars, sfreq)
+        why = f", because of {cause.what}" if cause else ""
+        notes += (f"the kernel is {chars.length:.0f} s long (over {_LONG_KERNEL_SECONDS:g} s)"
+                  f"{why}: records shorter than a few times that are mostly padding where it "
+                  f"reaches; {cause.remedy if cause else 'a gentler request shortens it'}",)
     realized = FilterDesign(curve, sfreq, causal, kernel_request, tolerance, taps, offset, chars,
                             notes, rates)
     return realized, tuple(said)

@@ -33,6 +33,7 @@ from .adapters import as_arrays
 from .curves import GainCurve, bandpass, bandstop, highpass, lowpass, notch
 from .design import FilterDesign, design
 from .engine import filter_array
+from .lengths import long_kernel_cause
 from .recipes import write_recipe
 from .viz import outer_envelope_db
 
@@ -274,6 +275,7 @@ class GainEditor(anywidget.AnyWidget):
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")
             realized, refusal = self._realized(_curve_of(points))
+            refusal = " ".join(filter(None, [refusal, _growth(self._design, realized)]))
             view = editor_view(realized, self.fmax)
             if self._preview is not None:
                 view["preview"] = self._preview.view(realized)
@@ -301,6 +303,21 @@ class GainEditor(anywidget.AnyWidget):
 
     def _acknowledge(self, request):
         self.view = {**self.view, "answer": request.get("serial")}
+
+
+_GROWTH = 4.0  # an edit that makes the kernel this many times longer says so
+
+
+def _growth(before, after) -> str:
+    """What an edit cost in kernel length, when it made the kernel over
+    ``_GROWTH`` times longer, with the feature that makes it long ("" otherwise)."""
+    if before is None or after.characteristics.length <= _GROWTH * before.characteristics.length:
+        return ""
+    cause = long_kernel_cause(after.curve, after.characteristics, after.sfreq)
+    why = f", because of {cause.what}; {cause.remedy}" if cause else ""
+    return (f"This edit made the kernel {after.characteristics.length / before.characteristics.length:.0f}"
+            f" times longer, from {before.characteristics.length:.3g} s to "
+            f"{after.characteristics.length:.3g} s{why}.")
 
 
 class _Refused(ValueError):
