@@ -161,8 +161,11 @@ def test_save_recipe_writes_a_recipe_that_reads_back(editor, tmp_path):
     editor.edit({"do": "save", "path": str(tmp_path / "drawn.json")})
     recipe = gs.read_recipe(tmp_path / "drawn.json")
     assert recipe["filt"] == editor.curve and "saved" in editor.message
+    assert str(tmp_path / "drawn.json") in editor.message and editor.message_kind == "done"
     editor.edit({"do": "save", "path": str(tmp_path / "missing" / "drawn.json")})
-    assert editor.message.startswith("Not saved")
+    assert editor.message.startswith("Not saved") and editor.message_kind == "warning"
+    editor.drag(1, -5.0, 2.0)  # clamped: a warning again
+    assert editor.message and editor.message_kind == "warning"
 
 
 def test_state_is_kept_for_the_notebook(editor):
@@ -199,8 +202,9 @@ def test_preview_shows_the_average_and_spectrum_before_and_after():
     np.testing.assert_allclose(preview["wave_after"]["values"], after, rtol=1e-6, atol=1e-13)
     # the spectrum before is scipy.signal.welch's (one Hann window per epoch), averaged
     f, p = welch(epochs.get_data(picks="Pz")[:, 0], fs=250.0, nperseg=250)
-    np.testing.assert_allclose(preview["before_db"], 10 * np.log10(p.mean(axis=0)[f > 0]),
-                               atol=2e-4)  # the page gets 7 significant digits
+    # in dB re 1 µV²/Hz (volts squared times 1e12); the page gets 7 significant digits
+    np.testing.assert_allclose(preview["before_db"], 10 * np.log10(1e12 * p.mean(axis=0)[f > 0]),
+                               atol=2e-4)
     editor.edit({"do": "channel", "channel": "Cz"})
     assert editor.view["preview"]["channel"] == "Cz"
     editor.edit({"do": "channel", "channel": "Fz"})
@@ -215,3 +219,14 @@ def test_draw_refuses_bad_arguments():
     with pytest.raises(ValueError, match="'tolerance'"):
         gs.draw(sfreq=100.0, tolerance=2.0)
     assert isinstance(gs.draw(sfreq=100.0), GainEditor)
+
+
+def test_the_padding_note_for_epochs_names_them_with_their_own_times(make_raw):
+    # epochs from -0.2 to 0.8 s: the note speaks of each epoch and its own times, once
+    raw = make_raw(sfreq=250.0, seconds=40.0)
+    epochs = mne.Epochs(raw, mne.make_fixed_length_events(raw, duration=1.0), tmin=-0.2,
+                        tmax=0.8, baseline=None, preload=True, verbose=False)
+    editor = gs.draw(gs.highpass(0.3), data=epochs, channel="Cz")
+    message = editor.message
+    assert message.count("Each epoch (-0.2 to 0.8 s)") == 1, message
+    assert "0.000-1.00" not in message

@@ -157,7 +157,7 @@ function render({ model, el }) {
     }
     draw();
   });
-  for (const name of ["points", "selected", "scale", "message", "code", "channel"]) model.on("change:" + name, draw);
+  for (const name of ["points", "selected", "scale", "message", "message_kind", "code", "channel"]) model.on("change:" + name, draw);
 
   const points = () => model.get("points");
   const gainToY = (g) => (model.get("scale") === "dB" ? toDb(g) : g);
@@ -229,7 +229,7 @@ function render({ model, el }) {
     const all = preview.before_db.concat(preview.after_db);
     const top = Math.max(...all), low = Math.max(Math.min(...all), top - 120);
     const sp = makePanel(spec, [62, 22, 385, 140], { min: preview.freqs[0], max: preview.freqs[preview.freqs.length - 1], log: true },
-      { min: low - 3, max: top + 3 }, { x: "frequency (Hz)", y: "power (dB)", yCount: 4 });
+      { min: low - 3, max: top + 3 }, { x: "frequency (Hz)", y: preview.spectrum_label || "power (dB)", yCount: 4 });
     path(sp, preview.freqs, preview.before_db, { stroke: COLOR.before, "stroke-width": 1.3, "stroke-dasharray": "5 3" });
     path(sp, preview.freqs, preview.after_db, { stroke: COLOR.after, "stroke-width": 1.5 });
     node("text", { x: 62, y: 14, class: "gs-title" }, spec).textContent = "spectrum of " + preview.channel;
@@ -271,6 +271,7 @@ function render({ model, el }) {
     if (p && document.activeElement !== gainInput) gainInput.value = p[1];
     status.textContent = model.get("message");
     status.classList.toggle("gs-has-message", !!model.get("message"));
+    status.classList.toggle("gs-done", model.get("message_kind") === "done");
     codeBox.textContent = model.get("code");
     scaleButtons.forEach((b) => b.setAttribute("aria-pressed", String(b.dataset.scale === model.get("scale"))));
     if (document.activeElement !== pathInput) pathInput.value = model.get("recipe_path");

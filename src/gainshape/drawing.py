@@ -32,7 +32,7 @@ from ._spectra import welch_density
 from .adapters import as_arrays
 from .curves import GainCurve, bandpass, bandstop, highpass, lowpass, notch
 from .design import FilterDesign, design
-from .engine import filter_array
+from .engine import SegmentWords, filter_array
 from .lengths import long_kernel_cause
 from .recipes import write_recipe
 from .viz import outer_envelope_db
@@ -159,6 +159,7 @@ class GainEditor(anywidget.AnyWidget):
     selected = traitlets.Int(0).tag(sync=True)
     scale = traitlets.Enum(["gain", "dB"], "gain").tag(sync=True)
     message = traitlets.Unicode("").tag(sync=True)
+    message_kind = traitlets.Unicode("warning").tag(sync=True)  # "done" (a success) or "warning"
     view = traitlets.Dict().tag(sync=True)
     code = traitlets.Unicode("").tag(sync=True)
     recipe_path = traitlets.Unicode("filter_recipe.json").tag(sync=True)
@@ -206,7 +207,7 @@ class GainEditor(anywidget.AnyWidget):
         (:func:`gainshape.write_recipe`), whole or not at all."""
         target = Path(path if path is not None else self.recipe_path)
         written = write_recipe(target, self.curve, causal=self._causal, tolerance=self._tolerance)
-        self.message = f"Recipe saved to {written}."
+        self.message, self.message_kind = f"Recipe saved to {written}.", "done"
         return written
 
     # -- edits (what the page's gestures send; callable from Python too) --------------
@@ -260,10 +261,10 @@ class GainEditor(anywidget.AnyWidget):
             try:
                 self.save_recipe()
             except (OSError, ValueError) as err:
-                self.message = f"Not saved: {err}"
+                self.message, self.message_kind = f"Not saved: {err}", "warning"
             self._acknowledge(request)
         else:
-            self.message = f"Unknown edit {what!r}."
+            self.message, self.message_kind = f"Unknown edit {what!r}.", "warning"
             self._acknowledge(request)
 
     def _on_page_message(self, _widget, content, _buffers):
@@ -286,7 +287,7 @@ class GainEditor(anywidget.AnyWidget):
         with self.hold_sync():
             self.points = [list(p) for p in points]
             self.selected = min(self.selected if selected is None else selected, len(points) - 1)
-            self.message = said
+            self.message, self.message_kind = said, "warning"
             self.code = _code_line(points)
             self.view = view
 
@@ -603,21 +604,31 @@ class _Preview:
         self.rows = np.atleast_2d(rows)
         self.nperseg = min(self.rows.shape[-1], int(4 * s.sfreq))
         freqs, before = welch_density(self.rows, s.sfreq, self.nperseg)
+        # power in µV²/Hz for data in volts (as EEG spectra are read), else in the data's units
+        self.power_scale, unit_words = (1e12, "µV²/Hz") if s.unit == "V" else (1.0, "unit²/Hz")
         self.kept = freqs > 0
         self.times = s.times[: self.rows.shape[-1]]
+        span = f"{self.times[0]:.3g} to {self.times[-1]:.3g} s"
+        # a short record's padding note names it as the user knows it (one note a design)
+        self.words = SegmentWords({"raw": f"The previewed first {self.times[-1]:.3g} s",
+                                   "epochs": f"Each epoch ({span})",
+                                   "evoked": f"The evoked response ({span})",
+                                   "array": None}[s.kind])
         what = {"raw": f"first {self.times[-1] - self.times[0]:.3g} s",
                 "epochs": f"average of {self.rows.shape[0]} epochs",
                 "evoked": "the evoked response", "array": "the signal"}[s.kind]
         # what does not depend on the design, computed once per channel
         self.fixed = {"channel": channel, "label": what, "unit": s.unit,
                       "freqs": _numbers(freqs[self.kept]),
-                      "before_db": _numbers(_db(before.mean(axis=0)[self.kept])),
+                      "before_db": _numbers(_db(self.power_scale * before.mean(axis=0)[self.kept])),
+                      "spectrum_label": f"power (dB re 1 {unit_words})",
                       "wave_before": _trace(self.times, self.rows.mean(axis=0))}
 
     def view(self, realized) -> dict:
-        after_rows = filter_array(self.rows, realized)
+        after_rows = filter_array(self.rows, realized, words=self.words)
         _, after = welch_density(after_rows, self.signals.sfreq, self.nperseg)
-        return {**self.fixed, "after_db": _numbers(_db(after.mean(axis=0)[self.kept])),
+        return {**self.fixed,
+                "after_db": _numbers(_db(self.power_scale * after.mean(axis=0)[self.kept])),
                 "wave_after": _trace(self.times, after_rows.mean(axis=0))}
 
 

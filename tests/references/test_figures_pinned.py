@@ -250,5 +250,7 @@ def test_the_editor_s_after_spectrum_is_welch_of_the_filtered_channel():
     f, p = welch(filtered, fs=sfreq, nperseg=int(4 * sfreq))
     keep = f > 0
     np.testing.assert_allclose(preview["freqs"], f[keep], rtol=1e-5)
-    np.testing.assert_allclose(preview["after_db"], 10 * np.log10(p[keep]), atol=1e-3)
+    # in dB re 1 µV²/Hz: volts squared times 1e12
+    np.testing.assert_allclose(preview["after_db"], 10 * np.log10(1e12 * p[keep]), atol=1e-3)
+    assert preview["spectrum_label"] == "power (dB re 1 µV²/Hz)"
     assert preview["label"].startswith("first 60 s")
