@@ -59,3 +59,14 @@ def test_an_ordinary_edit_says_nothing_about_growth(curve):
     f, g = editor.points[1]
     editor.drag(1, f * 1.02, g)
     assert "times longer" not in editor.message
+
+
+def test_a_drawn_curve_s_bend_where_it_leaves_zero_is_named_at_that_point():
+    # the gain leaves 0 at the first drawn point (0.01 Hz) with a kink; the edge is far above
+    drawn = gs.GainCurve.from_points([0.01, 1.412, 2.0, 120.0], [0.0, 0.504, 1.0, 1.0],
+                                     freq_scale="log")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", gs.GainshapeWarning)
+        f = gs.design(drawn, 250.0)
+    (note,) = [n for n in f.notes if "long" in n]
+    assert "the bend of the gain at 0.01 Hz (a drawn point)" in note

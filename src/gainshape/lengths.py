@@ -37,8 +37,13 @@ class LengthCause:
 
 
 def long_kernel_cause(curve, chars, sfreq: float) -> LengthCause | None:
-    """The narrowest feature of the request ``curve`` whose realization at
-    ``sfreq`` has characteristics ``chars`` (None when the gain is flat).
+    """The feature of the request ``curve`` that makes its kernel at ``sfreq``
+    (characteristics ``chars``) long; None when the gain is flat.
+
+    The feature is found where a kernel a quarter as long misses the request
+    most (a tapered truncation of the ideal response): that is where the
+    request changes faster than the shorter kernel can follow. It is named
+    by the steep part or notch it lies on, else as a bend at that frequency.
 
     Examples
     --------
@@ -47,24 +52,62 @@ def long_kernel_cause(curve, chars, sfreq: float) -> LengthCause | None:
     >>> long_kernel_cause(f.curve, f.characteristics, f.sfreq).what
     'the slow high-pass edge at 0.05 Hz'
     """
-    notches = [b for b in chars.stop_bands if "notch" in b.kind]
-    found = [LengthCause(f"the narrowest notch, at {_hz((b.low + b.high) / 2)} Hz "
-                         f"({_hz(b.high - b.low)} Hz wide)", "a wider notch shortens it",
-                         b.high - b.low) for b in notches]
-    for hz, width, rising in _steep_parts(curve, sfreq / 2.0):
-        if any(b.low * (1 - 1e-3) <= hz <= b.high * (1 + 1e-3) for b in notches):
-            continue  # a notch's own side
-        name = "high-pass" if rising else "low-pass"
-        if width < _SHARP * hz:
-            found.append(LengthCause(
-                f"the sharp bend at {_hz(hz)} Hz (the gain changes over {_hz(width)} Hz)",
-                "a gentler roll-off there shortens it", width))
-        else:  # named by its half-amplitude cutoff, as users know an edge
-            edge = _nearest_edge(chars.half_amplitude, hz, "rising" if rising else "falling")
-            found.append(LengthCause(f"the slow {name} edge at {_hz(edge)} Hz",
-                                     f"a {'higher' if rising else 'lower'} or gentler {name} "
-                                     "edge shortens it", width))
-    return min(found, key=lambda c: c.width_hz, default=None)
+    found = _hardest_frequency(curve, sfreq, chars.length / 4)
+    if found is None:
+        return None
+    hardest, step = found
+    for b in chars.stop_bands:
+        margin = b.high - b.low
+        if "notch" in b.kind and b.low - margin <= hardest <= b.high + margin:
+            return LengthCause(f"the narrowest notch, at {_hz((b.low + b.high) / 2)} Hz "
+                               f"({_hz(b.high - b.low)} Hz wide)", "a wider notch shortens it",
+                               b.high - b.low)
+    sharp = [(hz, width) for hz, width, _ in _steep_parts(curve, sfreq / 2.0)
+             if width < _SHARP * hz and abs(hardest - hz) <= width + step]
+    if sharp:
+        hz, width = min(sharp, key=lambda p: abs(hardest - p[0]))
+        return LengthCause(f"the sharp bend at {_hz(hz)} Hz (the gain changes over {_hz(width)} "
+                           "Hz)", "a gentler roll-off there shortens it", width)
+    at = _drawn_point_near(curve, hardest, step)
+    if at is not None:
+        return LengthCause(f"the bend of the gain at {_hz(at)} Hz (a drawn point)",
+                           "a gentler change of the gain there shortens it", step)
+    edges = [e for e in chars.half_amplitude if abs(np.log10(float(e) / hardest)) <= 1.0]
+    if edges:  # an edge's reach: within a decade (a high-pass edge's hardest part lies below it)
+        edge = min(edges, key=lambda e: abs(np.log(float(e) / hardest)))
+        name, rising = ("high-pass", True) if edge.direction == "rising" else ("low-pass", False)
+        return LengthCause(f"the slow {name} edge at {_hz(float(edge))} Hz",
+                           f"a {'higher' if rising else 'lower'} or gentler {name} edge "
+                           "shortens it", float(edge))
+    return LengthCause(f"the bend of the gain at {_hz(hardest)} Hz",
+                       "a gentler change of the gain there shortens it", step)
+
+
+def _drawn_point_near(curve, hz: float, step: float) -> float | None:
+    """A drawn curve's point within a few grid steps of ``hz`` (where its bends are), else None."""
+    recipe = getattr(curve, "recipe", None) or {}
+    points = recipe.get("freqs", []) if recipe.get("kind") == "points" else []
+    near = [float(p) for p in points if abs(float(p) - hz) <= 3 * step]
+    return min(near, key=lambda p: abs(p - hz), default=None)
+
+
+def _hardest_frequency(curve, sfreq: float, seconds: float) -> tuple | None:
+    """Where a zero-phase kernel of ``seconds`` (a Hann-tapered truncation of
+    the ideal response) deviates most from the request, and the grid step
+    it was read on; None for a flat gain."""
+    half = max(1, int(seconds * sfreq / 2))
+    n = 1 << int(np.ceil(np.log2(8 * (2 * half + 1))))
+    freqs = np.fft.rfftfreq(n, 1.0 / sfreq)
+    gain = np.asarray(curve(freqs), dtype=float)
+    if np.ptp(gain) < 1e-9:
+        return None
+    ideal = np.fft.irfft(gain, n)
+    taper = np.hanning(2 * half + 3)[1:-1]  # nonzero at both ends
+    short = np.zeros(n)
+    short[: half + 1] = ideal[: half + 1] * taper[half:]
+    short[n - half:] = ideal[n - half:] * taper[:half]
+    miss = np.abs(np.fft.rfft(short).real - gain)
+    return float(freqs[int(np.argmax(miss[1:])) + 1]), float(freqs[1])
 
 
 def _steep_parts(curve, nyquist: float) -> list:
@@ -88,12 +131,6 @@ def _steep_parts(curve, nyquist: float) -> list:
             width, top = _half_peak_span(fine, local, j), 0.5 * (fine[j] + fine[j + 1])
         out.append((float(top), float(width), bool(slope[k] > 0)))
     return out
-
-
-def _nearest_edge(edges, hz: float, direction: str) -> float:
-    """The half-amplitude edge of ``direction`` nearest ``hz`` on a log axis (``hz`` if none)."""
-    same = [float(e) for e in edges if e.direction == direction]
-    return min(same, key=lambda e: abs(np.log(e / hz)), default=hz)
 
 
 def _half_peak_span(f, size, k) -> float:
