@@ -56,13 +56,13 @@ test-oldest:
 	MPLBACKEND=Agg $(OLDEST_VENV)/bin/python -m pytest -q -p no:cacheprovider $(CORE_TESTS)
 
 # the curve editor and the study report in a real browser: Debian's Chromium (installed when
-# missing and apt-get can run), JupyterLab and Playwright; the screenshot is
-# kept in docs/_static/
+# missing and apt-get can run), JupyterLab and Playwright; the screenshots go to
+# build/screenshots (look at them; copy one to docs/_static/ by hand to publish it)
 test-browser: $(STAMP)
 	command -v chromium >/dev/null || (apt-get update && apt-get install -y chromium)
 	$(BIN)/python -m pip install --quiet -e ".[test,docs,browser]"
-	mkdir -p docs/_static
-	MPLBACKEND=Agg GAINSHAPE_SCREENSHOTS=docs/_static $(BIN)/python -m pytest -q -s tests/test_drawing_browser.py tests/test_report_browser.py
+	mkdir -p build/screenshots
+	MPLBACKEND=Agg GAINSHAPE_SCREENSHOTS=build/screenshots $(BIN)/python -m pytest -q -s tests/test_drawing_browser.py tests/test_report_browser.py
 
 # the documentation site, built from scratch with warnings as errors into a
 # staging folder that replaces docs/_build/html only when the build succeeded

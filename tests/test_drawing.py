@@ -230,3 +230,17 @@ def test_the_padding_note_for_epochs_names_them_with_their_own_times(make_raw):
     message = editor.message
     assert message.count("Each epoch (-0.2 to 0.8 s)") == 1, message
     assert "0.000-1.00" not in message
+
+
+def test_key_steps_count_each_and_the_answer_names_the_request(editor):
+    # 30 presses, each 1/24 octave up, applied on top of the state Python holds (the point
+    # at 4.1 Hz has its right neighbour at 125 Hz, far beyond 1.25 octaves)
+    before = editor.points[8][0]
+    for serial in range(1, 31):
+        editor._handle_custom_msg({"do": "step", "index": 8, "freq_steps": 1, "serial": serial}, [])
+    assert editor.points[8][0] == pytest.approx(before * 2 ** (30 / 24), rel=2e-3)
+    assert editor.view["answer"] == 30  # the page knows its last press was answered
+    editor.scale = "dB"
+    gain = editor.points[2][1]
+    editor.edit({"do": "step", "index": 2, "gain_steps": -1, "big": True})  # 6 dB down
+    assert editor.points[2][1] == pytest.approx(gain / 10 ** (6 / 20), rel=1e-3)

@@ -5,7 +5,9 @@ curve is read back from the kernel.
 Needs Chromium (``apt-get install chromium``) and the ``browser`` extra
 (JupyterLab, Playwright); skipped with the reason when either is missing.
 ``make test-browser`` installs both and runs this file, saving the
-screenshot to ``docs/_static/`` (``GAINSHAPE_SCREENSHOTS``).
+screenshot to ``build/screenshots/`` (``GAINSHAPE_SCREENSHOTS``), never over a
+tracked file. Bursts of 5 and 30 key presses, sent faster than the kernel
+answers, must each move the point by exactly that many steps.
 """
 
 import json
@@ -83,6 +85,23 @@ def _keep(picture: Path) -> None:
         shutil.copyfile(picture, Path(folder) / picture.name)
 
 
+def _wait_for_answers(page):
+    """Until the kernel has answered the page's last edit and nothing waits."""
+    page.wait_for_function(
+        "() => { const e = document.querySelector('.gs-editor');"
+        " return e && e.dataset.answered && !e.dataset.busy; }", timeout=60_000)
+    page.wait_for_timeout(300)
+
+
+def _kernel_points(page) -> list:
+    """The editor's points as the kernel holds them (the second cell prints them)."""
+    _run_cell(page, 1)
+    output = page.locator(".jp-OutputArea-output", has_text="POINTS=").last
+    output.wait_for(timeout=30_000)
+    page.wait_for_timeout(300)
+    return json.loads(output.inner_text().split("POINTS=", 1)[1].strip())
+
+
 def _run_cell(page, index):
     cell = page.locator(".jp-Notebook .jp-Cell").nth(index)
     cell.locator(".jp-InputArea-editor").click()
@@ -112,16 +131,19 @@ def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp
                 page.mouse.move(x + 6 * step, y - 12 * step)
                 page.wait_for_timeout(30)
             page.mouse.up()
-            # the page's last edit answered by the kernel
-            page.wait_for_function(
-                "() => { const e = document.querySelector('.gs-editor');"
-                " return e && e.dataset.answered && !e.dataset.busy; }", timeout=30_000)
-            page.wait_for_timeout(500)
+            _wait_for_answers(page)  # the page's last edit answered by the kernel
             round_trip = page.locator(".gs-editor").get_attribute("data-round-trip-ms")
-            _run_cell(page, 1)
-            output = page.locator(".jp-OutputArea-output", has_text="POINTS=")
-            output.wait_for(timeout=30_000)
-            points = json.loads(output.inner_text().split("POINTS=", 1)[1].strip())
+            points = _kernel_points(page)
+            # bursts of key presses, faster than the round trip: every press counts
+            bursts = []
+            for presses in (5, 30):
+                before = _kernel_points(page)[1][0]
+                page.focus(".gs-editor svg.gs-curve")
+                for _ in range(presses):  # towards the far neighbour at 0.01 Hz
+                    page.keyboard.press("ArrowLeft", delay=0)
+                _wait_for_answers(page)
+                points = _kernel_points(page)
+                bursts.append((presses, before, points[1][0]))
             shot = tmp_path / "draw_editor.png"
             page.locator(".gs-editor").screenshot(path=str(shot))
             page.keyboard.press("Control+s")  # saved with the widget's state
@@ -134,7 +156,9 @@ def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp
     _keep(shot)
     print(f"last drag's round trip in the browser: {round_trip} ms")
     assert len(points) == 4
-    assert points[1][0] > 0.5 and points[1][1] > 0.0, points
+    assert points[1][1] > 0.0, points  # dragged up
+    for presses, before, after in bursts:  # each press: 1/24 octave down (rounded to 4 digits)
+        assert after / before == pytest.approx(2 ** (-presses / 24), rel=2e-3), (presses, before, after)
     assert points[0] == [0.01, 0.0] and points[2] == [2.0, 1.0]
     # the notebook file keeps the widget's state (ipywidgets' widget-state metadata)
     saved = nbformat.read(tmp_path / "draw.ipynb", as_version=4)

@@ -131,12 +131,19 @@ function render({ model, el }) {
   const help = html("div", { class: "gs-help" }, root); help.textContent = HELP;
   const codeBox = html("code", { class: "gs-code" }, root);
 
-  let dragging = null, moved = false, serial = 0, waiting = null, queued = null, waitTimer = null, sentAt = 0;
+  // edits wait in order for the kernel's answer to the one before; a drag replaces a drag of
+  // the same point still waiting (only its latest position counts), key steps all count
+  let dragging = null, moved = false, serial = 0, waiting = null, pending = [], waitTimer = null, sentAt = 0;
   let curvePanel = null;
 
   function send(message) {
     message.serial = ++serial;
-    if (waiting !== null) { queued = message; return; }
+    if (waiting !== null) {
+      const last = pending[pending.length - 1];
+      if (message.do === "drag" && last && last.do === "drag" && last.index === message.index) pending[pending.length - 1] = message;
+      else pending.push(message);
+      return;
+    }
     waiting = message.serial;
     sentAt = performance.now();
     root.dataset.busy = "1";
@@ -145,7 +152,7 @@ function render({ model, el }) {
     model.send(message);
   }
   function flush() {
-    if (queued) { const next = queued; queued = null; send(next); } else delete root.dataset.busy;
+    if (pending.length) send(pending.shift()); else delete root.dataset.busy;
   }
   model.on("change:view", () => {
     const answer = model.get("view").answer;
@@ -298,19 +305,17 @@ function render({ model, el }) {
   curveSvg.addEventListener("keydown", (evt) => {
     const pts = points(), i = model.get("selected"), p = pts[i];
     if (!p) return;
-    const big = evt.shiftKey, dB = model.get("scale") === "dB";
-    let freq = p[0], gain = p[1];
-    if (evt.key === "ArrowLeft" || evt.key === "ArrowRight") freq *= 2 ** ((evt.key === "ArrowRight" ? 1 : -1) / (big ? 2 : 24));
-    else if (evt.key === "ArrowUp" || evt.key === "ArrowDown") {
-      const sign = evt.key === "ArrowUp" ? 1 : -1;
-      gain = dB ? fromDb(toDb(gain) + sign * (big ? 6 : 1)) : gain + sign * (big ? 0.1 : 0.01);
-    } else if (evt.key === "PageUp" || evt.key === "PageDown") {
+    const big = evt.shiftKey;
+    let freqSteps = 0, gainSteps = 0;  // relative: Python moves the point from where it holds it
+    if (evt.key === "ArrowLeft" || evt.key === "ArrowRight") freqSteps = evt.key === "ArrowRight" ? 1 : -1;
+    else if (evt.key === "ArrowUp" || evt.key === "ArrowDown") gainSteps = evt.key === "ArrowUp" ? 1 : -1;
+    else if (evt.key === "PageUp" || evt.key === "PageDown") {
       model.set("selected", (i + (evt.key === "PageUp" ? 1 : pts.length - 1)) % pts.length); model.save_changes();
       evt.preventDefault(); return;
     } else if (evt.key === "Delete" || evt.key === "Backspace") { send({ do: "remove", index: i }); evt.preventDefault(); return; }
     else return;
     evt.preventDefault();
-    send({ do: "drag", index: i, freq, gain });
+    send({ do: "step", index: i, freq_steps: freqSteps, gain_steps: gainSteps, big });
   });
   const typed = () => send({ do: "drag", index: model.get("selected"), freq: freqInput.value, gain: gainInput.value });
   freqInput.addEventListener("change", typed);

@@ -232,12 +232,16 @@ class GainEditor(anywidget.AnyWidget):
     def edit(self, request: dict) -> None:
         """Apply one edit from the page (or from Python) and redesign.
 
-        ``request["do"]`` is "drag", "add", "remove", "start", "channel"
-        or "save" (with "index", "freq", "gain", "shape", "channel" or
-        "path" as each needs). Bad edits are clamped or refused with a
+        ``request["do"]`` is "drag", "step", "add", "remove", "start",
+        "channel" or "save" (with "index", "freq", "gain", "freq_steps",
+        "gain_steps", "big", "shape", "channel" or "path" as each needs). A
+        "step" (a key press) moves point "index" by whole steps from where
+        Python last put it, so presses faster than the round trip all count. Bad edits are clamped or refused with a
         visible :attr:`message`; the curve stays valid.
         """
         try:
+            if request.get("do") == "step":  # a key press: relative to the state Python holds
+                request = _stepped(self.points, request, self.scale)
             points, said, selected = _edited(self.points, request, self._sfreq, self.fmax)
             if points is None:
                 self._other(request)
@@ -359,6 +363,33 @@ def _edited(points, request, sfreq, fmax):
                                              f"{kept:g} Hz."]))
     points[index] = [kept, gain]
     return points, said, index
+
+
+_DB_FLOOR = -80.0  # the page's lowest dB (a gain below it is drawn at it, and reads as 0)
+
+
+def _stepped(points, request, scale: str) -> dict:
+    """A key press's relative move as the drag it amounts to: frequency by
+    1/24 octave (1/2 with "big"), gain by 0.01 (0.1) or, on the dB scale, 1 dB (6 dB).
+
+    >>> _stepped([[1.0, 0.5], [2.0, 1.0]], {"index": 0, "freq_steps": 24, "gain_steps": -1}, "gain")
+    {'do': 'drag', 'index': 0, 'freq': 2.0, 'gain': 0.49}
+    """
+    index = _index(request, points)
+    freq, gain = points[index]
+    big = bool(request.get("big"))
+    try:
+        octaves, levels = int(request.get("freq_steps", 0)), int(request.get("gain_steps", 0))
+    except (TypeError, ValueError):
+        raise _Refused("A key step needs whole numbers of steps.") from None
+    freq = freq * 2.0 ** (octaves / (2 if big else 24))
+    if scale == "dB":
+        db = max(20 * np.log10(max(gain, 1e-12)), _DB_FLOOR) + levels * (6 if big else 1)
+        gain = 0.0 if db <= _DB_FLOOR + 0.5 else 10 ** (db / 20)
+    else:
+        gain = gain + levels * (0.1 if big else 0.01)
+    return {"do": "drag", "index": index, "freq": round(freq, 12), "gain": round(gain, 12),
+            **({"serial": request["serial"]} if "serial" in request else {})}
 
 
 def _index(request, points) -> int:
