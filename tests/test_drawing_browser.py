@@ -144,6 +144,15 @@ def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp
                 _wait_for_answers(page)
                 points = _kernel_points(page)
                 bursts.append((presses, before, points[1][0]))
+            # the gain field in dB, applied with Enter inside JupyterLab
+            page.locator(".gs-editor button[data-scale='dB']").click()
+            gain_field = page.locator(".gs-editor .gs-point input").nth(1)
+            gain_field.fill("-6")
+            gain_field.press("Enter")
+            _wait_for_answers(page)
+            points = _kernel_points(page)
+            typed = points[1][1]
+            shape_shown = page.locator(".gs-editor select").first.input_value()
             shot = tmp_path / "draw_editor.png"
             page.locator(".gs-editor").screenshot(path=str(shot))
             page.keyboard.press("Control+s")  # saved with the widget's state
@@ -157,6 +166,8 @@ def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp
     print(f"last drag's round trip in the browser: {round_trip} ms")
     assert len(points) == 4
     assert points[1][1] > 0.0, points  # dragged up
+    assert typed == pytest.approx(10 ** (-6 / 20), abs=1e-3)  # -6 dB typed, Enter pressed
+    assert shape_shown == ""  # "choose a shape": the curve on screen is no longer a preset
     for presses, before, after in bursts:  # each press: 1/24 octave down (rounded to 4 digits)
         assert after / before == pytest.approx(2 ** (-presses / 24), rel=2e-3), (presses, before, after)
     assert points[0] == [0.01, 0.0] and points[2] == [2.0, 1.0]

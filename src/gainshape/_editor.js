@@ -97,7 +97,10 @@ function render({ model, el }) {
   const bar = html("div", { class: "gs-bar" }, root);
   const shapeLabel = html("label", {}, bar); shapeLabel.textContent = "Start from ";
   const shapeSelect = html("select", { "aria-label": "shape to start from" }, shapeLabel);
+  // the control names a shape only while that shape is on screen, unedited
+  html("option", { value: "" }, shapeSelect).textContent = "choose a shape";
   for (const s of model.get("shapes")) html("option", { value: s }, shapeSelect).textContent = s;
+  shapeSelect.value = "";
   const startButton = html("button", { type: "button" }, bar); startButton.textContent = "Use shape";
   const scaleGroup = html("span", { class: "gs-scale", role: "group", "aria-label": "gain axis" }, bar);
   const scaleButtons = ["gain", "dB"].map((s) => {
@@ -138,6 +141,7 @@ function render({ model, el }) {
 
   function send(message) {
     message.serial = ++serial;
+    if (["drag", "step", "add", "remove"].includes(message.do)) shapeSelect.value = "";
     if (waiting !== null) {
       const last = pending[pending.length - 1];
       if (message.do === "drag" && last && last.do === "drag" && last.index === message.index) pending[pending.length - 1] = message;
@@ -275,7 +279,10 @@ function render({ model, el }) {
     const pts = points(), i = model.get("selected"), p = pts[i];
     pointName.textContent = `Point ${i + 1} of ${pts.length}: `;
     if (p && document.activeElement !== freqInput) freqInput.value = p[0];
-    if (p && document.activeElement !== gainInput) gainInput.value = p[1];
+    const dBScale = model.get("scale") === "dB";
+    gainLabel.firstChild.textContent = dBScale ? "gain (dB) " : "gain ";
+    Object.assign(gainInput, dBScale ? { step: "1", min: String(DB_FLOOR), max: "0" } : { step: "0.01", min: "0", max: "1" });
+    if (p && document.activeElement !== gainInput) gainInput.value = dBScale ? toDb(p[1]).toFixed(2) : p[1];
     status.textContent = model.get("message");
     status.classList.toggle("gs-has-message", !!model.get("message"));
     status.classList.toggle("gs-done", model.get("message_kind") === "done");
@@ -317,10 +324,18 @@ function render({ model, el }) {
     evt.preventDefault();
     send({ do: "step", index: i, freq_steps: freqSteps, gain_steps: gainSteps, big });
   });
-  const typed = () => send({ do: "drag", index: model.get("selected"), freq: freqInput.value, gain: gainInput.value });
+  const typedGain = () => (model.get("scale") === "dB" ? fromDb(Number(gainInput.value)) : gainInput.value);
+  const typed = () => send({ do: "drag", index: model.get("selected"), freq: freqInput.value, gain: typedGain() });
+  for (const input of [freqInput, gainInput]) {
+    // Enter applies the value; stopped here so that JupyterLab's own Enter handling does not eat it
+    input.addEventListener("keydown", (evt) => {
+      if (evt.key !== "Enter") return;
+      evt.preventDefault(); evt.stopPropagation(); typed();
+    });
+  }
   freqInput.addEventListener("change", typed);
   gainInput.addEventListener("change", typed);
-  startButton.addEventListener("click", () => send({ do: "start", shape: shapeSelect.value }));
+  startButton.addEventListener("click", () => { if (shapeSelect.value) send({ do: "start", shape: shapeSelect.value }); });
   removeButton.addEventListener("click", () => send({ do: "remove", index: model.get("selected") }));
   saveButton.addEventListener("click", () => send({ do: "save", path: pathInput.value }));
   copyButton.addEventListener("click", async () => {
