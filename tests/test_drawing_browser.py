@@ -153,6 +153,15 @@ def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp
             points = _kernel_points(page)
             typed = points[1][1]
             shape_shown = page.locator(".gs-editor select").first.input_value()
+            # the legend above the plot's frame; no handle inside a clipped group (drawn whole)
+            geometry = page.evaluate(
+                "() => { const svg = document.querySelector('.gs-editor svg.gs-curve');"
+                " const frame = svg.querySelector('.gs-frame').getBBox();"
+                " const legend = svg.querySelector('.gs-legend').getBBox();"
+                " const handles = [...svg.querySelectorAll('circle.gs-handle')];"
+                " return {legendBottom: legend.y + legend.height, frameTop: frame.y,"
+                " handles: handles.length,"
+                " clipped: handles.filter(c => c.closest('[clip-path]')).length}; }")
             shot = tmp_path / "draw_editor.png"
             page.locator(".gs-editor").screenshot(path=str(shot))
             page.keyboard.press("Control+s")  # saved with the widget's state
@@ -167,6 +176,8 @@ def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp
     assert len(points) == 4
     assert points[1][1] > 0.0, points  # dragged up
     assert typed == pytest.approx(10 ** (-6 / 20), abs=1e-3)  # -6 dB typed, Enter pressed
+    assert geometry["legendBottom"] <= geometry["frameTop"] and geometry["handles"] == 4
+    assert geometry["clipped"] == 0, geometry
     assert shape_shown == ""  # "choose a shape": the curve on screen is no longer a preset
     for presses, before, after in bursts:  # each press: 1/24 octave down (rounded to 4 digits)
         assert after / before == pytest.approx(2 ** (-presses / 24), rel=2e-3), (presses, before, after)

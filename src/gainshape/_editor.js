@@ -59,7 +59,7 @@ function makePanel(svg, box, x, y, labels) {
   const clip = node("clipPath", { id: clipId }, g);
   node("rect", { x: left, y: top, width, height }, clip);
   const inner = node("g", { "clip-path": `url(#${clipId})` }, g);
-  return { sx, sy, ix, iy, g: inner, box };
+  return { sx, sy, ix, iy, g: inner, outer: g, box };  // outer: not clipped (whole handles)
 }
 
 function logTicks(lo, hi) {
@@ -185,14 +185,14 @@ function render({ model, el }) {
     const s = model.get("settings");
     const dB = model.get("scale") === "dB";
     const x = { min: s.fmin, max: s.fmax, log: true };
-    const top = curvePanel = makePanel(curveSvg, [62, 10, 545, 250], x, dB ? { min: DB_FLOOR, max: 5 } : { min: 0, max: 1.05 },
+    const top = curvePanel = makePanel(curveSvg, [62, 30, 545, 230], x, dB ? { min: DB_FLOOR, max: 5 } : { min: 0, max: 1.05 },
       { y: dB ? "gain (dB)" : "gain", xTicks: false });
     const ys = (gs) => gs.map(gainToY);
     area(top, view.freqs, ys(view.requested), dB ? DB_FLOOR : 0, { fill: COLOR.requested, "fill-opacity": 0.25, class: "gs-requested" });
     path(top, view.freqs, ys(view.realized), { stroke: COLOR.realized, "stroke-width": 2, class: "gs-realized" });
     const pts = points(), selected = model.get("selected");
     pts.forEach(([f, g], i) => {
-      const c = node("circle", { cx: top.sx(f), cy: top.sy(gainToY(g)), r: i === selected ? 7 : 5, class: "gs-handle" + (i === selected ? " gs-selected" : ""), "data-index": i }, top.g);
+      const c = node("circle", { cx: top.sx(f), cy: top.sy(gainToY(g)), r: i === selected ? 7 : 5, class: "gs-handle" + (i === selected ? " gs-selected" : ""), "data-index": i }, top.outer);
       c.addEventListener("pointerdown", (evt) => {
         evt.stopPropagation();
         if (evt.shiftKey) { send({ do: "remove", index: i }); return; }
@@ -206,10 +206,11 @@ function render({ model, el }) {
       { x: "frequency (Hz)", y: "realized − requested", yCount: 3 });
     node("rect", { x: dev.box[0], width: dev.box[2], y: dev.sy(view.tolerance), height: dev.sy(-view.tolerance) - dev.sy(view.tolerance), fill: COLOR.tolerance, "fill-opacity": 0.18 }, dev.g);
     path(dev, view.freqs, view.deviation, { stroke: COLOR.realized, "stroke-width": 1.3 });
+    // the legend above the plot, outside the data (curves at gain 1 run along the top)
     const legend = node("g", { class: "gs-legend" }, curveSvg);
     [["requested (drawn)", COLOR.requested, 0.5], ["realized", COLOR.realized, 1]].forEach(([label, color, op], k) => {
-      node("rect", { x: 75 + 150 * k, y: 16, width: 14, height: 8, fill: color, "fill-opacity": op }, legend);
-      node("text", { x: 94 + 150 * k, y: 24, class: "gs-tick" }, legend).textContent = label;
+      node("rect", { x: 62 + 150 * k, y: 6, width: 14, height: 8, fill: color, "fill-opacity": op }, legend);
+      node("text", { x: 81 + 150 * k, y: 14, class: "gs-tick" }, legend).textContent = label;
     });
     node("text", { x: 606, y: 268, class: "gs-tick", "text-anchor": "end" }, curveSvg).textContent = `tolerance ±${view.tolerance}`;
   }
