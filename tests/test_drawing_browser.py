@@ -113,7 +113,7 @@ def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp
         browser = p.chromium.launch(executable_path=CHROMIUM, args=[
             "--no-sandbox", "--disable-gpu", "--disable-background-networking",
             "--disable-component-update", "--disable-sync", "--no-first-run"])
-        page = browser.new_page(viewport={"width": 1400, "height": 1100})
+        page = browser.new_page(viewport={"width": 1400, "height": 1400})
         try:
             page.goto(f"{lab}/lab/tree/draw.ipynb?token={TOKEN}")
             page.locator(".jp-Notebook .jp-Cell").first.wait_for(timeout=60_000)
@@ -162,6 +162,25 @@ def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp
                 " return {legendBottom: legend.y + legend.height, frameTop: frame.y,"
                 " handles: handles.length,"
                 " clipped: handles.filter(c => c.closest('[clip-path]')).length}; }")
+            # the editor at the widths it gets: JupyterLab's output area with the file browser
+            # open (528 px) and closed (780 px), and a wide page (1,280 px)
+            widths = {}
+            for width in (528, 780, 1280):
+                page.evaluate("(w) => { const o = document.querySelector('.gs-editor')"
+                              ".closest('.jp-OutputArea-output'); o.style.width = w + 'px';"
+                              " o.style.maxWidth = w + 'px'; }", width)
+                page.wait_for_timeout(400)
+                widths[width] = page.evaluate(
+                    "() => { const e = document.querySelector('.gs-editor');"
+                    " const tops = [...e.querySelector('.gs-bar').children].map(c => {"
+                    " const b = c.getBoundingClientRect(); return Math.round((b.top + b.height / 2) / 8); });"
+                    " const r = e.getBoundingClientRect();"
+                    " return {height: r.height, width: r.width, rows: new Set(tops).size,"
+                    " summary: e.querySelector('.gs-summary').textContent}; }")
+                page.locator(".gs-editor").screenshot(path=str(tmp_path / f"draw_editor_{width}.png"))
+            page.evaluate("() => { const o = document.querySelector('.gs-editor')"
+                          ".closest('.jp-OutputArea-output'); o.style.width = ''; o.style.maxWidth = ''; }")
+            page.wait_for_timeout(400)
             shot = tmp_path / "draw_editor.png"
             page.locator(".gs-editor").screenshot(path=str(shot))
             page.keyboard.press("Control+s")  # saved with the widget's state
@@ -172,6 +191,13 @@ def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp
             raise
         browser.close()
     _keep(shot)
+    for width, measured in widths.items():
+        _keep(tmp_path / f"draw_editor_{width}.png")
+        print(f"editor at {width} px: {measured['width']:.0f} x {measured['height']:.0f} px, "
+              f"toolbar in {measured['rows']} row(s)")
+    assert widths[780]["rows"] == 1 and widths[780]["height"] <= 1000, widths[780]
+    assert widths[528]["height"] <= 1100, widths[528]
+    assert "largest deviation" in widths[780]["summary"]
     print(f"last drag's round trip in the browser: {round_trip} ms")
     assert len(points) == 4
     assert points[1][1] > 0.0, points  # dragged up

@@ -110,9 +110,13 @@ function render({ model, el }) {
     return b;
   });
   const removeButton = html("button", { type: "button" }, bar); removeButton.textContent = "Remove point";
-  const copyButton = html("button", { type: "button" }, bar); copyButton.textContent = "Copy as code";
-  const pathInput = html("input", { type: "text", class: "gs-path", "aria-label": "recipe file" }, bar);
-  const saveButton = html("button", { type: "button" }, bar); saveButton.textContent = "Save recipe";
+  // copy and save: in the row when it has room, behind "Copy or save" when the editor is narrow
+  const more = html("details", { class: "gs-more", open: "" }, bar);
+  const moreLabel = html("summary", {}, more); moreLabel.textContent = "Copy or save";
+  const moreBox = html("span", { class: "gs-more-box" }, more);
+  const copyButton = html("button", { type: "button" }, moreBox); copyButton.textContent = "Copy as code";
+  const pathInput = html("input", { type: "text", class: "gs-path", "aria-label": "recipe file" }, moreBox);
+  const saveButton = html("button", { type: "button" }, moreBox); saveButton.textContent = "Save recipe";
   // the selected point as numbers
   const pointRow = html("div", { class: "gs-point" }, root);
   const pointName = html("span", {}, pointRow);
@@ -121,12 +125,16 @@ function render({ model, el }) {
   freqLabel.append(" Hz");
   const gainLabel = html("label", {}, pointRow); gainLabel.append("gain ");
   const gainInput = html("input", { type: "number", step: "0.01", min: "0", max: "1", "aria-label": "gain of the selected point (0 to 1)" }, gainLabel);
+  const summaryRow = html("div", { class: "gs-summary", "aria-label": "the realized filter in one line" }, root);
   const status = html("div", { class: "gs-message", role: "status", "aria-live": "polite" }, root);
   // plots
   const main = html("div", { class: "gs-main" }, root);
   const left = html("div", { class: "gs-left" }, main);
   const curveSvg = node("svg", { class: "gs-curve", viewBox: "0 0 620 400", tabindex: "0", role: "application", "aria-label": "gain curve: " + HELP }, left);
-  const facts = html("div", { class: "gs-facts" }, main);
+  // all characteristics: beside the curve when there is room, folded under the plots when narrow
+  const factsBox = html("details", { class: "gs-facts", open: "" }, main);
+  const factsLabel = html("summary", {}, factsBox); factsLabel.textContent = "All characteristics";
+  const facts = html("div", {}, factsBox);
   const timeRow = html("div", { class: "gs-row" }, left);
   const impulseSvg = node("svg", { class: "gs-small", viewBox: "0 0 320 200" }, timeRow);
   const stepSvg = node("svg", { class: "gs-small", viewBox: "0 0 320 200" }, timeRow);
@@ -256,6 +264,8 @@ function render({ model, el }) {
   }
 
   function drawFacts(view) {
+    const deviation = (view.characteristics.find(([k]) => k === "largest gain deviation") || [, ""])[1];
+    summaryRow.textContent = view.describe + (deviation ? "; largest deviation " + deviation.split(" ")[0] : "");
     facts.replaceChildren();
     const table = html("table", {}, facts);
     const caption = html("caption", {}, table); caption.textContent = "The realized filter";
@@ -348,6 +358,21 @@ function render({ model, el }) {
       status.textContent = "The browser did not allow copying; the line below is selected: press Ctrl+C.";
     }
   });
+  // narrow (under 900 px, as in JupyterLab's output area): the copy/save menu and the full
+  // table fold away, the one-line summary under the toolbar keeps the numbers in sight
+  let narrow = null, barWidth = null;
+  const barRows = () => new Set([...bar.children].map((c) => {
+    const b = c.getBoundingClientRect(); return Math.round((b.top + b.height / 2) / 8);
+  })).size;
+  new ResizeObserver(() => {
+    const width = root.getBoundingClientRect().width, now = width < 900;
+    if (now !== narrow) { narrow = now; root.classList.toggle("gs-narrow", narrow); factsBox.open = !narrow; }
+    if (width === barWidth) return;
+    barWidth = width;
+    // copy and save fold behind their menu whenever the tool bar would take a second row
+    root.classList.remove("gs-folded"); more.open = true;
+    if (narrow || barRows() > 1) { root.classList.add("gs-folded"); more.open = false; }
+  }).observe(root);
   draw();
 }
 
