@@ -244,3 +244,23 @@ def test_key_steps_count_each_and_the_answer_names_the_request(editor):
     gain = editor.points[2][1]
     editor.edit({"do": "step", "index": 2, "gain_steps": -1, "big": True})  # 6 dB down
     assert editor.points[2][1] == pytest.approx(gain / 10 ** (6 / 20), rel=1e-3)
+
+
+def test_a_zoomed_view_shows_a_notch_comb_s_points_and_they_can_be_dragged():
+    editor = gs.draw(gs.bandpass(0.1, 40.0) * gs.notch(50.0, harmonics=2), sfreq=500.0)
+    near = [i for i, (f, _) in enumerate(editor.points) if 45.0 <= f <= 55.0]
+    assert len(near) >= 3  # the notch's points crowd one spot of the whole-range axis
+    editor.edit({"do": "zoom", "low": 45, "high": 55})
+    view = editor.view
+    assert view["shown"] == [45.0, 55.0]
+    assert min(view["freqs"]) == pytest.approx(45.0) and max(view["freqs"]) == pytest.approx(55.0)
+    # the requested gain on the zoomed grid is the curve's (the page draws it there)
+    np.testing.assert_allclose(view["requested"], editor.curve(np.array(view["freqs"])), atol=1e-5)
+    i = near[len(near) // 2]
+    f, g = editor.points[i]
+    editor.drag(i, f, min(g + 0.2, 1.0))
+    assert editor.points[i][1] == pytest.approx(min(g + 0.2, 1.0))
+    editor.edit({"do": "zoom", "low": 60, "high": 50})
+    assert "upper frequency above" in editor.message
+    editor.edit({"do": "zoom"})
+    assert editor.view["shown"][0] == FMIN and editor.view["shown"][1] == editor.fmax

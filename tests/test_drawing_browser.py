@@ -153,6 +153,15 @@ def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp
             points = _kernel_points(page)
             typed = points[1][1]
             shape_shown = page.locator(".gs-editor select").first.input_value()
+            # a zoomed view: only the points inside it get handles; the whole range again after
+            zoom_fields = page.locator(".gs-editor .gs-zoom input")
+            zoom_fields.nth(0).fill("0.3")
+            zoom_fields.nth(1).fill("3")
+            zoom_fields.nth(1).press("Enter")
+            _wait_for_answers(page)
+            zoomed_handles = page.locator(".gs-editor circle.gs-handle").count()
+            page.get_by_role("button", name="Whole range").click()
+            _wait_for_answers(page)
             # the legend above the plot's frame; no handle inside a clipped group (drawn whole)
             geometry = page.evaluate(
                 "() => { const svg = document.querySelector('.gs-editor svg.gs-curve');"
@@ -204,6 +213,7 @@ def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp
     assert typed == pytest.approx(10 ** (-6 / 20), abs=1e-3)  # -6 dB typed, Enter pressed
     assert geometry["legendBottom"] <= geometry["frameTop"] and geometry["handles"] == 4
     assert geometry["clipped"] == 0, geometry
+    assert zoomed_handles == sum(0.3 <= f <= 3 for f, _ in points) == 2
     assert shape_shown == ""  # "choose a shape": the curve on screen is no longer a preset
     for presses, before, after in bursts:  # each press: 1/24 octave down (rounded to 4 digits)
         assert after / before == pytest.approx(2 ** (-presses / 24), rel=2e-3), (presses, before, after)

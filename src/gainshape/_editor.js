@@ -126,6 +126,15 @@ function render({ model, el }) {
   const gainLabel = html("label", {}, pointRow); gainLabel.append("gain ");
   const gainInput = html("input", { type: "number", step: "0.01", min: "0", max: "1", "aria-label": "gain of the selected point (0 to 1)" }, gainLabel);
   const summaryRow = html("div", { class: "gs-summary", "aria-label": "the realized filter in one line" }, root);
+  // the frequencies shown: zoom in to edit close points (a notch comb), back to the whole range
+  const zoomRow = html("div", { class: "gs-point gs-zoom" }, root);
+  const zoomLabel = html("label", {}, zoomRow); zoomLabel.append("show ");
+  const zoomLow = html("input", { type: "number", step: "any", min: "0", "aria-label": "lowest frequency shown (Hz)" }, zoomLabel);
+  zoomLabel.append(" to ");
+  const zoomHigh = html("input", { type: "number", step: "any", min: "0", "aria-label": "highest frequency shown (Hz)" }, zoomLabel);
+  zoomLabel.append(" Hz");
+  const zoomButton = html("button", { type: "button" }, zoomRow); zoomButton.textContent = "Show";
+  const wholeButton = html("button", { type: "button" }, zoomRow); wholeButton.textContent = "Whole range";
   const status = html("div", { class: "gs-message", role: "status", "aria-live": "polite" }, root);
   // plots
   const main = html("div", { class: "gs-main" }, root);
@@ -192,7 +201,8 @@ function render({ model, el }) {
     curveSvg.replaceChildren();
     const s = model.get("settings");
     const dB = model.get("scale") === "dB";
-    const x = { min: s.fmin, max: s.fmax, log: true };
+    const [shownLow, shownHigh] = view.shown || [s.fmin, s.fmax];
+    const x = { min: shownLow, max: shownHigh, log: true };
     const top = curvePanel = makePanel(curveSvg, [62, 30, 545, 230], x, dB ? { min: DB_FLOOR, max: 5 } : { min: 0, max: 1.05 },
       { y: dB ? "gain (dB)" : "gain", xTicks: false });
     const ys = (gs) => gs.map(gainToY);
@@ -200,6 +210,7 @@ function render({ model, el }) {
     path(top, view.freqs, ys(view.realized), { stroke: COLOR.realized, "stroke-width": 2, class: "gs-realized" });
     const pts = points(), selected = model.get("selected");
     pts.forEach(([f, g], i) => {
+      if (f < shownLow * 0.999 || f > shownHigh * 1.001) return;  // outside a zoomed view
       const c = node("circle", { cx: top.sx(f), cy: top.sy(gainToY(g)), r: i === selected ? 7 : 5, class: "gs-handle" + (i === selected ? " gs-selected" : ""), "data-index": i }, top.outer);
       c.addEventListener("pointerdown", (evt) => {
         evt.stopPropagation();
@@ -290,6 +301,9 @@ function render({ model, el }) {
     const pts = points(), i = model.get("selected"), p = pts[i];
     pointName.textContent = `Point ${i + 1} of ${pts.length}: `;
     if (p && document.activeElement !== freqInput) freqInput.value = p[0];
+    if (view.shown && document.activeElement !== zoomLow && document.activeElement !== zoomHigh) {
+      zoomLow.value = +view.shown[0].toPrecision(4); zoomHigh.value = +view.shown[1].toPrecision(4);
+    }
     const dBScale = model.get("scale") === "dB";
     gainLabel.firstChild.textContent = dBScale ? "gain (dB) " : "gain ";
     Object.assign(gainInput, dBScale ? { step: "1", min: String(DB_FLOOR), max: "0" } : { step: "0.01", min: "0", max: "1" });
@@ -346,6 +360,15 @@ function render({ model, el }) {
   }
   freqInput.addEventListener("change", typed);
   gainInput.addEventListener("change", typed);
+  const zoom = () => send({ do: "zoom", low: zoomLow.value, high: zoomHigh.value });
+  zoomButton.addEventListener("click", zoom);
+  for (const input of [zoomLow, zoomHigh]) {
+    input.addEventListener("keydown", (evt) => {
+      if (evt.key !== "Enter") return;
+      evt.preventDefault(); evt.stopPropagation(); zoom();
+    });
+  }
+  wholeButton.addEventListener("click", () => send({ do: "zoom" }));
   startButton.addEventListener("click", () => { if (shapeSelect.value) send({ do: "start", shape: shapeSelect.value }); });
   removeButton.addEventListener("click", () => send({ do: "remove", index: model.get("selected") }));
   saveButton.addEventListener("click", () => send({ do: "save", path: pathInput.value }));

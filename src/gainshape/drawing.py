@@ -178,6 +178,7 @@ class GainEditor(anywidget.AnyWidget):
         if self._preview is not None:
             self.channels, self.channel = self._preview.names, self._preview.channel
         self._design = None
+        self._zoom = None  # (fmax, fmin) of a zoomed view, None for the whole range
         self.on_msg(self._on_page_message)
         self._show(_starting_points(start, self.fmax), "")
 
@@ -260,6 +261,9 @@ class GainEditor(anywidget.AnyWidget):
             self._preview.choose(request.get("channel"))
             self.channel = self._preview.channel
             self._show(self.points, "", request)
+        elif what == "zoom":  # the frequencies shown; the curve itself is unchanged
+            self._zoom = _zoom_range(request.get("low"), request.get("high"), self.fmax)
+            self._show(self.points, "", request)
         elif what == "save":
             self.recipe_path = str(request.get("path") or self.recipe_path)
             try:
@@ -281,7 +285,7 @@ class GainEditor(anywidget.AnyWidget):
             warnings.simplefilter("always")
             realized, refusal = self._realized(_curve_of(points))
             refusal = " ".join(filter(None, [refusal, _growth(self._design, realized)]))
-            view = editor_view(realized, self.fmax)
+            view = editor_view(realized, *(self._zoom or (self.fmax, FMIN)))
             if self._preview is not None:
                 view["preview"] = self._preview.view(realized)
         view["design_ms"] = round(1e3 * (time.perf_counter() - start), 1)
@@ -308,6 +312,26 @@ class GainEditor(anywidget.AnyWidget):
 
     def _acknowledge(self, request):
         self.view = {**self.view, "answer": request.get("serial")}
+
+
+def _zoom_range(low, high, fmax) -> tuple | None:
+    """(high, low) of a zoomed view, within the editor's range; None (the whole
+    range) when ``low`` and ``high`` are both missing.
+
+    >>> _zoom_range(45, 155, 250.0), _zoom_range(None, None, 250.0)
+    ((155.0, 45.0), None)
+    """
+    if low in (None, "") and high in (None, ""):
+        return None
+    try:
+        low, high = float(low), float(high)
+    except (TypeError, ValueError):
+        raise _Refused(f"A view needs two frequencies; {low!r} and {high!r} were given.") from None
+    low, high = max(low, FMIN), min(high, fmax)
+    if not high > low * 1.01:
+        raise _Refused(f"A view needs its upper frequency above its lower one; {low:g} and "
+                       f"{high:g} Hz were given.")
+    return high, low
 
 
 _GROWTH = 4.0  # an edit that makes the kernel this many times longer says so
@@ -526,7 +550,7 @@ def editable_points(curve: GainCurve, fmin: float, fmax: float, *, within: float
     return [[float(grid[i]), float(wanted[i])] for i in chosen]
 
 
-def editor_view(realized: FilterDesign, fmax: float) -> dict:
+def editor_view(realized: FilterDesign, fmax: float, fmin: float = FMIN) -> dict:
     """What the page draws for a design, as plain numbers.
 
     Parameters
@@ -534,6 +558,8 @@ def editor_view(realized: FilterDesign, fmax: float) -> dict:
     realized : FilterDesign
     fmax : float
         Highest frequency shown (Hz).
+    fmin : float
+        Lowest frequency shown (Hz): above ``FMIN`` when the view is zoomed.
 
     Returns
     -------
@@ -553,7 +579,7 @@ def editor_view(realized: FilterDesign, fmax: float) -> dict:
     >>> len(view["freqs"]), view["characteristics"][0]
     (400, ['kind', 'low-pass'])
     """
-    freqs = np.geomspace(FMIN, fmax, _GRID)
+    freqs = np.geomspace(fmin, fmax, _GRID)
     requested = realized.requested_gain(freqs)
     got = realized.realized_gain(freqs)
     times, kernel = realized.times, realized.kernel
@@ -565,6 +591,7 @@ def editor_view(realized: FilterDesign, fmax: float) -> dict:
         "step": _trace(times, np.cumsum(kernel)),
         "characteristics": [list(row) for row in realized.summary()],
         "describe": realized.describe(),
+        "shown": [float(fmin), float(fmax)],
     }
 
 
