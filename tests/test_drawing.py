@@ -230,6 +230,8 @@ def test_the_padding_note_for_epochs_names_them_with_their_own_times(make_raw):
     message = editor.message
     assert message.count("Each epoch (-0.2 to 0.8 s)") == 1, message
     assert "0.000-1.00" not in message
+    wave = editor.view["preview"]["wave_before"]
+    assert wave["times"][0] == pytest.approx(-0.2) and wave["times"][-1] == pytest.approx(0.8)
 
 
 def test_key_steps_count_each_and_the_answer_names_the_request(editor):

@@ -160,6 +160,8 @@ def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp
             zoom_fields.nth(1).press("Enter")
             _wait_for_answers(page)
             zoomed_handles = page.locator(".gs-editor circle.gs-handle").count()
+            code_breaks = page.evaluate("() => getComputedStyle(document.querySelector("
+                                        "'.gs-editor .gs-code')).wordBreak")
             page.get_by_role("button", name="Whole range").click()
             _wait_for_answers(page)
             # the legend above the plot's frame; no handle inside a clipped group (drawn whole)
@@ -214,6 +216,7 @@ def test_a_point_dragged_with_the_mouse_changes_the_curve_in_the_kernel(lab, tmp
     assert geometry["legendBottom"] <= geometry["frameTop"] and geometry["handles"] == 4
     assert geometry["clipped"] == 0, geometry
     assert zoomed_handles == sum(0.3 <= f <= 3 for f, _ in points) == 2
+    assert code_breaks == "normal"  # the code line wraps at its spaces, never inside a number
     assert shape_shown == ""  # "choose a shape": the curve on screen is no longer a preset
     for presses, before, after in bursts:  # each press: 1/24 octave down (rounded to 4 digits)
         assert after / before == pytest.approx(2 ** (-presses / 24), rel=2e-3), (presses, before, after)
