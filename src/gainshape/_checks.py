@@ -74,6 +74,19 @@ def check_bool(name: str, value) -> bool:
     return bool(value)
 
 
+DEFAULT_TOLERANCE = 0.001  # largest gain error a design accepts by default (-60 dB of full gain)
+_TOLERANCE_BELOW = 1.0  # a tolerance of the whole gain range would accept any kernel
+
+
+def check_tolerance(value) -> float:
+    """The ``tolerance`` option checked: a number > 0 and below 1 (one home for its limits).
+
+    >>> check_tolerance(DEFAULT_TOLERANCE)
+    0.001
+    """
+    return check_positive("tolerance", value, below=_TOLERANCE_BELOW)
+
+
 def check_positive(name: str, value, *, below: float | None = None) -> float:
     """Return ``value`` as a float if it is a finite real number > 0.
 

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ._compat import channel_type_words, copy_with_empty_data, data_of, picks_to_indices, unlocked
-from ._checks import check_bool, check_int, check_option, check_positive, warn
+from ._checks import DEFAULT_TOLERANCE, check_bool, check_int, check_option, check_positive, warn
 from .curves import GainCurve
 from .design import FilterDesign, check_filter, check_kernel_request, design
 from .measure import passband_edges
@@ -27,7 +27,7 @@ __all__ = ["apply", "replay", "as_arrays", "Signals"]
 
 _BOUNDARY_PREFIXES = ("edge", "bad_acq_skip")
 _NEVER_FILTERED = ("stim",)
-_APPLY_DEFAULTS = {"causal": False, "kernel": "shortest", "tolerance": 0.001}
+_APPLY_DEFAULTS = {"causal": False, "kernel": "shortest", "tolerance": DEFAULT_TOLERANCE}
 _EPOCH_HINT = (
     "Filter the continuous recording before epoching, or use a gentler "
     "high-pass (a higher cutoff needs a shorter kernel)."
@@ -43,7 +43,7 @@ def apply(
     pad: str = "reflect",
     causal: bool = False,
     kernel="shortest",
-    tolerance: float = 0.001,
+    tolerance: float = DEFAULT_TOLERANCE,
     nan: str = "raise",
     n_jobs: int = 1,
     copy: bool = True,

@@ -17,7 +17,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.fft as sfft
 
-from ._checks import check_bool, check_positive, warn
+from ._checks import DEFAULT_TOLERANCE, check_bool, check_positive, check_tolerance, warn
 from .curves import GainCurve
 from .lengths import long_kernel_cause
 from .measure import (Characteristics, characterize, db_floor, hz_range, max_deviation, passband_edges,
@@ -391,7 +391,7 @@ def design(
     *,
     causal: bool = False,
     kernel="shortest",
-    tolerance: float = 0.001,
+    tolerance: float = DEFAULT_TOLERANCE,
 ) -> FilterDesign:
     """Realize ``curve`` at ``sfreq`` as a finite kernel and characterize it.
 
@@ -446,7 +446,7 @@ def design(
         )
     sfreq = check_positive("sfreq", sfreq)
     causal = check_bool("causal", causal)
-    tolerance = check_positive("tolerance", tolerance, below=1.0)
+    tolerance = check_tolerance(tolerance)
     kernel_request = check_kernel_request(kernel)
     # curves with a recipe are equal (and hash alike) when their recipes are
     key = None if curve.recipe is None else (curve, sfreq, causal, kernel_request, tolerance)

@@ -27,7 +27,7 @@ import anywidget
 import numpy as np
 import traitlets
 
-from ._checks import check_bool, check_positive
+from ._checks import DEFAULT_TOLERANCE, check_bool, check_positive, check_tolerance
 from ._spectra import welch_density
 from .adapters import as_arrays
 from .curves import GainCurve, bandpass, bandstop, highpass, lowpass, notch
@@ -48,7 +48,8 @@ _SHOWN_DB = -60.0  # the impulse response is shown where its envelope is above t
 _SHAPES = ("low-pass", "high-pass", "band-pass", "band-stop", "notch comb")
 
 
-def draw(curve=None, sfreq=None, data=None, *, channel=None, causal=False, tolerance=0.001):
+def draw(curve=None, sfreq=None, data=None, *, channel=None, causal=False,
+         tolerance=DEFAULT_TOLERANCE):
     """An editor in which a gain curve is drawn by hand and the realized filter follows.
 
     Parameters
@@ -102,7 +103,7 @@ def draw(curve=None, sfreq=None, data=None, *, channel=None, causal=False, toler
     start = curve if curve is not None else bandpass(0.1, min(30.0, 0.4 * sfreq))
     return GainEditor(start, sfreq, signals, channel=channel,
                       causal=check_bool("causal", causal),
-                      tolerance=check_positive("tolerance", tolerance, below=0.5))
+                      tolerance=check_tolerance(tolerance))
 
 
 class GainEditor(anywidget.AnyWidget):
@@ -169,7 +170,7 @@ class GainEditor(anywidget.AnyWidget):
     settings = traitlets.Dict().tag(sync=True)
 
     def __init__(self, start: GainCurve, sfreq: float, signals=None, *, channel=None,
-                 causal=False, tolerance=0.001):
+                 causal=False, tolerance=DEFAULT_TOLERANCE):
         super().__init__()
         self._sfreq, self._causal, self._tolerance = float(sfreq), causal, tolerance
         self._preview = None if signals is None else _Preview(signals, channel)

@@ -12,7 +12,7 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from ._checks import check_bool, check_option, check_positive
+from ._checks import DEFAULT_TOLERANCE, check_bool, check_option, check_positive
 from ._files import atomic_output
 from .curves import GainCurve
 from .design import FilterDesign, check_filter, check_kernel_request, design
@@ -24,7 +24,8 @@ _FORMAT, _VERSION = "gainshape.recipe", 1
 _KEYS = ("format", "version", "curve", "causal", "kernel", "tolerance", "pad", "picks")
 
 
-def write_recipe(path, filt, *, causal: bool = False, kernel="shortest", tolerance: float = 0.001,
+def write_recipe(path, filt, *, causal: bool = False, kernel="shortest",
+                 tolerance: float = DEFAULT_TOLERANCE,
                  pad: str = "reflect", picks=None) -> Path:
     """Write a filter recipe to a JSON file, whole or not at all.
 
@@ -114,7 +115,8 @@ def read_recipe(path) -> dict:
     return recipe_from_content(content, path)
 
 
-def recipe_content(filt, *, causal=False, kernel="shortest", tolerance=0.001, pad="reflect",
+def recipe_content(filt, *, causal=False, kernel="shortest", tolerance=DEFAULT_TOLERANCE,
+                   pad="reflect",
                    picks=None) -> dict:
     """The JSON content of a recipe (what :func:`write_recipe` writes), checked.
 
