@@ -68,6 +68,16 @@ def audit(filt, *, sfreq: float | None = None, waveform=None) -> xr.Dataset:
     --------
     plot_audit, FilterDesign.plot
 
+    References
+    ----------
+    Acunzo DJ, MacKenzie G, van Rossum MCW (2012). Systematic biases in early
+    ERP and ERF components as a result of high-pass filtering. J Neurosci
+    Methods 209:212-218.
+
+    Tanner D, Morgan-Short K, Luck SJ (2015). How inappropriate high-pass
+    filters can produce artifactual effects and incorrect conclusions in ERP
+    studies of language and cognition. Psychophysiology 52:997-1009.
+
     Examples
     --------
     >>> import gainshape as gs

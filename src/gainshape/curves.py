@@ -102,6 +102,12 @@ class GainCurve:  # numpydoc ignore=PR01
         --------
         lowpass, notch
 
+        References
+        ----------
+        Fritsch FN, Carlson RE (1980). Monotone piecewise cubic interpolation.
+        SIAM J Numer Anal 17:238-246 (the interpolation that keeps the curve
+        between its points, as scipy.interpolate.PchipInterpolator does).
+
         Examples
         --------
         >>> g = GainCurve.from_points([1, 2, 40, 60], [0, 1, 1, 0])

@@ -432,6 +432,15 @@ def design(
     --------
     apply, GainCurve
 
+    References
+    ----------
+    Oppenheim AV, Schafer RW (2010). Discrete-Time Signal Processing, 3rd
+    ed. Pearson: the minimum-phase kernel through the real cepstrum.
+
+    Widmann A, Schroeger E, Maess B (2015). Digital filter design for
+    electrophysiological data - a practical approach. J Neurosci Methods
+    250:34-46.
+
     Examples
     --------
     >>> from gainshape import lowpass

@@ -119,6 +119,15 @@ def find_lines(inst, *, sfreq=None, resolution=None, freq_range=(1.0, None),
     --------
     suggest_notches, plot_lines, notch
 
+    References
+    ----------
+    Welch PD (1967). The use of fast Fourier transform for the estimation of
+    power spectra: a method based on time averaging over short, modified
+    periodograms. IEEE Trans Audio Electroacoust 15:70-73.
+
+    Harris FJ (1978). On the use of windows for harmonic analysis with the
+    discrete Fourier transform. Proc IEEE 66:51-83.
+
     Examples
     --------
     >>> import numpy as np, gainshape as gs

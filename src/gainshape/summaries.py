@@ -94,6 +94,12 @@ def band_change(before, after, bands=None, *, sfreq=None, lines=None) -> xr.Data
     --------
     observed_gain, plot_band_change
 
+    References
+    ----------
+    Welch PD (1967). The use of fast Fourier transform for the estimation of
+    power spectra: a method based on time averaging over short, modified
+    periodograms. IEEE Trans Audio Electroacoust 15:70-73.
+
     Examples
     --------
     >>> import numpy as np, gainshape as gs
