@@ -63,3 +63,33 @@ def free_port():
             s.bind(("127.0.0.1", 0))
             return s.getsockname()[1]
     return port
+
+
+def pytest_configure(config):
+    """Every step the suite writes is checked against the shipped schema (step.schema.json),
+    with the jsonschema package, when it is installed."""
+    try:
+        import jsonschema
+    except ImportError:
+        return
+    import json
+    from importlib.resources import files
+
+    from gainshape import adapters, provenance
+
+    schema = json.loads((files("gainshape") / "step.schema.json").read_text())
+    jsonschema.Draft202012Validator.check_schema(schema)
+    validator = jsonschema.Draft202012Validator(schema)
+    made = provenance.make_step
+
+    def checked_make_step(*args, **kwargs):
+        step = made(*args, **kwargs)
+        validator.validate(json.loads(json.dumps(step)))  # as it is stored: through JSON
+        STEPS_CHECKED.append(step["id"])
+        return step
+
+    for module in (provenance, adapters):
+        module.make_step = checked_make_step
+
+
+STEPS_CHECKED = []

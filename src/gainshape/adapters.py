@@ -179,10 +179,10 @@ def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
     seconds = None if segments is None else [
         [a / filt.sfreq, b / filt.sfreq] for a, b in segments]
 
-    def record(after):
+    def record(after, also=None):
         return make_step(filt, channels=names, pad=pad, nan=nan, segments=seconds,
                          dtype=str(data.dtype), before=before, after=after,
-                         data_sfreq=inst.info["sfreq"])
+                         data_sfreq=inst.info["sfreq"], also=also)
 
     try:
         filter_array(
@@ -195,9 +195,7 @@ def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
         )
     except BaseException:
         if out is inst:  # in place: the object itself now holds partly filtered data
-            step = record(None)
-            step["application"]["interrupted"] = True
-            store_step(inst.info, step)
+            store_step(inst.info, record(None, also={"interrupted": True}))
         raise
     return out, record(fingerprint(out_data.reshape(-1, data.shape[-1]), rows))
 
@@ -211,8 +209,7 @@ def _apply_lazy(raw, filt, idx, pad, nan, n_jobs):
     seconds = [[a / filt.sfreq, b / filt.sfreq] for a, b in segments]
     step = make_step(filt, channels=[raw.ch_names[i] for i in idx], pad=pad, nan=nan,
                      segments=seconds, dtype="float64", before=None, after=None,
-                     data_sfreq=raw.info["sfreq"])
-    step["application"]["lazy"] = True
+                     data_sfreq=raw.info["sfreq"], also={"lazy": True})
     return out, step
 
 
@@ -311,8 +308,8 @@ def _apply_array(data, filt, sfreq, picks, pad, options, nan, n_jobs, copy, verb
     )
     step = make_step(filt, channels=[f"row {c}" for c in np.atleast_1d(channels)], pad=pad,
                      nan=nan, segments=None, dtype=str(data.dtype), before=before,
-                     after=fingerprint(out.reshape(-1, out.shape[-1]), rows), data_sfreq=sfreq)
-    step["application"]["rows"] = [int(c) for c in np.atleast_1d(channels)]
+                     after=fingerprint(out.reshape(-1, out.shape[-1]), rows), data_sfreq=sfreq,
+                     also={"rows": [int(c) for c in np.atleast_1d(channels)]})
     return out, step
 
 

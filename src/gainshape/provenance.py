@@ -42,6 +42,7 @@ __all__ = [
 _BEGIN = "[gainshape history v1: one JSON step per line below; do not edit]"
 _END = "[end of gainshape history]"
 _STEP_FORMAT = "gainshape.step"
+STEP_FORMAT_VERSION = 1  # step.schema.json; steps without it (version 0) are read alike
 
 
 class History(list):
@@ -95,8 +96,10 @@ def same_rate(a: float, b: float) -> bool:
 
 
 def make_step(design, *, channels, pad, nan, segments, dtype, before, after,
-              data_sfreq=None) -> dict:
-    """The record of one application (see :func:`gainshape.apply`).
+              data_sfreq=None, also=None) -> dict:
+    """The record of one application (see :func:`gainshape.apply`), the one
+    place a step is built; its format is ``step.schema.json`` (shipped with
+    the package, version :data:`STEP_FORMAT_VERSION`).
 
     Parameters
     ----------
@@ -115,6 +118,9 @@ def make_step(design, *, channels, pad, nan, segments, dtype, before, after,
         The data's sampling rate, when it differs slightly from the
         design's: the step then records how far each cutoff moved (a
         kernel's frequencies scale with the rate it runs at).
+    also : dict | None
+        More about the application: "lazy" (filtered as read), "interrupted"
+        (in place, stopped partway) or "rows" (an array's filtered rows).
     """
     curve = design.curve
     try:
@@ -124,6 +130,7 @@ def make_step(design, *, channels, pad, nan, segments, dtype, before, after,
                         "reason": "built from a callable"}
     return {
         "format": _STEP_FORMAT,
+        "format_version": STEP_FORMAT_VERSION,
         "id": uuid.uuid4().hex,
         "time": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
         "software": software_versions(),
@@ -139,7 +146,7 @@ def make_step(design, *, channels, pad, nan, segments, dtype, before, after,
         },
         "realized": design.characteristics.to_dict(),
         "application": {"pad": pad, "nan": nan, "segments": segments, "dtype": dtype,
-                        **_rate_shift(design, data_sfreq)},
+                        **_rate_shift(design, data_sfreq), **(also or {})},
         "channels": list(channels),
         "fingerprint_before": before,
         "fingerprint_after": after,
