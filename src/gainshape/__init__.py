@@ -8,6 +8,22 @@ is the same object whichever way it is reached.
 import importlib
 import sys
 import types
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # the same names, statically, for type checkers and editors
+    from ._checks import GainshapeWarning
+    from .about import about
+    from .adapters import apply, replay
+    from .audit import audit
+    from .curves import GainCurve, bandpass, bandstop, highpass, lowpass, notch
+    from .design import FilterDesign, design
+    from .drawing import draw
+    from .lines import find_lines, suggest_notches
+    from .provenance import bids_filters, export, history, methods_text, write_bids_filters
+    from .recipes import read_recipe, write_recipe
+    from .study import run_study
+    from .summaries import band_change, observed_gain
+    from .viz import plot_audit, plot_band_change, plot_lines, plot_observed_gain
 
 # public name -> the module that defines it
 _HOMES = {
