@@ -8,9 +8,9 @@ is the same object whichever way it is reached.
 import importlib
 import sys
 import types
-from typing import TYPE_CHECKING
+import typing
 
-if TYPE_CHECKING:  # the same names, statically, for type checkers and editors
+if typing.TYPE_CHECKING:  # the same names, statically, for type checkers and editors
     from ._checks import GainshapeWarning
     from .about import about
     from .adapters import apply, replay
