@@ -210,7 +210,8 @@ def _run_locked(content, found, outputs, out_dir, cluster: dict, overwrite, limi
     for output in outputs:  # what a killed worker of an earlier run left (this run holds the lock)
         _remove_stale_staging(output)
     sources = [source for source, _, _ in found]
-    results = [None if overwrite else _kept_result(s, o, content, out_dir, limits)
+    previous = None if overwrite or not limits["summary"] else _previous_summary(out_dir)
+    results = [None if overwrite else _kept_result(s, o, content, previous, limits)
                for s, o in zip(sources, outputs)]
     todo = [i for i, r in enumerate(results) if r is None]
     if todo:
@@ -252,34 +253,36 @@ def _run_locked(content, found, outputs, out_dir, cluster: dict, overwrite, limi
     return table
 
 
-def _kept_result(source: Path, output: Path, content: dict, out_dir: Path, limits: dict):
+def _kept_result(source: Path, output: Path, content: dict, previous, limits: dict):
     """The (row, extras) of a recording found up to date from its stamps,
-    with its methods texts from its sidecar and its band change from the
-    study's last summary; None when it must go to the cluster."""
+    with its methods texts from its sidecar and its band change from
+    ``previous``, the study's last summary; None when it must go to the cluster."""
     start = time.perf_counter()
     if verdict(source, output, content) != "up to date":
         return None
     record = sidecar_record(output) or {}
-    change = _previous_band_change(out_dir, source) if limits["summary"] else None
+    change = _band_change_of(previous, source) if limits["summary"] else None
     if "methods" not in record or (limits["summary"] and change is None):
         return None
     return ([str(source), "up to date", time.perf_counter() - start, float("nan"), output, "",
              ""], {"band_change": change, "methods": tuple(record["methods"])})
 
 
-def _previous_band_change(out_dir: Path, source: Path):
-    """The recording's band change in the study's last ``band_change.nc`` (None if absent)."""
+def _previous_summary(out_dir: Path):
+    """The study's last ``band_change.nc``, loaded (None if absent or unreadable)."""
     import xarray as xr
 
-    path = out_dir / "band_change.nc"
     try:
-        with xr.open_dataset(path) as previous:
-            if str(source) not in previous["recording"].values:
-                return None
-            one = previous.sel(recording=str(source)).load()
-    except (OSError, ValueError, KeyError):
+        return xr.load_dataset(out_dir / "band_change.nc")
+    except (OSError, ValueError):
         return None
-    one = one.drop_vars(["recording", *_ENTITIES], errors="ignore")
+
+
+def _band_change_of(summary, source: Path):
+    """One recording's band change in a study summary (None if it is not there)."""
+    if summary is None or str(source) not in summary["recording"].values:
+        return None
+    one = summary.sel(recording=str(source)).drop_vars(["recording", *_ENTITIES], errors="ignore")
     return one.dropna("channel", how="all")  # channels the study's union added
 
 
