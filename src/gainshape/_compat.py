@@ -35,10 +35,12 @@ def levels_to_caller_outside(folder: str) -> int:
     """
     import os
     import sys
+    import types
 
     if not hasattr(sys, "_getframe"):
         return 2
-    frame, level = sys._getframe(2), 2
+    frame: types.FrameType | None = sys._getframe(2)
+    level = 2
     while frame is not None and os.path.abspath(frame.f_code.co_filename).startswith(folder):
         frame, level = frame.f_back, level + 1
     return level

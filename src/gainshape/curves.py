@@ -308,10 +308,11 @@ class GainCurve:  # numpydoc ignore=PR01
         >>> bandpass(0.1, 40.0).describe()
         'band-pass 0.1-40 Hz, 12 dB/octave'
         """
-        if self._recipe is None:
+        recipe = self.recipe
+        if recipe is None:
             name = getattr(self.func, "__name__", type(self.func).__name__)
             return f"custom curve from callable {name}"
-        return _describe(self.recipe)
+        return _describe(recipe)
 
     def __repr__(self):
         return f"GainCurve({self.describe()})"
@@ -361,10 +362,11 @@ class GainCurve:  # numpydoc ignore=PR01
         >>> notes
         ('notch harmonic at 150 Hz is at or above the Nyquist frequency (125 Hz) and is dropped',)
         """
-        if self._recipe is None:
+        recipe = self.recipe
+        if recipe is None:
             return self, ()
-        notes = []
-        recipe = _fit_below(self.recipe, nyquist, notes)
+        notes: list[str] = []
+        recipe = _fit_below(recipe, nyquist, notes)
         curve = self if not notes else _build(recipe)
         return curve, tuple(notes)
 
@@ -788,14 +790,14 @@ def _fit_below(r: dict, nyquist: float, notes: list) -> dict:
             )
         return {**r, "harmonics": kept}
     if r["kind"] == "comb":
-        kept = [i for i, f in enumerate(r["freqs"]) if f + r["widths"][i] / 2 < nyquist]
+        inside = [i for i, f in enumerate(r["freqs"]) if f + r["widths"][i] / 2 < nyquist]
         notes.extend(f"notch at {f:g} Hz reaches the Nyquist frequency ({nyquist:g} Hz) and "
-                     "is dropped" for i, f in enumerate(r["freqs"]) if i not in kept)
-        if not kept:
+                     "is dropped" for i, f in enumerate(r["freqs"]) if i not in inside)
+        if not inside:
             raise ValueError(f"Every notch of the {_describe(r)} curve reaches the Nyquist "
                              f"frequency ({nyquist:g} Hz).")
-        return {**r, "freqs": [r["freqs"][i] for i in kept],
-                "widths": [r["widths"][i] for i in kept]}
+        return {**r, "freqs": [r["freqs"][i] for i in inside],
+                "widths": [r["widths"][i] for i in inside]}
     if r["kind"] == "product":
         return {**r, "factors": [_fit_below(f, nyquist, notes) for f in r["factors"]]}
     if r["kind"] == "complement":
