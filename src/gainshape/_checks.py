@@ -74,6 +74,24 @@ def check_bool(name: str, value) -> bool:
     return bool(value)
 
 
+def missing_modules(*names: str) -> list:
+    """The modules among ``names`` that cannot be imported (an optional
+    dependency not installed), in order.
+
+    >>> missing_modules("json", "no_such_module_here")
+    ['no_such_module_here']
+    """
+    import importlib
+
+    missing = []
+    for name in names:
+        try:
+            importlib.import_module(name)
+        except ImportError:
+            missing.append(name)
+    return missing
+
+
 DEFAULT_TOLERANCE = 0.001  # largest gain error a design accepts by default (-60 dB of full gain)
 _TOLERANCE_BELOW = 1.0  # a tolerance of the whole gain range would accept any kernel
 

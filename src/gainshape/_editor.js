@@ -351,23 +351,17 @@ function render({ model, el }) {
   });
   const typedGain = () => (model.get("scale") === "dB" ? fromDb(Number(gainInput.value)) : gainInput.value);
   const typed = () => send({ do: "drag", index: model.get("selected"), freq: freqInput.value, gain: typedGain() });
-  for (const input of [freqInput, gainInput]) {
-    // Enter applies the value; stopped here so that JupyterLab's own Enter handling does not eat it
-    input.addEventListener("keydown", (evt) => {
-      if (evt.key !== "Enter") return;
-      evt.preventDefault(); evt.stopPropagation(); typed();
-    });
-  }
+  // Enter applies a field's value; stopped here so that JupyterLab's own Enter handling does not eat it
+  const onEnter = (inputs, action) => inputs.forEach((input) => input.addEventListener("keydown", (evt) => {
+    if (evt.key !== "Enter") return;
+    evt.preventDefault(); evt.stopPropagation(); action();
+  }));
+  onEnter([freqInput, gainInput], typed);
   freqInput.addEventListener("change", typed);
   gainInput.addEventListener("change", typed);
   const zoom = () => send({ do: "zoom", low: zoomLow.value, high: zoomHigh.value });
   zoomButton.addEventListener("click", zoom);
-  for (const input of [zoomLow, zoomHigh]) {
-    input.addEventListener("keydown", (evt) => {
-      if (evt.key !== "Enter") return;
-      evt.preventDefault(); evt.stopPropagation(); zoom();
-    });
-  }
+  onEnter([zoomLow, zoomHigh], zoom);
   wholeButton.addEventListener("click", () => send({ do: "zoom" }));
   startButton.addEventListener("click", () => { if (shapeSelect.value) send({ do: "start", shape: shapeSelect.value }); });
   removeButton.addEventListener("click", () => send({ do: "remove", index: model.get("selected") }));

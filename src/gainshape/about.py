@@ -6,10 +6,11 @@
 
 from __future__ import annotations
 
-import importlib
 import importlib.metadata
 import platform
 import sys
+
+from ._checks import missing_modules
 
 __all__ = ["about"]
 
@@ -57,7 +58,7 @@ def about() -> str:
             lines.append(f"{name}: not installed")
     lines.append("features:")
     for feature, (modules, extra) in _FEATURES.items():
-        missing = [m for m in modules if not _importable(m)]
+        missing = missing_modules(*modules)
         if not missing:
             lines.append(f"  {feature}: available")
         else:
@@ -67,11 +68,3 @@ def about() -> str:
     lines.append("private interfaces in use (gainshape._compat):")
     lines += [f"  {shim}" for shim in shims_in_use()]
     return "\n".join(lines)
-
-
-def _importable(module: str) -> bool:
-    try:
-        importlib.import_module(module)
-    except ImportError:
-        return False
-    return True

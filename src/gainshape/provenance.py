@@ -20,7 +20,7 @@ from pathlib import Path
 import numpy as np
 import xxhash
 
-from ._checks import check_option, warn
+from ._checks import check_option, missing_modules, warn
 from ._files import atomic_output, atomic_outputs
 from .design import phase_words
 from .measure import (held_words, hz_range, hz_words, notch_centre, passband_edges, removed_bands,
@@ -539,19 +539,15 @@ def _check_writer(fname: Path) -> None:
     ...
     ValueError: export writes .bdf, .edf, .set, .vhdr files; rec.txt was given.
     """
-    import importlib
-
     suffix = fname.suffix.lower()
     if suffix not in _WRITERS:
         raise ValueError(f"export writes {', '.join(sorted(_WRITERS))} files; {fname.name} was "
                          "given.")
     package, format_name = _WRITERS[suffix]
-    try:
-        importlib.import_module(package)
-    except ImportError:
+    if missing_modules(package):
         raise ImportError(f"Writing {format_name} ({fname.name}) needs the {package} package, "
                           f"which is not installed: pip install {package} (nothing was "
-                          "written).") from None
+                          "written).")
 
 
 # -- helpers --------------------------------------------------------------------

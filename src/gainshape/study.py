@@ -22,7 +22,7 @@ import time
 import warnings
 from pathlib import Path
 
-from ._checks import check_bool, check_positive, warn
+from ._checks import check_bool, check_positive, missing_modules, warn
 from ._files import atomic_output, atomic_outputs
 from ._stamps import (SIDECAR_KEY, STATE_NAME, file_fingerprint, file_stamps, sidecar_record,
                       stamp, state, unchanged_study, verdict)
@@ -407,14 +407,7 @@ def _require(module: str, extra: str, *more: str) -> None:
 
     >>> _require("json", "none")
     """
-    import importlib
-
-    absent = []
-    for name in (module, *more):
-        try:
-            importlib.import_module(name)
-        except ImportError:
-            absent.append(name)
+    absent = missing_modules(module, *more)
     if absent:
         raise ImportError(f"This needs {', '.join(absent)}, which is not installed: "
                           f'pip install "gainshape[{extra}]"')
