@@ -243,7 +243,7 @@ def design_times(repeat=3):
     """Seconds to design each curve at 1000 Hz, no design reused (best of ``repeat``)."""
     import gainshape as gs
 
-    store = sys.modules["gainshape.design"]._DESIGNS
+    store = sys.modules["gainshape.shaping.design"]._DESIGNS
     curves = {
         "matched band-pass": curve_of("matched"),
         "steep band-pass": curve_of("steep"),

@@ -3,6 +3,7 @@
 import os
 import pathlib
 import shutil
+import sys
 
 import gainshape
 
@@ -62,5 +63,10 @@ def _copy_tutorials():
 
 
 _copy_tutorials()
+# the wings and their imports, drawn from the code (docs/architecture.md shows it)
+sys.path.insert(0, str(pathlib.Path(__file__).parent))
+import wings  # noqa: E402
+
+wings.write_picture(pathlib.Path(__file__).parent / "generated" / "wings.svg")
 # the notebooks' kernels draw inline, so their figures land in the pages
 os.environ["MPLBACKEND"] = "module://matplotlib_inline.backend_inline"

@@ -75,12 +75,16 @@ def pytest_configure(config):
     import json
     from importlib.resources import files
 
-    from gainshape import adapters, provenance
+    import importlib
+    import pkgutil
 
-    schema = json.loads((files("gainshape") / "step.schema.json").read_text())
+    import gainshape
+    from gainshape.record import steps
+
+    schema = json.loads((files("gainshape.record") / "step.schema.json").read_text())
     jsonschema.Draft202012Validator.check_schema(schema)
     validator = jsonschema.Draft202012Validator(schema)
-    made = provenance.make_step
+    made = steps.make_step
 
     def checked_make_step(*args, **kwargs):
         step = made(*args, **kwargs)
@@ -88,8 +92,14 @@ def pytest_configure(config):
         STEPS_CHECKED.append(step["id"])
         return step
 
-    for module in (provenance, adapters):
-        module.make_step = checked_make_step
+    # every module that builds steps, wherever it sits (optional extras' modules skipped)
+    for info in pkgutil.walk_packages(gainshape.__path__, "gainshape."):
+        try:
+            module = importlib.import_module(info.name)
+        except ImportError:
+            continue
+        if getattr(module, "make_step", None) is made:
+            module.make_step = checked_make_step
 
 
 STEPS_CHECKED = []

@@ -167,7 +167,7 @@ def test_concurrent_copies_of_one_object_are_safe_and_equal(raw):
 
 
 def test_interrupted_in_place_run_is_marked_in_history(make_raw, monkeypatch):
-    from gainshape import engine
+    from gainshape.filtering import engine
 
     raw = make_raw()
     raw.set_annotations(mne.Annotations([20.0], [0.0], ["EDGE boundary"]))  # two segments
@@ -179,8 +179,8 @@ def test_interrupted_in_place_run_is_marked_in_history(make_raw, monkeypatch):
             raise KeyboardInterrupt
         return real(*args, **kwargs)
 
-    real = engine._filter_segment
-    monkeypatch.setattr(engine, "_filter_segment", interrupt_second)
+    real = engine.filter_segment
+    monkeypatch.setattr(engine, "filter_segment", interrupt_second)
     with pytest.raises(KeyboardInterrupt):
         gs.apply(raw, gs.lowpass(30.0), copy=False)
     [step] = gs.history(raw)

@@ -169,7 +169,7 @@ def test_notch_is_described_by_its_stop_bands_not_by_side_slopes():
 
 
 def test_passband_edges_and_removed_bands_split_the_shape():
-    from gainshape.measure import passband_edges, removed_bands
+    from gainshape.shaping.measure import passband_edges, removed_bands
 
     realized = gs.design(gs.bandpass(1.0, 40.0) * gs.notch(30.0), SFREQ).characteristics.to_dict()
     assert [(n, round(hz)) for n, hz, _, _ in passband_edges(realized)] == [("high-pass", 1),

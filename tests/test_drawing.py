@@ -9,7 +9,8 @@ from scipy.interpolate import PchipInterpolator
 from scipy.signal import freqz, welch
 
 import gainshape as gs
-from gainshape.drawing import FMIN, GainEditor, editable_points, editor_view
+from gainshape.showing.edits import FMIN, editable_points, editor_view
+from gainshape.showing.drawing import GainEditor
 
 
 @pytest.fixture

@@ -4,7 +4,8 @@ import numpy as np
 import pytest
 
 import gainshape as gs
-from gainshape.engine import PAD_MODES, filter_array
+from gainshape.filtering.blocks import PAD_MODES
+from gainshape.filtering.engine import filter_array
 
 SFREQ = 250.0
 DESIGN = gs.design(gs.bandpass(1.0, 30.0), SFREQ)
@@ -131,7 +132,7 @@ def test_blocks_in_time_equal_one_fft_over_the_record(binding, rng, monkeypatch)
     import scipy.fft as sfft
 
     from gainshape import _compat
-    from gainshape.engine import block_plan
+    from gainshape.filtering.blocks import block_plan
 
     if binding == "public scipy.fft":
         monkeypatch.setattr(_compat, "POCKETFFT", None)
@@ -157,7 +158,7 @@ def test_blocks_in_time_equal_one_fft_over_the_record(binding, rng, monkeypatch)
 def test_progress_bar_counts_the_planned_units(monkeypatch, rng):
     import tqdm.std
 
-    from gainshape.engine import Progress
+    from gainshape.filtering.engine import Progress
 
     seen = {}
 
@@ -180,7 +181,7 @@ def test_convolve_rows_matches_scipy_fft(dtype, n_fft, rng):
     # scipy.fft reference: irfft(rfft(x) * H), for real and complex responses
     import scipy.fft as sfft
 
-    from gainshape.engine import convolve_rows, spectrum_buffer
+    from gainshape.filtering.blocks import convolve_rows, spectrum_buffer
 
     x = rng.standard_normal((5, n_fft)).astype(dtype)
     n_bins = n_fft // 2 + 1

@@ -11,10 +11,9 @@ def test_package_exports_exactly_all():
     public = {name for name in dir(gs)
               if not name.startswith("_") and not isinstance(getattr(gs, name), types.ModuleType)}
     assert public == set(gs.__all__)
-    import gainshape.audit  # noqa: F401  (a submodule of the same name does not hide the function)
-    import gainshape.design  # noqa: F401
+    import gainshape.about  # noqa: F401  (a submodule of the same name does not hide the function)
 
-    assert callable(gs.audit) and callable(gs.design) and gs.design.__module__ == "gainshape.design"
+    assert callable(gs.about) and gs.about.__module__ == "gainshape.about"
     assert len(gs.__all__) == len(set(gs.__all__))
 
 
@@ -30,34 +29,57 @@ def test_warning_class_is_userwarning():
     assert issubclass(gs.GainshapeWarning, UserWarning)
 
 
-# The layers of docs/architecture.md, lowest first; a module may import (at module level)
-# only modules before it. Deferred imports inside functions are the documented
-# exceptions (design -> viz for FilterDesign.plot, adapters -> outofcore).
-LAYERS = ["_compat", "_checks", "_files", "_stamps", "_spectra", "curves", "realize", "rates", "measure", "lengths", "design", "engine", "recipes", "provenance", "adapters", "outofcore",
-          "summaries", "lines", "audit", "viz", "drawing", "study", "about", "cli", "simulate", "demo"]
-MNE_AWARE = {"_compat", "adapters", "outofcore", "provenance", "study", "cli", "simulate", "demo"}  # provenance: version, mne-bids
+# The wings of docs/architecture.md, lowest first, and each wing's modules, lowest first
+# ("ground" and "top" are the modules outside the wings). A module may import, at module
+# level or deferred inside a function, only modules before it: a wing only lower wings
+# (or its own earlier modules), so there is no import circle. A wing's __init__ comes
+# after its modules. The one way up is gainshape._showing, by name, for FilterDesign.plot.
+WINGS = {
+    "ground": ["_version", "_compat", "_checks", "_files", "_spectra", "_showing"],
+    "shaping": ["gains", "curves", "shapes", "realize", "rates", "words", "stopbands", "timing",
+                "measure", "lengths", "filter_design", "design"],
+    "record": ["steps", "methods", "bids"],
+    "filtering": ["blocks", "engine", "outofcore", "signals", "adapters", "recipes"],
+    "examining": ["summaries", "causes", "lines", "notches", "audit"],
+    "showing": ["look", "filter_plots", "spectrum_plots", "waveform_plots", "edits", "drawing"],
+    "studies": ["stamps", "finding", "task", "workers", "report", "study"],
+    "top": ["about", "simulate", "cli", "demo"],
+}
+OUTSIDE = {"ground", "top"}  # modules directly in src/gainshape
+MNE_AWARE = {"_compat", "filtering.signals", "filtering.adapters", "record.steps", "record.bids",
+             "studies.finding", "studies.task", "studies.report", "cli", "simulate", "demo"}
+MAX_LINES = 500
 
 
-def test_architecture_page_lists_the_layers_in_order_and_the_mne_aware_modules():
-    # the page readers see (docs/architecture.md) agrees with the rules enforced here
+def _ordered_modules():
+    """Every module's dotted name below gainshape, lowest first (wing __init__ last)."""
+    order = []
+    for wing, modules in WINGS.items():
+        order += modules if wing in OUTSIDE else [f"{wing}.{m}" for m in modules]
+        order += [] if wing in OUTSIDE else [f"{wing}.__init__"]
+    return order
+
+
+def _source_files():
     from pathlib import Path
 
-    page = Path(__file__).parent.parent / "docs" / "architecture.md"
-    rows = [line.split("|")[1:-1] for line in page.read_text().splitlines()
-            if line.startswith("| ") and line.split("|")[1].strip().isdigit()]
-    assert [cells[1].strip().strip("`") for cells in rows] == LAYERS
-    assert {cells[1].strip().strip("`") for cells in rows if cells[3].strip() == "MNE"} == MNE_AWARE
+    src = Path(gs.__file__).parent
+    return {".".join(p.relative_to(src).with_suffix("").parts): p
+            for p in src.rglob("*.py") if p.name != "__init__.py" or p.parent != src}
 
 
-def _package_imports(path, top_level_only):
+def _imports_of(name, path):
+    """The gainshape modules ``name`` imports anywhere in its file, and its other top
+    names (third-party and standard library)."""
     import ast
 
-    tree = ast.parse(path.read_text())
-    nodes = tree.body if top_level_only else list(ast.walk(tree))
+    package = name.split(".")[:-1]
     local, external = set(), set()
-    for node in nodes:
-        if isinstance(node, ast.ImportFrom) and node.level == 1:  # "from . import x" names x
-            local.update([node.module] if node.module else [a.name for a in node.names])
+    for node in ast.walk(ast.parse(path.read_text())):
+        if isinstance(node, ast.ImportFrom) and node.level:
+            base = package[: len(package) - node.level + 1]
+            targets = [node.module] if node.module else [a.name for a in node.names]
+            local.update(".".join([*base, target]) for target in targets)
         elif isinstance(node, ast.ImportFrom) and node.module:
             external.add(node.module.split(".")[0])
         elif isinstance(node, ast.Import):
@@ -65,16 +87,58 @@ def _package_imports(path, top_level_only):
     return local, external
 
 
-def test_modules_import_only_lower_layers_and_mne_stays_in_adapters():
+def test_architecture_page_shows_the_wings_modules_and_mne_aware_ones():
+    # the page readers see (docs/architecture.md) agrees with the rules enforced here
     from pathlib import Path
 
-    src = Path(gs.__file__).parent
-    assert sorted(p.stem for p in src.glob("*.py") if p.stem != "__init__") == sorted(LAYERS)
-    for rank, name in enumerate(LAYERS):
-        local, _ = _package_imports(src / f"{name}.py", top_level_only=True)
-        assert local <= set(LAYERS[:rank]), (name, local - set(LAYERS[:rank]))
-        _, external = _package_imports(src / f"{name}.py", top_level_only=False)
-        assert ("mne" in external or "mne_bids" in external) <= (name in MNE_AWARE), name
+    page = Path(__file__).parent.parent / "docs" / "architecture.md"
+    rows = [[c.strip().strip("`") for c in line.split("|")[1:-1]]
+            for line in page.read_text().splitlines()
+            if line.startswith("| ") and line.split("|")[1].strip().isdigit()]
+    listed = [(cells[1], cells[2]) for cells in rows]
+    assert listed == [(wing, module) for wing, modules in WINGS.items() for module in modules]
+    dotted = {(module if wing in OUTSIDE else f"{wing}.{module}")
+              for _, wing, module, _, mne in rows if mne == "MNE"}
+    assert dotted == MNE_AWARE
+
+
+def test_every_module_is_in_its_wing_and_imports_only_lower_ones():
+    order = _ordered_modules()
+    files = _source_files()
+    assert sorted(files) == sorted(order)
+    for rank, name in enumerate(order):
+        local, external = _imports_of(name, files[name])
+        local = {m if m in files else m + ".__init__" for m in local}
+        assert local <= set(order[:rank]), (name, sorted(local - set(order[:rank])))
+        assert bool({"mne", "mne_bids"} & external) == (name in MNE_AWARE), name
+
+
+def test_no_module_is_over_the_line_limit():
+    longest = {name: len(path.read_text().splitlines()) for name, path in _source_files().items()}
+    assert max(longest.values()) <= MAX_LINES, sorted(longest.items(), key=lambda kv: -kv[1])[:3]
+
+
+def test_only_the_showing_hook_and_the_package_import_gainshape_by_name():
+    # importlib.import_module would hide an upward import from the test above
+    import ast
+
+    for name, path in _source_files().items():
+        for node in ast.walk(ast.parse(path.read_text())):
+            if isinstance(node, ast.Call) and getattr(node.func, "attr", None) == "import_module":
+                argument = node.args[0]
+                by_name = not isinstance(argument, ast.Constant) or \
+                    argument.value.startswith(("gainshape", "."))
+                assert not by_name or name in {"_showing", "_checks", "studies.workers"}, name
+    from gainshape._showing import plotting_function
+
+    assert plotting_function("plot_design").__module__ == "gainshape.showing.filter_plots"
+
+
+def test_public_names_come_from_the_homes_the_package_lists():
+    import gainshape
+
+    for name in gs.__all__:
+        assert getattr(gs, name).__module__ == f"gainshape.{gainshape._HOMES[name]}", name
 
 
 # Names and sentences of another filtering program's interface that must not
@@ -118,7 +182,7 @@ def test_source_strings_hold_no_borrowed_option_or_message():
     from pathlib import Path
 
     src = Path(gs.__file__).parent
-    nodes = [node for path in src.glob("*.py") for node in ast.walk(ast.parse(path.read_text()))]
+    nodes = [node for path in src.rglob("*.py") for node in ast.walk(ast.parse(path.read_text()))]
     strings = [node.value for node in nodes
                if isinstance(node, ast.Constant) and isinstance(node.value, str)]
     # an f-string's pieces read as one text, its fields as {} ("..., but " f"got {x}")

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 import gainshape as gs
-from gainshape.curves import comb
+from gainshape.shaping.shapes import comb
 
 matplotlib.use("agg")
 

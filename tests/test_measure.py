@@ -6,19 +6,20 @@ import pytest
 from scipy.signal import freqz
 
 import gainshape as gs
-from gainshape.measure import _refined_max, max_deviation
-from gainshape.realize import KernelResponse
+from gainshape.shaping.measure import max_deviation
+from gainshape.shaping.stopbands import refined_max
+from gainshape.shaping.realize import KernelResponse
 
 
 def test_refined_max_finds_a_peak_between_grid_points():
     # reference: calculus; sin(x) peaks at 1 for x = pi / 2, which no grid point hits
     grid = np.linspace(0.0, 3.0, 7)
-    assert _refined_max(grid, np.sin(grid), np.sin) == pytest.approx(1.0, abs=1e-12)
+    assert refined_max(grid, np.sin(grid), np.sin) == pytest.approx(1.0, abs=1e-12)
 
 
 def test_refined_max_respects_where_it_counts():
     grid = np.linspace(0.0, 3.0, 31)
-    best = _refined_max(grid, np.where(grid <= 1.0, np.sin(grid), 0.0), np.sin,
+    best = refined_max(grid, np.where(grid <= 1.0, np.sin(grid), 0.0), np.sin,
                         allowed=lambda f: f <= 1.0)
     assert best == pytest.approx(np.sin(1.0), abs=1e-6)
 
@@ -52,7 +53,7 @@ def test_a_stop_band_peak_between_grid_points_is_found():
     # analytic: a floor gain 0.01 * (1 + 0.5 cos^2(pi (f - 10.37) / 0.8)) peaks at
     # 10.37 Hz (0.015, -36.48 dB), between the grid's points at 10.25 and 10.5 Hz;
     # the floor (request at its lowest) spans 9-12 Hz, the band 8-13 Hz
-    from gainshape.measure import _attenuated_range, _floor_top
+    from gainshape.shaping.stopbands import _attenuated_range, _floor_top
 
     def gain(f):
         f = np.asarray(f, dtype=float)

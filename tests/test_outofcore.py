@@ -89,7 +89,7 @@ class _FailAfter:
                          ids=["disk-full", "ctrl-c"])
 def test_interrupted_save_leaves_nothing_under_the_final_name(tmp_path, monkeypatch, error):
     # common practice (no source): write under a temporary name, rename when complete
-    from gainshape import outofcore
+    from gainshape.filtering import outofcore
 
     lazy = _lazy_recording(tmp_path)
     dst = tmp_path / "out_raw.fif"

@@ -24,7 +24,8 @@ import numpy as np
 import gainshape as gs
 for name in gs.__all__:
     getattr(gs, name)  # every public name imports
-from gainshape import study, cli, about
+from gainshape import about, cli
+from gainshape.studies import study
 x = np.random.default_rng(0).standard_normal((2, 5000))
 y = gs.apply(x, gs.lowpass(30.0), sfreq=250.0)
 assert y.shape == x.shape and "Windows" in gs.about()
@@ -40,10 +41,10 @@ def test_gainshape_imports_and_filters_without_posix_only_modules():
 
 def test_the_local_cluster_runs_a_study_under_spawn(two_recordings, tmp_path, monkeypatch):
     pytest.importorskip("distributed")
-    from gainshape import study as study_module
+    from gainshape.studies import workers as workers_module
 
     recipe, paths = two_recordings
-    monkeypatch.setitem(study_module._LOCAL_WORKERS, "distributed.worker.multiprocessing-method",
+    monkeypatch.setitem(workers_module._LOCAL_WORKERS, "distributed.worker.multiprocessing-method",
                         "spawn")
     table = gs.run_study(recipe, paths, tmp_path / "out", workers=1, verbose=False)
     assert list(table["status"]) == ["filtered", "filtered"]

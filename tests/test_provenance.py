@@ -104,7 +104,7 @@ def test_damaged_record_warns_and_keeps_readable_steps(filtered):
 
 
 def test_quoted_marker_in_user_text_stays_the_users(raw):
-    from gainshape.provenance import _BEGIN
+    from gainshape.record.steps import _BEGIN
 
     raw = raw.copy()
     raw.info["description"] = f"Pilot session. Our notes quote the line {_BEGIN} here."
@@ -127,9 +127,9 @@ def test_quoted_marker_in_user_text_stays_the_users(raw):
 def test_hand_edited_step_is_skipped_by_every_reader_with_one_warning(raw, filtered, edit):
     import json
 
-    from gainshape.provenance import _split_description, store_step
+    from gainshape.record.steps import split_description, store_step
 
-    user, lines = _split_description(filtered.info["description"])
+    user, lines = split_description(filtered.info["description"])
     first = json.loads(lines[0])
     edit(first)
     edited = filtered.copy()

@@ -13,8 +13,8 @@ import pytest
 import scipy.signal
 
 import gainshape as gs
-from gainshape.engine import filter_array
-from gainshape.rates import KernelPart, two_rates
+from gainshape.filtering.engine import filter_array
+from gainshape.shaping.rates import KernelPart, two_rates
 
 SFREQ = 1000.0
 # the benchmark's band-pass: half-amplitude 0.05 and 33.75 Hz, 12 and 24 dB/octave
@@ -77,7 +77,7 @@ def test_one_rate_where_two_would_not_apply(curve, kwargs):
 
 
 def test_a_split_that_would_miss_the_tolerance_is_not_used(monkeypatch):
-    import gainshape.rates as rates
+    import gainshape.shaping.rates as rates
 
     monkeypatch.setattr(rates, "_SLOW_SHARE", 5.0)  # the slow part 5 x too coarse
     loose = rates.two_rates(CURVE, SFREQ, 0.001)

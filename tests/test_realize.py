@@ -6,7 +6,7 @@ import pytest
 from scipy.signal import freqz
 
 from gainshape import highpass, lowpass
-from gainshape.realize import (KernelResponse, _log_interpolated, _near_deep_minima,
+from gainshape.shaping.realize import (KernelResponse, _log_interpolated, _near_deep_minima,
                                _Realizer)
 
 

@@ -14,10 +14,10 @@ import numpy as np
 import pytest
 
 import gainshape as gs
-from gainshape import provenance
+from gainshape.record import steps as provenance
 
 jsonschema = pytest.importorskip("jsonschema")
-SCHEMA = json.loads((files("gainshape") / "step.schema.json").read_text())
+SCHEMA = json.loads((files("gainshape.record") / "step.schema.json").read_text())
 VALIDATOR = jsonschema.Draft202012Validator(SCHEMA)
 
 

@@ -83,10 +83,10 @@ def test_failures_raise_only_when_asked(study, client):
 
 def test_a_recording_that_fails_midway_leaves_nothing_and_a_rerun_completes_it(study, client,
                                                                               monkeypatch):
-    from gainshape import study as study_module
+    from gainshape.studies import task as task_module
 
     recipe, inputs, out = study
-    real_apply, calls = study_module.apply, []
+    real_apply, calls = task_module.apply, []
 
     def failing_for_rec1(raw, **options):
         calls.append(raw.filenames[0])
@@ -94,7 +94,7 @@ def test_a_recording_that_fails_midway_leaves_nothing_and_a_rerun_completes_it(s
             raise RuntimeError("worker lost")
         return real_apply(raw, **options)
 
-    monkeypatch.setattr(study_module, "apply", failing_for_rec1)
+    monkeypatch.setattr(task_module, "apply", failing_for_rec1)
     table = gs.run_study(recipe, inputs[:3], out, client=client, verbose=False)
     assert list(table["status"]) == ["filtered", "failed", "filtered"]
     assert "worker lost" in table["error"].iloc[1]
@@ -236,11 +236,11 @@ def test_a_worker_killed_while_writing_loses_one_recording_and_a_rerun_completes
 
     import dask
 
-    from gainshape import study as study_module
+    from gainshape.studies import workers as workers_module
 
     uninterrupted = gs.run_study(bids_recipe, bids_root, tmp_path / "whole", client=client,
                                  verbose=False)
-    real = study_module._filter_recording
+    real = workers_module.filter_recording
 
     def dies_while_writing(source, content, output, overwrite, limits):  # pickled by value
         if "ses-b_task-oddball" in str(source):
@@ -251,7 +251,7 @@ def test_a_worker_killed_while_writing_loses_one_recording_and_a_rerun_completes
         return real(source, content, output, overwrite, limits)
 
     out = tmp_path / "out"
-    monkeypatch.setattr(study_module, "_filter_recording", dies_while_writing)
+    monkeypatch.setattr(workers_module, "filter_recording", dies_while_writing)
     # no retry of the dying task, and one task at a time on the worker (none lost beside it)
     with dask.config.set({"distributed.scheduler.allowed-failures": 0,
                           "distributed.scheduler.worker-saturation": 1.0}), \
@@ -327,11 +327,11 @@ def finished(tmp_path, make_raw, client):
 
 
 def _no_cluster(monkeypatch):
-    from gainshape import study as study_module
+    from gainshape.studies import study as study_module
 
     def refuse(*args, **kwargs):
         raise AssertionError("a cluster was asked for")
-    monkeypatch.setattr(study_module, "_connected", refuse)
+    monkeypatch.setattr(study_module, "connected", refuse)
 
 
 def test_nothing_changed_is_answered_from_stamps_without_a_cluster(finished, monkeypatch):

@@ -24,7 +24,7 @@ import numpy as np
 import pytest
 
 import gainshape as gs
-from gainshape import study as study_module
+from gainshape.studies import task as task_module, workers as workers_module
 
 distributed = pytest.importorskip("distributed")
 mne_bids = pytest.importorskip("mne_bids")
@@ -169,7 +169,7 @@ def _patch_read(mp):
 
 
 def _patch_filter(mp):
-    mp.setattr(study_module, "apply", _only_victim(study_module.apply, RuntimeError("filter")))
+    mp.setattr(task_module, "apply", _only_victim(task_module.apply, RuntimeError("filter")))
 
 
 def _patch_fif_write(mp):
@@ -193,18 +193,18 @@ def _patch_sidecar_write(mp):
 
 
 def _patch_band_change(mp):
-    mp.setattr(study_module, "band_change", _only_victim(study_module.band_change,
+    mp.setattr(task_module, "band_change", _only_victim(task_module.band_change,
                                                          ValueError("band change")))
 
 
 def _patch_methods(mp):
-    real = study_module.methods_text
+    real = task_module.methods_text
 
     def methods_text(inst, *args, **kwargs):
         if VICTIM in str(inst.filenames[0]) or ".partial" in str(inst.filenames[0]):
             raise ValueError("methods")
         return real(inst, *args, **kwargs)
-    mp.setattr(study_module, "methods_text", methods_text)
+    mp.setattr(task_module, "methods_text", methods_text)
 
 
 WORK_FAULTS = [
@@ -253,7 +253,7 @@ def _patch_methods_file(mp):
 
 
 def _patch_report_figure(mp):
-    import gainshape.viz as viz
+    import gainshape.showing.spectrum_plots as viz
 
     def broken(*args, **kwargs):  # the error a damaged recording once caused there
         raise ValueError("The truth value of an array with more than one element is ambiguous")
@@ -429,7 +429,7 @@ def test_a_worker_killed_while_writing_keeps_the_previous_output(study, monkeypa
 
     recipe, root, out = study
     before, inputs = _sums(out), _sums(root)
-    real = study_module._filter_recording
+    real = workers_module.filter_recording
 
     def dies_while_writing(source, content, output, overwrite, limits):  # pickled by value
         if VICTIM in str(source):
@@ -439,7 +439,7 @@ def test_a_worker_killed_while_writing_keeps_the_previous_output(study, monkeypa
             os._exit(1)
         return real(source, content, output, overwrite, limits)
 
-    monkeypatch.setattr(study_module, "_filter_recording", dies_while_writing)
+    monkeypatch.setattr(workers_module, "filter_recording", dies_while_writing)
     with dask.config.set({"distributed.scheduler.allowed-failures": 0}), \
             distributed.LocalCluster(n_workers=1, threads_per_worker=1, processes=True,
                                      dashboard_address=":0") as cluster, \

@@ -64,7 +64,7 @@ def test_time_panels_show_whole_kernel_and_step(design):
 
 def test_energy_span_holds_99_percent():
     # Parseval (NumPy only): energy is the sum of squared samples
-    from gainshape.viz import energy_span
+    from gainshape.showing.filter_plots import energy_span
 
     f = gs.design(gs.bandpass(0.5, 30.0), 250.0)
     start, stop = energy_span(f.times, f.kernel)

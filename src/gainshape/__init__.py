@@ -13,29 +13,39 @@ import typing
 if typing.TYPE_CHECKING:  # the same names, statically, for type checkers and editors
     from ._checks import GainshapeWarning
     from .about import about
-    from .adapters import apply, replay
-    from .audit import audit
-    from .curves import GainCurve, bandpass, bandstop, highpass, lowpass, notch
-    from .design import FilterDesign, design
-    from .drawing import draw
-    from .lines import find_lines, suggest_notches
-    from .provenance import bids_filters, export, history, methods_text, write_bids_filters
-    from .recipes import read_recipe, write_recipe
-    from .study import run_study
-    from .summaries import band_change, observed_gain
-    from .viz import plot_audit, plot_band_change, plot_lines, plot_observed_gain
+    from .filtering.adapters import apply, replay
+    from .examining.audit import audit
+    from .shaping.curves import GainCurve
+    from .shaping.shapes import bandpass, bandstop, highpass, lowpass, notch
+    from .shaping.filter_design import FilterDesign
+    from .shaping.design import design
+    from .showing.drawing import draw
+    from .examining.lines import find_lines
+    from .examining.notches import suggest_notches
+    from .record.bids import bids_filters, export, write_bids_filters
+    from .record.steps import history
+    from .record.methods import methods_text
+    from .filtering.recipes import read_recipe, write_recipe
+    from .studies.study import run_study
+    from .examining.summaries import band_change, observed_gain
+    from .showing.waveform_plots import plot_audit
+    from .showing.spectrum_plots import plot_band_change, plot_lines, plot_observed_gain
 
 # public name -> the module that defines it
 _HOMES = {
-    "GainshapeWarning": "_checks", "apply": "adapters", "replay": "adapters",
-    "GainCurve": "curves", "bandpass": "curves", "bandstop": "curves", "highpass": "curves",
-    "lowpass": "curves", "notch": "curves", "FilterDesign": "design", "design": "design",
-    "draw": "drawing", "audit": "audit", "find_lines": "lines", "suggest_notches": "lines",
-    "bids_filters": "provenance", "export": "provenance", "history": "provenance",
-    "methods_text": "provenance", "write_bids_filters": "provenance", "read_recipe": "recipes",
-    "write_recipe": "recipes", "run_study": "study", "band_change": "summaries",
-    "observed_gain": "summaries", "plot_audit": "viz", "plot_band_change": "viz",
-    "plot_lines": "viz", "plot_observed_gain": "viz", "about": "about",
+    "GainshapeWarning": "_checks", "about": "about", "audit": "examining.audit",
+    "find_lines": "examining.lines", "suggest_notches": "examining.notches",
+    "band_change": "examining.summaries", "observed_gain": "examining.summaries",
+    "apply": "filtering.adapters", "replay": "filtering.adapters",
+    "read_recipe": "filtering.recipes", "write_recipe": "filtering.recipes",
+    "bids_filters": "record.bids", "export": "record.bids", "write_bids_filters": "record.bids",
+    "methods_text": "record.methods", "history": "record.steps", "GainCurve": "shaping.curves",
+    "design": "shaping.design", "FilterDesign": "shaping.filter_design",
+    "bandpass": "shaping.shapes", "bandstop": "shaping.shapes", "highpass": "shaping.shapes",
+    "lowpass": "shaping.shapes", "notch": "shaping.shapes", "draw": "showing.drawing",
+    "plot_band_change": "showing.spectrum_plots", "plot_lines": "showing.spectrum_plots",
+    "plot_observed_gain": "showing.spectrum_plots", "plot_audit": "showing.waveform_plots",
+    "run_study": "studies.study",
 }
 
 
@@ -64,7 +74,7 @@ class _Package(types.ModuleType):
 
 sys.modules[__name__].__class__ = _Package
 
-__version__ = "0.1.0"
+from ._version import __version__  # noqa: E402
 
 __all__ = [
     "FilterDesign",

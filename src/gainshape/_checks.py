@@ -147,3 +147,16 @@ def check_int(name: str, value, *, minimum: int) -> int:
             f"The '{name}' parameter takes an integer >= {minimum}; {value!r} was given."
         )
     return int(value)
+
+
+def check_fraction(name: str, value: float) -> float:
+    """``value`` as a float in (0, 1], else a ValueError naming ``name``.
+
+    >>> check_fraction("presence", 0.5)
+    0.5
+    """
+    value = check_positive(name, value)
+    if value > 1:
+        raise ValueError(f"The '{name}' parameter takes a fraction between 0 and 1; "
+                         f"{value!r} was given.")
+    return value

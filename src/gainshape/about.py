@@ -46,7 +46,7 @@ def about() -> str:
     gainshape ...
     Python ...
     """
-    from . import __version__
+    from ._version import __version__
     from ._compat import shims_in_use
 
     lines = [f"gainshape {__version__}", f"Python {platform.python_version()} "

@@ -52,7 +52,7 @@ def _parser() -> argparse.ArgumentParser:
         prog="gainshape", description="Filter EEG recordings with gain-curve recipes.",
         epilog="Exit codes: 0 done; 1 some recordings failed (the others are done); "
                "2 bad usage or input (nothing was done).")
-    from . import __version__
+    from ._version import __version__
 
     parser.add_argument("--version", action="version", version=f"gainshape {__version__}")
     commands = parser.add_subparsers(required=True, metavar="COMMAND")
@@ -97,7 +97,7 @@ def _about(args) -> int:
 
 
 def _run(args) -> int:
-    from ._stamps import unchanged_study
+    from .studies.stamps import unchanged_study
 
     inputs = args.inputs[0] if len(args.inputs) == 1 and Path(args.inputs[0]).is_dir() else args.inputs
     selection = {"subjects": args.subject, "sessions": args.session, "tasks": args.task}
@@ -106,7 +106,7 @@ def _run(args) -> int:
     if kept is not None:  # answered from file stamps: no MNE, no cluster
         print(_table_text([[source, "up to date", 0.0, ""] for source, *_ in kept]))
         return EXIT_DONE
-    from .study import run_study
+    from .studies.study import run_study
 
     table = run_study(args.recipe, inputs, args.out, args.scheduler, overwrite=args.overwrite,
                       workers=args.workers, allow_short=args.allow_short,
@@ -135,7 +135,7 @@ def _table_text(rows) -> str:
 
 
 def _describe(args) -> int:
-    from .recipes import read_recipe, recipe_design
+    from .filtering.recipes import read_recipe, recipe_design
 
     realized = recipe_design(read_recipe(args.recipe), args.sfreq)
     print(realized.curve.describe())
@@ -147,7 +147,8 @@ def _describe(args) -> int:
 def _history(args) -> int:
     import mne
 
-    from .provenance import history, methods_text
+    from .record.steps import history
+    from .record.methods import methods_text
 
     try:
         with warnings.catch_warnings():
@@ -171,7 +172,7 @@ def _history(args) -> int:
 
 def _curve_words(record: dict) -> str:
     """A recorded curve in words (its recipe rebuilt, or the description kept for a callable)."""
-    from .curves import GainCurve
+    from .shaping.curves import GainCurve
 
     if "description" in record:
         return record["description"]

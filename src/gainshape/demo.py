@@ -32,7 +32,7 @@ def demo_curve(notches=None):
     """Band-pass 0.1-40 Hz (12 dB/octave) times ``notches`` (a GainCurve,
     such as the comb :func:`gainshape.suggest_notches` proposes), or by
     default a 50 Hz notch with 3 harmonics."""
-    from . import bandpass, notch
+    from .shaping.shapes import bandpass, notch
 
     if notches is None:
         notches = notch(50.0, width=2.0, harmonics=3)
@@ -46,10 +46,18 @@ def main(argv=None) -> int:
     matplotlib.use("Agg")
     import mne
 
-    from . import (apply, audit, band_change, design, find_lines, methods_text, observed_gain,
-                   suggest_notches)
-    from .viz import (plot_audit, plot_band_change, plot_design, plot_erp_pair, plot_lines,
-                      plot_observed_gain, plot_spectrum_pair)
+    from .filtering.adapters import apply
+    from .examining.audit import audit
+    from .examining.summaries import band_change, observed_gain
+    from .shaping.design import design
+    from .examining.lines import find_lines
+    from .examining.notches import suggest_notches
+    from .record.methods import methods_text
+    from .showing.waveform_plots import plot_audit, plot_erp_pair
+    from .showing.spectrum_plots import (
+        plot_band_change, plot_lines, plot_observed_gain, plot_spectrum_pair,
+    )
+    from .showing.filter_plots import plot_design
 
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--out", default="demo-output", help="output folder")

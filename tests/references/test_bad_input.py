@@ -219,7 +219,7 @@ CASES = [
     ("recipe product of nothing", lambda mk: _recipe({"kind": "product", "factors": []}),
      lambda a: GainCurve.from_dict(a), ValueError, "damaged"),
     ("recipe kind a list", lambda mk: _recipe({"kind": ["lowpass"]}),
-     lambda a: GainCurve.from_dict(a), ValueError, "'kind' must be one of"),
+     lambda a: GainCurve.from_dict(a), ValueError, "'kind' takes one of"),
     ("recipe frequency a list", lambda mk: _recipe({"kind": "lowpass", "cutoff": [30], "rolloff": 12}),
      lambda a: GainCurve.from_dict(a), TypeError, "'cutoff'"),
     ("points 2-D", lambda mk: None,

@@ -19,7 +19,7 @@ import pytest
 from scipy.signal import freqz
 
 import gainshape as gs
-from gainshape.realize import KernelResponse
+from gainshape.shaping.realize import KernelResponse
 
 
 def _requests(n=200):

@@ -206,7 +206,7 @@ def test_a_steady_tone_s_width_is_the_hann_window_s_read_between_bins(offset):
 
 
 def test_epochs_band_change_map_combines_epochs_by_their_mean_power():
-    from gainshape.summaries import band_change_map
+    from gainshape.examining.summaries import band_change_map
 
     # epochs of unequal power and spectral shape: a 9 Hz and an 12.5 Hz rhythm, unequal size
     rng = np.random.default_rng(4)

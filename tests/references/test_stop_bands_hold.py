@@ -16,7 +16,7 @@ import pytest
 from scipy.signal import freqz
 
 import gainshape as gs
-from gainshape.measure import stop_band_words
+from gainshape.shaping.words import stop_band_words
 
 
 def _designs():

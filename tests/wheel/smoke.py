@@ -21,8 +21,9 @@ from gainshape.simulate import simulate_workshop_recording
 def main() -> int:
     where = Path(gs.__file__).parent
     assert "site-packages" in str(where), f"gainshape imported from {where}, not the wheel"
-    for name in ("_editor.js", "_editor.css", "py.typed"):
-        assert (importlib.resources.files("gainshape") / name).is_file(), name
+    for package, name in (("gainshape.showing", "_editor.js"), ("gainshape.showing", "_editor.css"),
+                          ("gainshape.record", "step.schema.json"), ("gainshape", "py.typed")):
+        assert (importlib.resources.files(package) / name).is_file(), (package, name)
     print(f"gainshape {gs.__version__} from {where}; MNE-Python {mne.__version__}")
 
     # the README's "A first look", on a simulated Raw

@@ -12,11 +12,14 @@ from __future__ import annotations
 from pathlib import Path
 
 import numpy as np
-from ._compat import reader_raw_arguments, reader_raw_class, unlocked
-from ._files import atomic_output
-from .design import FilterDesign
-from .engine import (LOCAL_PAD_MODES, block_plan, check_finite, fft_workers,
-                     filter_span, full_rate_part, pads_and_slow_output, spectrum_buffer)
+from .._compat import reader_raw_arguments, reader_raw_class, unlocked
+from .._files import atomic_output
+from ..shaping.filter_design import FilterDesign
+from .blocks import (
+    LOCAL_PAD_MODES, block_plan, filter_span, full_rate_part, pads_and_slow_output,
+    spectrum_buffer,
+)
+from .engine import check_finite, fft_workers
 
 __all__ = ["check_request", "filtered_raw"]
 

@@ -12,11 +12,12 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from ._checks import DEFAULT_TOLERANCE, check_bool, check_option, check_positive
-from ._files import atomic_output
-from .curves import GainCurve
-from .design import FilterDesign, check_filter, check_kernel_request, design
-from .engine import PAD_MODES
+from .._checks import DEFAULT_TOLERANCE, check_bool, check_option, check_positive
+from .._files import atomic_output
+from ..shaping.curves import GainCurve
+from ..shaping.filter_design import FilterDesign
+from ..shaping.design import check_filter, check_kernel_request, design
+from .blocks import PAD_MODES
 
 __all__ = ["read_recipe", "write_recipe", "recipe_content", "recipe_from_content", "recipe_design"]
 

@@ -12,9 +12,9 @@ import numpy as np
 import xarray as xr
 from scipy.signal import csd, welch
 
-from ._checks import warn
-from ._spectra import welch_density
-from .adapters import as_arrays
+from .._checks import warn
+from .._spectra import welch_density
+from ..filtering.signals import as_arrays
 
 __all__ = ["band_change", "band_change_map", "observed_gain", "DEFAULT_BANDS", "spectral_settings"]
 

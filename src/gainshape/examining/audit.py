@@ -17,11 +17,12 @@ import warnings
 import numpy as np
 import xarray as xr
 
-from ._checks import GainshapeWarning, check_positive, warn
-from .adapters import as_arrays
-from .design import FilterDesign, check_filter, design
-from .engine import filter_array
-from .measure import passband_edges
+from .._checks import GainshapeWarning, check_positive, warn
+from ..filtering.signals import as_arrays
+from ..shaping.filter_design import FilterDesign
+from ..shaping.design import check_filter, design
+from ..filtering.engine import filter_array
+from ..shaping.measure import passband_edges
 
 __all__ = ["audit"]
 
