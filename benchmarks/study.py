@@ -200,7 +200,7 @@ def main() -> None:
                for _ in range(args.repeat))
     split = min(split_loop(paths, recipe, folder / "split", with_band_change=False)
                 for _ in range(args.repeat))
-    bare = min(study(paths, recipe_file, folder / "study_bare", summary=False)[0]
+    bare = min(study(paths, recipe_file, folder / "study_bare", band_change=False)[0]
                for _ in range(args.repeat))
     loop_bc = min(plain_loop(paths, recipe, folder / "loop_bc", with_band_change=True)
                   for _ in range(args.repeat))
@@ -212,7 +212,7 @@ def main() -> None:
     print(f"plain loop, read + gs.apply + save:                 {loop:6.1f} s")
     print(f"the same loop split over {workers} processes (ceiling):   {split:6.1f} s  "
           f"speed-up {loop / split:.2f}x")
-    print(f"gs.run_study(summary=False), {workers} workers:            {bare:6.1f} s  "
+    print(f"gs.run_study(band_change=False), {workers} workers:            {bare:6.1f} s  "
           f"speed-up {loop / bare:.2f}x")
     print(f"plain loop, read + gs.apply + save + band_change:   {loop_bc:6.1f} s")
     print(f"gs.run_study (band change, summary, report):        {wall:6.1f} s  "

@@ -39,7 +39,7 @@ numpydoc_validation_checks = {"all", "GL01", "ES01", "SA04"}
 # dataclass fields are documented in their class's Attributes section
 numpydoc_validation_exclude = {
     r"\.__\w+__$",
-    r"^gainshape\.FilterDesign\.(curve|sfreq|causal|kernel_request|tolerance|kernel|offset"
+    r"^gainshape\.FilterDesign\.(curve|sfreq|causal|kernel_request|tolerance|taps|offset"
     r"|characteristics|notes|rates)$",
     r"^gainshape\.GainCurve\.func$",
 }

@@ -231,7 +231,7 @@ def test_progress_follows_verbose_and_mne_log_level(capsys, make_raw):
 
 def test_kernel_long_for_the_record_warns_with_both_lengths_and_the_edge(make_raw):
     raw = make_raw(seconds=40.0)  # 40 s; the 0.1 Hz high-pass kernel is about 22 s at 250 Hz
-    taps = gs.design(gs.highpass(0.1), 250.0).kernel.size
+    taps = gs.design(gs.highpass(0.1), 250.0).taps.size
     assert 3 * taps > 10000
     with pytest.warns(gs.GainshapeWarning, match=rf"\(10000 samples, 40 s\) is shorter than 3 times "
                       rf"the filter's kernel \({taps} samples, {taps / 250:.3g} s\).*high-pass edge "

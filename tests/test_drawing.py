@@ -46,13 +46,13 @@ def test_curve_recipe_round_trips_through_json(editor):
 def test_design_is_gs_design_of_the_curve(editor):
     editor.drag(1, editor.points[1][0] * 1.2, 0.2)
     expected = gs.design(editor.curve, 250.0)
-    np.testing.assert_array_equal(editor.design.kernel, expected.kernel)
+    np.testing.assert_array_equal(editor.design.taps, expected.taps)
     assert editor.view["characteristics"] == [list(r) for r in expected.summary()]
 
 
 def test_view_gains_are_the_kernel_response(editor):
     # reference: scipy.signal.freqz of the zero-phase kernel
-    view, kernel = editor.view, editor.design.kernel
+    view, kernel = editor.view, editor.design.taps
     freqs = np.array(view["freqs"])[::40]
     _, h = freqz(kernel, worN=freqs, fs=250.0)
     np.testing.assert_allclose(np.array(view["realized"])[::40], np.abs(h), atol=1e-6)
@@ -64,7 +64,7 @@ def test_step_trace_keeps_the_step_response_extremes():
     # the step response is the running sum of the kernel (common practice, no source);
     # thinned to min/max pairs, its extremes survive
     design = gs.design(gs.highpass(0.2), 1000.0)
-    step = np.cumsum(design.kernel)
+    step = np.cumsum(design.taps)
     trace = editor_view(design, 499.0)["step"]
     assert len(trace["values"]) <= 1200 < step.size
     assert max(trace["values"]) == pytest.approx(step.max(), rel=1e-6)

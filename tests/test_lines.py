@@ -28,7 +28,7 @@ def hum(sfreq=250.0, seconds=60.0, line_freq=None, freqs=(50.0, 100.0), seed=0):
 
 
 def _frequencies(found):
-    return [round(float(f), 1) for f in found.frequency.values]
+    return [round(float(f), 1) for f in found.line_frequency.values]
 
 
 def test_raw_epochs_and_evoked_show_the_same_lines():
@@ -103,7 +103,7 @@ def test_the_figure_marks_each_line_with_its_measured_numbers():
     fig = gs.plot_lines(found, show=False)
     labels = [text.get_text() for text in fig.axes[0].texts]
     assert labels == [f"{f:.2f} Hz\n+{h:.1f} dB"
-                      for f, h in zip(found.frequency.values, found.height_db.values)]
+                      for f, h in zip(found.line_frequency.values, found.height_db.values)]
     threshold = [line for line in fig.axes[1].lines if line.get_linestyle() == ":"][0]
     assert threshold.get_ydata()[0] == pytest.approx(found.attrs["threshold_db"])
     assert found.attrs["threshold_db"] == pytest.approx(5.0)  # 33 segments: no raise by chance

@@ -27,9 +27,9 @@ def test_refined_max_respects_where_it_counts():
 def test_max_deviation_equals_a_dense_scan():
     # reference: scipy.signal.freqz of the kernel on 2**20 points
     f = gs.design(gs.bandpass(1.0, 40.0), 250.0)
-    freqs, h = freqz(f.kernel, worN=2**20, fs=250.0)
+    freqs, h = freqz(f.taps, worN=2**20, fs=250.0)
     dense = np.max(np.abs(np.abs(h) - f.requested_gain(freqs)))
-    measured = max_deviation(f.curve, KernelResponse(f.kernel, f.offset, 250.0, False))
+    measured = max_deviation(f.curve, KernelResponse(f.taps, f.offset, 250.0, False))
     assert measured == pytest.approx(dense, rel=1e-4)
     assert f.characteristics.max_deviation == pytest.approx(dense, rel=1e-4)
 
@@ -39,7 +39,7 @@ def test_causal_single_edge_is_timed_from_its_own_kernel(curve):
     # reference: definition; a causal kernel's unit step response is its cumulative sum
     f = gs.design(curve, 250.0, causal=True)
     timing, = f.characteristics.edge_timing
-    step = np.cumsum(f.kernel)
+    step = np.cumsum(f.taps)
     if timing.edge == "high-pass":
         late = np.flatnonzero(np.abs(step - step[-1]) > 0.01)
         assert timing.settling_s == pytest.approx(late[-1] / 250.0)

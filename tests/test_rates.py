@@ -60,7 +60,7 @@ def test_slow_edge_far_below_the_fast_one_runs_in_two_rates(split):
     r = split.rates
     assert r is not None and r.factor >= 8
     assert r.reduced_rate == pytest.approx(SFREQ / r.factor)
-    assert r.fast.kernel.size * 16 <= split.kernel.size  # the full-rate part is short
+    assert r.fast.taps.size * 16 <= split.taps.size  # the full-rate part is short
     # the request is met by the combined filter, aliasing included
     assert split.characteristics.max_deviation + r.aliasing <= split.tolerance
 
@@ -100,8 +100,8 @@ def test_equivalent_kernel_is_the_sum_of_its_parts_freqz(split):
     m = r.factor
     x = np.pi * f / SFREQ
     moving_average = (np.sin(m * x) / (m * np.sin(x))) ** 2
-    expected = (zero_phase(r.fast.kernel, r.fast.offset, SFREQ)
-                - zero_phase(r.slow.kernel, r.slow.offset, r.reduced_rate)
+    expected = (zero_phase(r.fast.taps, r.fast.offset, SFREQ)
+                - zero_phase(r.slow.taps, r.slow.offset, r.reduced_rate)
                 * moving_average**2)
     np.testing.assert_allclose(split.realized_gain(f), np.abs(expected), atol=1e-9)
 
@@ -117,7 +117,7 @@ def test_output_equals_the_request_applied_exactly_on_eeg_with_drift(curve, rng)
     ref = _exact_request(x, curve, 250_000)
     assert np.sqrt(np.mean((y - ref) ** 2) / np.mean(ref**2)) < 2e-3
     # and the same kernel run at one rate: they differ by the aliasing only
-    one = filter_array(x, KernelPart(design.kernel, design.offset, SFREQ))
+    one = filter_array(x, KernelPart(design.taps, design.offset, SFREQ))
     assert np.sqrt(np.mean((y - one) ** 2) / np.mean(one**2)) < 2e-3
 
 
@@ -176,7 +176,7 @@ def test_a_tone_near_the_reduced_rate_leaks_as_predicted_and_within_the_bound(sp
     def moving_average(f):
         return (np.sin(np.pi * f * m / SFREQ) / (m * np.sin(np.pi * f / SFREQ))) ** 2
 
-    w, h = scipy.signal.freqz(r.slow.kernel, worN=[g], fs=r.reduced_rate)
+    w, h = scipy.signal.freqz(r.slow.taps, worN=[g], fs=r.reduced_rate)
     predicted = abs(h[0]) * moving_average(g) * moving_average(f_in)
     assert leaked == pytest.approx(predicted, rel=0.05)
     assert leaked <= r.aliasing
@@ -198,7 +198,7 @@ def test_aliasing_bound_is_the_folded_gain_summed_over_every_fold(split):
         return np.where(np.abs(np.sin(x)) < 1e-12, 1.0, ratio) ** 2
 
     folded = sum(moving_average(g + k * low) for k in range(1, m))
-    _, slow = scipy.signal.freqz(r.slow.kernel, worN=g, fs=low)
+    _, slow = scipy.signal.freqz(r.slow.taps, worN=g, fs=low)
     brute = np.max(np.abs(slow) * moving_average(g) * folded)
     assert r.aliasing == pytest.approx(brute, rel=1e-6)
     assert f"aliasing at most {brute:.2g}" in dict(split.summary())["rates"]
@@ -218,7 +218,7 @@ def test_float32_in_place_epochs_and_nan_runs_agree_with_float64(split, rng):
     with pytest.warns(gs.GainshapeWarning, match="shorter than"):
         got = filter_array(epochs, split)
     with pytest.warns(gs.GainshapeWarning, match="shorter than"):
-        one = filter_array(epochs, KernelPart(split.kernel, split.offset, SFREQ))
+        one = filter_array(epochs, KernelPart(split.taps, split.offset, SFREQ))
     assert np.sqrt(np.mean((got - one) ** 2) / np.mean(one**2)) < 2e-3
     # padding that repeats the end value, wider than the epoch: two rates
     # against numpy.pad and one FFT with the equivalent kernel

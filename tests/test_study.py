@@ -382,3 +382,12 @@ def test_a_new_input_in_a_bids_root_is_seen(bids_root, bids_recipe, client, tmp_
     mne_bids.write_raw_bids(raw, path, format="BrainVision", allow_preload=True, verbose=False)
     again = gs.run_study(bids_recipe, root, out, client=client, verbose=False)
     assert list(again["status"]) == ["up to date"] * len(first) + ["filtered"]
+
+
+def test_the_old_name_of_band_change_still_works_with_a_future_warning(two_recordings, tmp_path):
+    # the deprecation rule of the project plan: a renamed parameter keeps its old name one release
+    recipe, paths = two_recordings
+    with pytest.warns(FutureWarning, match="'band_change'"):
+        table = gs.run_study(recipe, paths[:1], tmp_path / "out", summary=False, workers=1,
+                             verbose=False)
+    assert table.attrs["band_change"] is None and list(table["status"]) == ["filtered"]

@@ -54,8 +54,8 @@ def test_deviation_panel_shows_realized_minus_requested(design):
 def test_time_panels_show_whole_kernel_and_step(design):
     fig = design.plot(show=False)
     ax_imp, ax_env, ax_step = fig.axes[3:6]
-    np.testing.assert_array_equal(ax_imp.get_lines()[0].get_ydata(), design.kernel)
-    np.testing.assert_allclose(ax_step.get_lines()[0].get_ydata(), np.cumsum(design.kernel))
+    np.testing.assert_array_equal(ax_imp.get_lines()[0].get_ydata(), design.taps)
+    np.testing.assert_allclose(ax_step.get_lines()[0].get_ydata(), np.cumsum(design.taps))
     assert ax_imp.get_xlim() == (design.times[0], design.times[-1])  # the whole support
     envelope = _line(ax_env, "envelope").get_ydata()
     assert envelope.max() == 0.0 and np.all(np.diff(envelope[design.offset:]) <= 0)
@@ -67,9 +67,9 @@ def test_energy_span_holds_99_percent():
     from gainshape.showing.filter_plots import energy_span
 
     f = gs.design(gs.bandpass(0.5, 30.0), 250.0)
-    start, stop = energy_span(f.times, f.kernel)
+    start, stop = energy_span(f.times, f.taps)
     inside = (f.times >= start) & (f.times <= stop)
-    share = np.sum(f.kernel[inside] ** 2) / np.sum(f.kernel**2)
+    share = np.sum(f.taps[inside] ** 2) / np.sum(f.taps**2)
     assert 0.99 <= share < 0.995
 
 

@@ -102,7 +102,7 @@ def _run(args) -> int:
     inputs = args.inputs[0] if len(args.inputs) == 1 and Path(args.inputs[0]).is_dir() else args.inputs
     selection = {"subjects": args.subject, "sessions": args.session, "tasks": args.task}
     kept = None if args.overwrite else unchanged_study(args.recipe, inputs, Path(args.out),
-                                                       selection, summary=True)
+                                                       selection, band_change=True)
     if kept is not None:  # answered from file stamps: no MNE, no cluster
         print(_table_text([[source, "up to date", 0.0, ""] for source, *_ in kept]))
         return EXIT_DONE

@@ -74,7 +74,7 @@ def main(argv=None) -> int:
     _save_figure(plot_lines(found, show=False), out / "lines_found.png")
     print(f"\nLines found before filtering (at least {found.attrs['threshold_db']:.1f} dB above "
           f"the background in at least half the channels)")
-    print(found[["frequency", "height_db", "width", "harmonic_of", "n_channels"]]
+    print(found[["line_frequency", "height_db", "width", "harmonic_of", "n_channels"]]
           .to_dataframe().round(3).to_string(index=False))
     proposal = suggest_notches(found)
     print("Proposed notches:\n  " + "\n  ".join(proposal.reasons))

@@ -41,15 +41,15 @@ def _requests(n=200):
 
 def _true_deviation(f) -> float:
     """max |realized - requested| on a grid 8x finer than gainshape's."""
-    n = 8 * KernelResponse(f.kernel, f.offset, f.sfreq, f.causal).n
-    spectrum = np.fft.rfft(f.kernel, n)
+    n = 8 * KernelResponse(f.taps, f.offset, f.sfreq, f.causal).n
+    spectrum = np.fft.rfft(f.taps, n)
     freqs = np.fft.rfftfreq(n, 1.0 / f.sfreq)
     if f.causal:
         realized = np.abs(spectrum)
     else:  # remove the linear phase of a kernel whose t = 0 is at sample `offset`
         realized = np.real(spectrum * np.exp(2j * np.pi * freqs * f.offset / f.sfreq))
     some = freqs[1:-1:max(1, freqs.size // 50)]
-    _, h = freqz(f.kernel, worN=some, fs=f.sfreq)  # the FFT grid agrees with freqz
+    _, h = freqz(f.taps, worN=some, fs=f.sfreq)  # the FFT grid agrees with freqz
     np.testing.assert_allclose(np.abs(spectrum[1:-1:max(1, freqs.size // 50)]), np.abs(h),
                                atol=1e-9)
     return float(np.max(np.abs(realized - f.curve(freqs))))

@@ -29,7 +29,7 @@ SFREQ = 500.0
 
 def _gain(f, hz):
     """|H| of the design's kernel at ``hz`` (scipy.signal.freqz)."""
-    return np.abs(freqz(f.kernel, worN=np.atleast_1d(np.asarray(hz, float)), fs=f.sfreq)[1])
+    return np.abs(freqz(f.taps, worN=np.atleast_1d(np.asarray(hz, float)), fs=f.sfreq)[1])
 
 
 def _crossing(f, level, lo, hi):
@@ -79,7 +79,7 @@ def test_bids_entry_keys_hold_the_measured_figures_in_their_units(filtered, real
     ratio_db = 20 * np.log10(_gain(f, hz) / f.curve(hz))
     assert entry["passband ripple (dB)"] == pytest.approx(np.abs(ratio_db).max(), rel=0.02)
     # the kernel's length in seconds and the rate in Hz
-    assert entry["kernel length (s)"] == _sig(f.kernel.size / SFREQ, 4)
+    assert entry["kernel length (s)"] == _sig(f.taps.size / SFREQ, 4)
     assert entry["sampling frequency (Hz)"] == SFREQ
     # time figures: NumPy cumsum of the kernel (a step response), percent of the step
     # (each figure pinned on the kernel in tests/references/test_reported_figures.py: here,
@@ -118,7 +118,7 @@ def test_methods_half_power_and_deviation_clauses_match_freqz(filtered, realized
     stated = _number_after(full, "a largest gain deviation from the request of")
     hz = np.linspace(0.0, SFREQ / 2, 2**18)
     t = f.offset / SFREQ
-    signed = np.real(freqz(f.kernel, worN=hz, fs=SFREQ)[1] * np.exp(2j * np.pi * hz * t))
+    signed = np.real(freqz(f.taps, worN=hz, fs=SFREQ)[1] * np.exp(2j * np.pi * hz * t))
     true = np.abs(signed - f.curve(hz)).max()
     assert stated == _sig(true, 2) or abs(stated - true) <= 0.05 * true
     brief = gs.methods_text(filtered)
@@ -130,8 +130,8 @@ def test_methods_half_power_and_deviation_clauses_match_freqz(filtered, realized
 def test_summary_kernel_sample_count_is_the_kernel_size(realized):
     row = dict(realized.summary())["kernel length"]
     seconds, samples = re.match(r"([0-9.]+) s \((\d+) samples\)", row).groups()
-    assert int(samples) == realized.kernel.size
-    assert float(seconds) == _sig(realized.kernel.size / SFREQ, 4)
+    assert int(samples) == realized.taps.size
+    assert float(seconds) == _sig(realized.taps.size / SFREQ, 4)
 
 
 @pytest.mark.parametrize("cutoff, rolloff", [(0.1, 6.0), (0.3, 12.0), (0.5, 6.0)])
@@ -139,10 +139,10 @@ def test_group_delay_of_gentle_minimum_phase_edges_matches_scipy(cutoff, rolloff
     f = gs.design(gs.highpass(cutoff, rolloff=rolloff) * gs.lowpass(30.0), 250.0, causal=True)
     # gainshape states the gain-squared-weighted mean group delay over the half-power pass band
     hz = np.linspace(0.0, 125.0, 2**18, endpoint=False)  # 2 ms of a 8 s kernel's ripple period
-    _, h = freqz(f.kernel, worN=hz, fs=250.0)
+    _, h = freqz(f.taps, worN=hz, fs=250.0)
     weight = np.abs(h) ** 2
     band = weight >= 0.5
-    _, delay = group_delay((f.kernel, [1.0]), w=hz[band], fs=250.0)
+    _, delay = group_delay((f.taps, [1.0]), w=hz[band], fs=250.0)
     expected = np.sum(delay * weight[band]) / np.sum(weight[band]) / 250.0
     assert f.characteristics.group_delay == pytest.approx(expected, rel=5e-4)
     assert f.characteristics.group_delay > 0
@@ -201,7 +201,7 @@ def test_a_steady_tone_s_width_is_the_hann_window_s_read_between_bins(offset):
     found = gs.find_lines(data, sfreq=sfreq)
     resolution = float(found.attrs["resolution"])
     assert resolution == pytest.approx(0.1)
-    line = found.sel(line=found.line[np.argmin(np.abs(found.frequency.values - tone))])
+    line = found.sel(line=found.line[np.argmin(np.abs(found.line_frequency.values - tone))])
     assert float(line.width) / resolution == pytest.approx(expected, rel=0.01)
 
 

@@ -50,7 +50,7 @@ def recording(soa, mains, line_freq, seed=0, rhythm=10.0, equipment=31.7, with_e
 
 
 def _causes(found):
-    return {round(float(f), 1): str(c) for f, c in zip(found.frequency.values, found.cause.values)}
+    return {round(float(f), 1): str(c) for f, c in zip(found.line_frequency.values, found.cause.values)}
 
 
 @pytest.mark.parametrize(("soa", "mains"), [(1.0, 50.0), (0.8, 60.0)], ids=["1 s, 50 Hz", "0.8 s, 60 Hz"])
@@ -60,7 +60,7 @@ def test_mains_is_labelled_from_the_stated_frequency_and_only_it_is_notched(soa,
     causes = _causes(found)
     assert causes[mains] == "mains"
     assert causes[2 * mains] == causes[3 * mains] == "mains harmonic"
-    for f, of in zip(found.frequency.values, found.harmonic_of.values):
+    for f, of in zip(found.line_frequency.values, found.harmonic_of.values):
         if round(float(f), 1) in (2 * mains, 3 * mains):
             assert of == mains
     assert found.attrs["stimulus_rate"] == pytest.approx(1 / soa, rel=1e-3)
@@ -79,7 +79,7 @@ def test_mains_is_labelled_from_the_stated_frequency_and_only_it_is_notched(soa,
 def test_no_line_is_the_harmonic_of_an_unexplained_lower_line():
     # the report: 50 Hz called "harmonic of 10.00 Hz" and 150 Hz "harmonic of 3.00 Hz"
     found = gs.find_lines(recording(1.0, 50.0, line_freq=50.0))
-    for f, of, cause in zip(found.frequency.values, found.harmonic_of.values, found.cause.values):
+    for f, of, cause in zip(found.line_frequency.values, found.harmonic_of.values, found.cause.values):
         if np.isfinite(of):
             assert of == 50.0 or of == pytest.approx(found.attrs["stimulus_rate"]) or \
                 cause == "harmonic", (f, of, cause)

@@ -82,12 +82,12 @@ def test_every_line_is_found_at_its_frequency_and_height(sfreq):
     noise, lines = recording(sfreq)
     found = gs.find_lines(noise + sum(lines.values()), sfreq=sfreq)
     expected = LINES[sfreq]
-    assert found.sizes["line"] == len(expected), found.frequency.values
-    for (freq, height), f, h in zip(sorted(expected.items()), found.frequency.values,
+    assert found.sizes["line"] == len(expected), found.line_frequency.values
+    for (freq, height), f, h in zip(sorted(expected.items()), found.line_frequency.values,
                                     found.height_db.values):
         assert abs(f - freq) <= 0.05, (freq, f)
         assert abs(h - height) <= 1.0, (freq, h, height)
-    harmonic_of = dict(zip(found.frequency.values.round(1), found.harmonic_of.values))
+    harmonic_of = dict(zip(found.line_frequency.values.round(1), found.harmonic_of.values))
     assert harmonic_of[63.5] == pytest.approx(31.73, abs=0.05)  # 2 x 31.73
     assert harmonic_of[100.0 if sfreq == 250 else 150.0] == pytest.approx(50.0, abs=0.05)
     assert np.isnan(harmonic_of[50.0]) and np.isnan(harmonic_of[31.7])
@@ -97,7 +97,7 @@ def test_every_line_is_found_at_its_frequency_and_height(sfreq):
 def test_no_line_is_found_where_there_is_none():
     # 20 line-free recordings with an alpha rhythm: at most one chance line in all
     false = [float(f) for seed in range(20)
-             for f in gs.find_lines(background(250.0, 60.0, seed), sfreq=250.0).frequency.values]
+             for f in gs.find_lines(background(250.0, 60.0, seed), sfreq=250.0).line_frequency.values]
     assert len(false) <= 1, false
 
 
@@ -108,7 +108,7 @@ def test_a_drifting_line_is_found_once_and_as_wide_as_its_drift():
     found = gs.find_lines(noise + tone(40.0, amplitude, sfreq, SECONDS, 5, drift=drift),
                           sfreq=sfreq)
     assert found.sizes["line"] == 1
-    centre, width = float(found.frequency[0]), float(found.width[0])
+    centre, width = float(found.line_frequency[0]), float(found.width[0])
     assert abs(centre - 40.0) <= 0.05
     assert centre - width / 2 <= 40.0 - drift and centre + width / 2 >= 40.0 + drift
 
@@ -157,6 +157,6 @@ def test_the_background_is_the_mean_density_not_the_median():
     x = np.random.default_rng(7).standard_normal((8, int(30 * sfreq)))
     with pytest.warns(gs.GainshapeWarning, match="averages only 5 segments"):
         found = gs.find_lines(x, sfreq=sfreq, resolution=0.1)
-    middle = (found.freq >= 10) & (found.freq <= 100)
+    middle = (found.frequency >= 10) & (found.frequency <= 100)
     level_db = 10 * np.log10(float(found.background.where(middle).mean()) / (2 / sfreq))
     assert abs(level_db) < 0.1, level_db

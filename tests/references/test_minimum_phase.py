@@ -41,10 +41,10 @@ def test_matches_butterworth_impulse_response():
         return np.abs(h).reshape(np.shape(f))
 
     f = gs.design(gs.GainCurve(gain), SFREQ, causal=True, tolerance=1e-4)
-    impulse = np.zeros(f.kernel.size)
+    impulse = np.zeros(f.taps.size)
     impulse[0] = 1.0
     expected = ss.sosfilt(sos, impulse)
-    err = np.sqrt(np.sum((f.kernel - expected) ** 2) / np.sum(expected**2))
+    err = np.sqrt(np.sum((f.taps - expected) ** 2) / np.sum(expected**2))
     # kernel truncation and the log-gain floor at the zero at Nyquist leave ~1e-3
     assert err < 2e-3
 
@@ -57,5 +57,5 @@ def test_zero_phase_keeps_peak_of_symmetric_pulse():
 
 
 def test_zero_phase_kernel_is_symmetric():
-    k = gs.design(gs.bandpass(1.0, 30.0), SFREQ).kernel
+    k = gs.design(gs.bandpass(1.0, 30.0), SFREQ).taps
     np.testing.assert_array_equal(k, k[::-1])

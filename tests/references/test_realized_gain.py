@@ -23,12 +23,12 @@ def test_realized_gain_equals_direct_dtft(curve, sfreq, causal):
     f = gs.design(curve, sfreq, causal=causal)
     freqs = np.concatenate([np.random.default_rng(0).uniform(0, sfreq / 2, 200),
                             [0.0, sfreq / 2, 50.0]])
-    n = np.arange(f.kernel.size) - f.offset
-    direct = np.abs(np.exp(-2j * np.pi * np.outer(freqs, n) / sfreq) @ f.kernel)
+    n = np.arange(f.taps.size) - f.offset
+    direct = np.abs(np.exp(-2j * np.pi * np.outer(freqs, n) / sfreq) @ f.taps)
     np.testing.assert_allclose(f.realized_gain(freqs), direct, rtol=0, atol=1e-9)
 
 
 def test_realized_gain_matches_freqz():
     f = gs.design(gs.lowpass(30.0), 250.0)
-    w, h = freqz(f.kernel, worN=512, fs=250.0)
+    w, h = freqz(f.taps, worN=512, fs=250.0)
     np.testing.assert_allclose(f.realized_gain(w), np.abs(h), rtol=0, atol=1e-9)

@@ -65,7 +65,7 @@ def test_minimum_phase_group_delay_matches_scipy():
 
 
 def _dense_gain(f, n=2**18):
-    freqs, h = freqz(f.kernel, worN=n, fs=f.sfreq)  # scipy.signal.freqz of the kernel
+    freqs, h = freqz(f.taps, worN=n, fs=f.sfreq)  # scipy.signal.freqz of the kernel
     return freqs, np.abs(h)
 
 
@@ -128,16 +128,16 @@ def test_notch_comb_inside_the_low_pass_stop_band_is_listed_everywhere():
     assert db <= min(b.attenuation_db for b in notches)
     for centre, band in zip((50, 100, 150, 200, 250), notches):  # the stated range, in every notch
         assert band.attenuated_low <= centre - half and centre + half <= band.attenuated_high
-        _, h = freqz(f.kernel, worN=np.linspace(centre - half, centre + half, 2001), fs=f.sfreq)
+        _, h = freqz(f.taps, worN=np.linspace(centre - half, centre + half, 2001), fs=f.sfreq)
         assert 20 * np.log10(np.abs(h).max()) <= -db + 0.01  # scipy.signal.freqz of the kernel
 
 
 def _crossing(f, level, lo, hi):
     """The half-amplitude frequency measured independently: brentq on the DTFT."""
-    n = np.arange(f.kernel.size) - f.offset
+    n = np.arange(f.taps.size) - f.offset
 
     def gain(hz):
-        return abs(np.exp(-2j * np.pi * hz * n / f.sfreq) @ f.kernel) - level
+        return abs(np.exp(-2j * np.pi * hz * n / f.sfreq) @ f.taps) - level
 
     return brentq(gain, lo, hi, xtol=1e-9)
 
@@ -154,13 +154,13 @@ def test_bids_and_methods_figures_equal_the_characteristics_and_a_measurement(ma
     assert entry["low-pass half-power cutoff (Hz)"] == pytest.approx(
         _crossing(f, 1 / np.sqrt(2), 20.0, 30.0), rel=1e-3)
     assert entry["low-pass roll-off (dB/octave)"] == pytest.approx(c.rolloff[-1], rel=1e-2)
-    assert entry["kernel length (s)"] == pytest.approx(f.kernel.size / f.sfreq, rel=1e-3)
+    assert entry["kernel length (s)"] == pytest.approx(f.taps.size / f.sfreq, rel=1e-3)
     [hp, lp] = c.edge_timing
     assert entry["high-pass step settling time to 1 % (s)"] == pytest.approx(hp.settling_s, rel=1e-2)
     # NumPy: the cumulative sum of the high-pass edge's own kernel is its step
     # response (t = 0 at the offset); the edge is timed alone, as this kernel is
     hp_only = gs.design(gs.highpass(0.5, rolloff=24.0), raw.info["sfreq"])
-    hp_step = np.cumsum(hp_only.kernel)
+    hp_step = np.cumsum(hp_only.taps)
     assert entry["high-pass step undershoot after the step (% of step)"] == pytest.approx(
         -100 * hp_step[hp_only.times >= 0].min(), rel=0.05)
     assert entry["high-pass pre-response before the step (% of step)"] == pytest.approx(
@@ -239,14 +239,14 @@ def test_stop_band_attenuation_is_the_highest_gain_over_its_floor(curve, sfreq, 
     f = gs.design(curve, sfreq, causal=causal)
     for band in f.characteristics.stop_bands:
         freqs = np.linspace(band.low, band.high, 400001)
-        gain = np.abs(zoom_fft(f.kernel, [band.low, band.high], m=freqs.size, fs=sfreq,
+        gain = np.abs(zoom_fft(f.taps, [band.low, band.high], m=freqs.size, fs=sfreq,
                                endpoint=True))
         requested = f.requested_gain(freqs)
         level = max(f.tolerance, requested.min() * 10 ** (1 / 20))
         floor = requested <= level
         ends = [brentq(lambda x: float(curve(np.array([x]))[0]) - level, freqs[i], freqs[i + 1])
                 for i in np.flatnonzero(floor[1:] != floor[:-1])]
-        _, at_ends = freqz(f.kernel, worN=np.array(ends + [band.low]), fs=sfreq)
+        _, at_ends = freqz(f.taps, worN=np.array(ends + [band.low]), fs=sfreq)
         highest = max(gain[floor].max(), np.abs(at_ends[:-1]).max(initial=0.0))
         assert band.attenuation_db == pytest.approx(-20 * np.log10(highest), abs=0.01)
 
@@ -260,7 +260,7 @@ def test_minimum_phase_band_pass_edges_time_like_each_edge_alone(low, high, roll
     hp_edge, lp_edge = timing.characteristics.edge_timing
     for kernel_of, edge in ((gs.highpass(low, rolloff=rolloff), hp_edge),
                             (gs.lowpass(high, rolloff=rolloff), lp_edge)):
-        kernel = gs.design(kernel_of, sfreq, causal=True).kernel
+        kernel = gs.design(kernel_of, sfreq, causal=True).taps
         step = lfilter(kernel, [1.0], np.ones(kernel.size + 1))
         if edge.edge == "high-pass":
             late = np.flatnonzero(np.abs(step - step[-1]) > 0.01)
@@ -295,7 +295,7 @@ def test_step_figures_equal_numpy_cumsum_of_the_kernel(causal):
     # NumPy: the step response is the kernel's cumulative sum; t = 0 at the offset
     f = gs.design(gs.highpass(1.0, rolloff=24.0), SFREQ, causal=causal)
     [timing] = f.characteristics.edge_timing
-    step = np.cumsum(f.kernel)
+    step = np.cumsum(f.taps)
     t = f.times
     after = step[t >= 0]
     assert timing.undershoot_pct == pytest.approx(-100 * after.min(), rel=0.01)

@@ -88,7 +88,7 @@ def find_lines(inst, *, sfreq=None, resolution=None, freq_range=(1.0, None),
     Returns
     -------
     xarray.Dataset
-        Dimension ``line`` (by frequency): ``frequency`` (Hz, the
+        Dimension ``line`` (by frequency): ``line_frequency`` (Hz, the
         interpolated peak of a tone or the middle of a wider line),
         ``height_db`` (the typical excess at the peak), ``width`` (Hz, full
         width at half the highest bin's excess power, interpolated linearly
@@ -102,7 +102,10 @@ def find_lines(inst, *, sfreq=None, resolution=None, freq_range=(1.0, None),
         multiple of; else NaN), ``n_channels`` and ``present`` (line x
         channel: the channel's own excess at the line passes half the
         threshold, in dB). Also ``psd`` and ``background`` (channel x
-        ``freq``) and ``typical_excess_db`` (``freq``). Attrs: the settings,
+        ``frequency``, the dimension's name in :func:`observed_gain` too)
+        and ``typical_excess_db`` (``frequency``). Before 0.2 the line's
+        frequency was the variable ``frequency`` and the dimension ``freq``.
+        Attrs: the settings,
         ``threshold_db``, ``segments``, ``sfreq``, ``line_freq`` (from
         ``info``, NaN if missing), ``mains`` (the frequency mains was taken
         at, NaN if none) and ``stimulus_rate`` (Hz, NaN if the onsets are
@@ -134,7 +137,7 @@ def find_lines(inst, *, sfreq=None, resolution=None, freq_range=(1.0, None),
     >>> t = np.arange(60 * 250) / 250.0
     >>> x = np.random.default_rng(0).standard_normal((4, t.size)) + np.sin(2 * np.pi * 50 * t)
     >>> found = gs.find_lines(x, sfreq=250.0)
-    >>> [round(float(f), 2) for f in found.frequency]
+    >>> [round(float(f), 2) for f in found.line_frequency]
     [50.0]
     """
     presence = check_fraction("presence", presence)
@@ -379,7 +382,7 @@ def _dataset(found, excess, threshold, parts) -> xr.Dataset:
         typical_db = 10 * np.log10(parts["typical"])
     return xr.Dataset(
         {
-            "frequency": ("line", np.array(frequency, float), {"units": "Hz"}),
+            "line_frequency": ("line", np.array(frequency, float), {"units": "Hz"}),
             "height_db": ("line", np.array([line["height_db"] for line in found], float),
                           {"units": "dB", "long_name": "typical excess over the background"}),
             "width": ("line", np.array([line["width"] for line in found], float),
@@ -389,14 +392,14 @@ def _dataset(found, excess, threshold, parts) -> xr.Dataset:
             "harmonic_of": ("line", np.array(harmonic_of, float), {"units": "Hz"}),
             "n_channels": ("line", present.sum(axis=1)),
             "present": (("line", "channel"), present),
-            "psd": (("channel", "freq"), parts["psd"], {"units": f"{signals.unit}^2/Hz"}),
-            "background": (("channel", "freq"), parts["background"],
+            "psd": (("channel", "frequency"), parts["psd"], {"units": f"{signals.unit}^2/Hz"}),
+            "background": (("channel", "frequency"), parts["background"],
                            {"units": f"{signals.unit}^2/Hz"}),
-            "typical_excess_db": ("freq", typical_db,
+            "typical_excess_db": ("frequency", typical_db,
                                   {"units": "dB", "long_name": "typical excess over the "
                                    "background, the statistic a line must lift over the threshold"}),
         },
-        coords={"line": np.arange(len(found)), "channel": signals.ch_names, "freq": freqs},
+        coords={"line": np.arange(len(found)), "channel": signals.ch_names, "frequency": freqs},
         attrs={**parts["settings"], "threshold_db": 10 * np.log10(threshold),
                "segments": parts["segments"], "sfreq": signals.sfreq,
                "line_freq": float(line_freq), "kind": signals.kind, "mains": float(mains),

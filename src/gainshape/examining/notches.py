@@ -93,11 +93,11 @@ def suggest_notches(found: xr.Dataset, *, margin: float = 2.0, min_width: float 
         why_not = None if i in asked else _left_alone(found, i, notch_above)
         width = max(min_width, margin * float(found.width[i]))
         if why_not is None:
-            chosen.append((float(found.frequency[i]), width))
+            chosen.append((float(found.line_frequency[i]), width))
             reasons.append(_reason(found, i, width))
         else:
-            skipped.append(f"not notched: {float(found.frequency[i]):.2f} Hz, {why_not}; "
-                           f"include=[{float(found.frequency[i]):.4g}] notches it")
+            skipped.append(f"not notched: {float(found.line_frequency[i]):.2f} Hz, {why_not}; "
+                           f"include=[{float(found.line_frequency[i]):.4g}] notches it")
     if not chosen:
         raise ValueError("None of the lines found is one to notch by default ("
                          + "; ".join(skipped) + "). Name the ones to notch in 'include'.")
@@ -109,7 +109,7 @@ def suggest_notches(found: xr.Dataset, *, margin: float = 2.0, min_width: float 
 
 def _left_alone(found, i, notch_above) -> str | None:
     """Why line ``i`` is not notched by default, or None if it is."""
-    cause, freq = str(found.cause.values[i]), float(found.frequency[i])
+    cause, freq = str(found.cause.values[i]), float(found.line_frequency[i])
     if cause.startswith("mains"):
         return None
     if cause == "stimulus-locked":
@@ -133,12 +133,12 @@ def _included(found, include) -> set:
                                  f"Hz or one of {', '.join(map(repr, CAUSES))}.")
             chosen |= {i for i, c in enumerate(found.cause.values) if c == item}
             continue
-        distance = np.abs(found.frequency.values - float(item))
+        distance = np.abs(found.line_frequency.values - float(item))
         i = int(np.argmin(distance))
         if distance[i] > max(0.5, float(found.width[i])):
             raise ValueError(f"The 'include' list asks for {float(item):g} Hz, but there is no "
                              f"line found near {float(item):g} Hz (lines: "
-                             f"{', '.join(f'{f:.2f}' for f in found.frequency.values)} Hz).")
+                             f"{', '.join(f'{f:.2f}' for f in found.line_frequency.values)} Hz).")
         chosen.add(i)
     return chosen
 
@@ -150,12 +150,12 @@ def _reason(found, i, notch_width) -> str:
     if cause == "mains":
         of = ", mains"
     elif cause == "mains harmonic":
-        of = f", harmonic {round(float(line.frequency) / harmonic)} of mains"
+        of = f", harmonic {round(float(line.line_frequency) / harmonic)} of mains"
     elif cause == "harmonic":
         of = f", harmonic of the {harmonic:.2f} Hz line"
     elif cause == "stimulus-locked":
         of = ", stimulus-locked (asked for)"
-    return (f"notch at {float(line.frequency):.2f} Hz, {notch_width:.2g} Hz wide: a line "
+    return (f"notch at {float(line.line_frequency):.2f} Hz, {notch_width:.2g} Hz wide: a line "
             f"{float(line.height_db):.1f} dB above the background, {float(line.width):.2g} Hz "
             f"wide, in {int(line.n_channels)} of {found.sizes['channel']} channels{of}")
 
@@ -163,7 +163,7 @@ def _reason(found, i, notch_width) -> str:
 def _line_freq_note(found) -> str:
     """Whether ``info["line_freq"]`` agrees with the lines found."""
     stated = found.attrs["line_freq"]
-    near = [(float(h), float(f)) for f, h in zip(found.frequency.values, found.height_db.values)
+    near = [(float(h), float(f)) for f, h in zip(found.line_frequency.values, found.height_db.values)
             if min(abs(f - 50), abs(f - 60)) <= 0.5]
     mains = [max(near)[1]] if near else []  # the strongest line at 50 or 60 Hz
     seen = f"mains at {mains[0]:.2f} Hz" if mains else "no line at 50 or 60 Hz"

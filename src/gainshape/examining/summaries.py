@@ -320,16 +320,16 @@ def _line_bands(lines) -> dict:
     """One band per line :func:`gainshape.find_lines` found.
 
     >>> import xarray as xr
-    >>> found = xr.Dataset({"frequency": ("line", [50.0, 31.73]), "width": ("line", [0.2, 1.5])})
+    >>> found = xr.Dataset({"line_frequency": ("line", [50.0, 31.73]), "width": ("line", [0.2, 1.5])})
     >>> _line_bands(found)
     {'line 50 Hz': (49.0, 51.0), 'line 31.73 Hz': (30.23, 33.23)}
     """
-    if not isinstance(lines, xr.Dataset) or not {"frequency", "width"} <= set(lines.data_vars):
+    if not isinstance(lines, xr.Dataset) or not {"line_frequency", "width"} <= set(lines.data_vars):
         raise TypeError("The 'lines' parameter takes what gainshape.find_lines returned; "
                         f"a {type(lines).__name__} was given.")
     return {f"line {f:.4g} Hz": (round(f - max(_LINE_HALF_WIDTH, w), 6),
                                  round(f + max(_LINE_HALF_WIDTH, w), 6))
-            for f, w in zip(lines.frequency.values.tolist(), lines.width.values.tolist())}
+            for f, w in zip(lines.line_frequency.values.tolist(), lines.width.values.tolist())}
 
 
 def _default_bands(signals, after) -> tuple[dict, str]:

@@ -271,7 +271,7 @@ def _true_runs(mask: np.ndarray):
 def _warn_if_short(design, start, stop, words):
     """Warn when the kernel is longer than a third of the segment it filters:
     most of the segment is then within the kernel's reach of its padded ends."""
-    n_kernel, sfreq = design.kernel.size, design.sfreq
+    n_kernel, sfreq = design.taps.size, design.sfreq
     if stop - start >= _SEGMENT_KERNELS * n_kernel:
         return
     name, hint = words.name or f"The segment at {start / sfreq:.3f}-{stop / sfreq:.3f} s", words.hint
@@ -321,12 +321,12 @@ def _folded(design, period: int) -> KernelPart:
     """The kernel folded onto ``period`` samples, centred.
 
     >>> from types import SimpleNamespace
-    >>> k = SimpleNamespace(kernel=np.array([1.0, 2.0, 3.0]), offset=1, sfreq=10.0)
-    >>> _folded(k, 2).kernel.tolist()  # t = -1 and 1 fall on the same sample
+    >>> k = SimpleNamespace(taps=np.array([1.0, 2.0, 3.0]), offset=1, sfreq=10.0)
+    >>> _folded(k, 2).taps.tolist()  # t = -1 and 1 fall on the same sample
     [4.0, 2.0]
     """
     half = period // 2
-    at = (np.arange(design.kernel.size) - design.offset + half) % period
-    return KernelPart(np.bincount(at, weights=design.kernel, minlength=period), half, design.sfreq)
+    at = (np.arange(design.taps.size) - design.offset + half) % period
+    return KernelPart(np.bincount(at, weights=design.taps, minlength=period), half, design.sfreq)
 
 

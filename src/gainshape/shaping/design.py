@@ -211,7 +211,7 @@ class _DesignStore:
             self.kept[key] = value
             self.kept.move_to_end(key)
             while len(self.kept) > self.count or (
-                    len(self.kept) > 1 and sum(v[0].kernel.nbytes for v in self.kept.values())
+                    len(self.kept) > 1 and sum(v[0].taps.nbytes for v in self.kept.values())
                     > self.kernel_bytes):
                 self.kept.popitem(last=False)
 

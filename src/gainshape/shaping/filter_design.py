@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import html
+import warnings
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -38,8 +39,10 @@ class FilterDesign:  # numpydoc ignore=PR01
         What :func:`design` was asked for (a length in seconds, or a word).
     tolerance : float
         Largest accepted gain deviation.
-    kernel : ndarray
-        The finite impulse response (read-only); ``kernel[offset]`` is t = 0.
+    taps : ndarray
+        The finite impulse response (read-only); ``taps[offset]`` is t = 0.
+        (Called ``kernel`` before 0.2; that name still reads it, with a
+        FutureWarning.)
     offset : int
         Index of the kernel sample at t = 0.
     characteristics : Characteristics
@@ -49,7 +52,7 @@ class FilterDesign:  # numpydoc ignore=PR01
     rates : TwoRates or None
         How a curve with a slow edge far below its fast one runs in two
         parts, the slow one at a reduced rate (see :mod:`gainshape.shaping.rates`);
-        None when the whole kernel runs at ``sfreq``. ``kernel`` is then
+        None when the whole kernel runs at ``sfreq``. ``taps`` are then
         the pair's equivalent kernel.
 
     See Also
@@ -60,7 +63,7 @@ class FilterDesign:  # numpydoc ignore=PR01
     --------
     >>> from gainshape import lowpass
     >>> f = design(lowpass(30.0), 250.0)
-    >>> f.characteristics.kind, bool(f.kernel[f.offset] == f.kernel.max())
+    >>> f.characteristics.kind, bool(f.taps[f.offset] == f.taps.max())
     ('low-pass', True)
     """
 
@@ -69,12 +72,35 @@ class FilterDesign:  # numpydoc ignore=PR01
     causal: bool
     kernel_request: object
     tolerance: float
-    kernel: np.ndarray
+    taps: np.ndarray
     offset: int
     characteristics: Characteristics
     notes: tuple = ()
     rates: TwoRates | None = None
     _spectra: dict = field(default_factory=dict, repr=False, compare=False)
+
+    @property
+    def kernel(self) -> np.ndarray:
+        """The taps, under their name before 0.2 (``kernel`` is the request's name).
+
+        See Also
+        --------
+        design
+
+        Examples
+        --------
+        >>> import warnings
+        >>> f = design(lowpass(30.0), 250.0)
+        >>> with warnings.catch_warnings(record=True) as said:
+        ...     warnings.simplefilter("always")
+        ...     same = f.kernel is f.taps
+        >>> same, said[0].category.__name__
+        (True, 'FutureWarning')
+        """
+        warnings.warn("FilterDesign.kernel is now FilterDesign.taps (the realized impulse "
+                      "response); 'kernel' names the request, as in design(..., kernel=...). "
+                      "The old name goes in a later release.", FutureWarning, stacklevel=2)
+        return self.taps
 
     @property
     def exact(self) -> bool:
@@ -125,7 +151,7 @@ class FilterDesign:  # numpydoc ignore=PR01
         >>> float(f.times[f.offset])
         0.0
         """
-        return (np.arange(self.kernel.size) - self.offset) / self.sfreq
+        return (np.arange(self.taps.size) - self.offset) / self.sfreq
 
     @property
     def support(self) -> int:
@@ -142,7 +168,7 @@ class FilterDesign:  # numpydoc ignore=PR01
         >>> f.support == f.offset  # a symmetric kernel reaches as far on both sides
         True
         """
-        return int(max(self.offset, self.kernel.size - 1 - self.offset))
+        return int(max(self.offset, self.taps.size - 1 - self.offset))
 
     def requested_gain(self, freqs) -> np.ndarray:
         """The curve's gain at ``freqs`` (Hz).
@@ -200,7 +226,7 @@ class FilterDesign:  # numpydoc ignore=PR01
         """
         if self.exact:
             return self.requested_gain(freqs)
-        response = KernelResponse(self.kernel, self.offset, self.sfreq, self.causal)
+        response = KernelResponse(self.taps, self.offset, self.sfreq, self.causal)
         return np.abs(response.gain_at(freqs))
 
     def spectrum(self, n_fft: int, dtype=np.float64) -> np.ndarray:
@@ -240,7 +266,7 @@ class FilterDesign:  # numpydoc ignore=PR01
             if not self.causal:
                 return gain
             return _minimum_phase_spectrum(self.curve, gain, n_fft, self.sfreq, self.tolerance)
-        return _kernel_spectrum(self.kernel, self.offset, n_fft, self.causal)
+        return _kernel_spectrum(self.taps, self.offset, n_fft, self.causal)
 
     def plot(self, *, fmin=None, show=True):
         """Requested and realized gain (linear and dB), impulse and step response.
@@ -348,7 +374,7 @@ class FilterDesign:  # numpydoc ignore=PR01
             ("largest gain deviation", f"{c.max_deviation:.2g} (tolerance {self.tolerance:g})"),
             *[("in time", timing_words(t)) for t in realized["edge_timing"]],
             ("phase response", self.phase_words),
-            ("kernel length", f"{c.length:.4g} s ({self.kernel.size} samples)"),
+            ("kernel length", f"{c.length:.4g} s ({self.taps.size} samples)"),
             ("truncation", truncation),
             ("sampling rate", f"{self.sfreq:g} Hz"),
             ("rates", rate_words(self.rates.to_dict()) if self.rates else "one (the whole kernel at the sampling rate)"),

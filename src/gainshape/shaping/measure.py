@@ -186,7 +186,7 @@ def characterize(curve, response, tol, exact, grid_deviation=None) -> Characteri
         max_deviation=deviation,
         edge_timing=timing,
         group_delay=group_delay(response, half_pow, realized[0] >= _HALF_POWER),
-        length=response.kernel.size / sfreq,
+        length=response.taps.size / sfreq,
     )
 
 

@@ -58,7 +58,7 @@ class KernelPart:
     (1, [1.0, 0.5, 0.0])
     """
 
-    kernel: np.ndarray
+    taps: np.ndarray
     offset: int
     sfreq: float
     _spectra: dict = field(default_factory=dict, repr=False)
@@ -66,12 +66,12 @@ class KernelPart:
     @property
     def support(self) -> int:
         """Samples the kernel reaches on either side of t = 0."""
-        return int(max(self.offset, self.kernel.size - 1 - self.offset))
+        return int(max(self.offset, self.taps.size - 1 - self.offset))
 
     def spectrum(self, n_fft: int, dtype=np.float64) -> np.ndarray:
         """Response on the rfft grid of ``n_fft`` points (t = 0 first), cached."""
         return cached_spectrum(self._spectra, n_fft, dtype,
-                               lambda n: _kernel_spectrum(self.kernel, self.offset, n, causal=False))
+                               lambda n: _kernel_spectrum(self.taps, self.offset, n, causal=False))
 
 
 @dataclass(frozen=True, eq=False)
@@ -121,16 +121,16 @@ class TwoRates:
         phases = np.zeros(taps * m)
         phases[: smoothing.size] = smoothing
         phases = phases.reshape(taps, m)
-        slow = np.zeros((q.kernel.size + taps - 1, m))
+        slow = np.zeros((q.taps.size + taps - 1, m))
         for lag in range(taps):  # the kernel at the reduced rate, every phase at once
-            slow[lag : lag + q.kernel.size] += np.outer(q.kernel, phases[lag])
-        slow = slow.ravel()[: m * (q.kernel.size - 1) + smoothing.size]
+            slow[lag : lag + q.taps.size] += np.outer(q.taps, phases[lag])
+        slow = slow.ravel()[: m * (q.taps.size - 1) + smoothing.size]
         centre = m * q.offset + 2 * (m - 1)
         half = max(centre, slow.size - 1 - centre, self.fast.support)
         kernel = np.zeros(2 * half + 1)
         kernel[half - centre : half - centre + slow.size] -= slow
         f = self.fast
-        kernel[half - f.offset : half - f.offset + f.kernel.size] += f.kernel
+        kernel[half - f.offset : half - f.offset + f.taps.size] += f.taps
         return kernel, half
 
     def to_dict(self) -> dict:
@@ -144,8 +144,8 @@ class TwoRates:
         True
         """
         return {"split_hz": self.split, "reduced_rate_hz": self.reduced_rate,
-                "factor": self.factor, "full_rate_kernel_samples": int(self.fast.kernel.size),
-                "reduced_rate_kernel_samples": int(self.slow.kernel.size),
+                "factor": self.factor, "full_rate_kernel_samples": int(self.fast.taps.size),
+                "reduced_rate_kernel_samples": int(self.slow.taps.size),
                 "aliasing_bound": self.aliasing}
 
     def slow_output(self, left, seg, right) -> np.ndarray:
@@ -208,7 +208,7 @@ def two_rates(curve, sfreq: float, tolerance: float) -> TwoRates | None:
     --------
     >>> from gainshape import highpass, lowpass
     >>> parts = two_rates(highpass(0.05) * lowpass(30.0, rolloff=24.0), 1000.0, 0.001)
-    >>> parts.factor >= 8, parts.fast.kernel.size < 1000
+    >>> parts.factor >= 8, parts.fast.taps.size < 1000
     (True, True)
     >>> two_rates(lowpass(30.0), 1000.0, 0.001) is None
     True
@@ -234,7 +234,7 @@ def two_rates(curve, sfreq: float, tolerance: float) -> TwoRates | None:
                 break
     except ValueError:  # a part no kernel realizes: the caller runs one rate
         return None
-    if fast.kernel.size * _MIN_SAVED > parts.slow.kernel.size * factor:
+    if fast.taps.size * _MIN_SAVED > parts.slow.taps.size * factor:
         return None
     return parts
 
@@ -276,7 +276,7 @@ def alias_bound(parts: TwoRates) -> float:
     """
     m, sfreq, low = parts.factor, parts.fast.sfreq, parts.reduced_rate
     out = np.linspace(0.0, low / 2.0, 2049)
-    slow = np.abs(KernelResponse(parts.slow.kernel, parts.slow.offset, low, False).gain_at(out))
+    slow = np.abs(KernelResponse(parts.slow.taps, parts.slow.offset, low, False).gain_at(out))
     own = _triangle_gain(out, m, sfreq)
     # the triangle's gains at the m frequencies that fold onto one sum to 1
     # (its samples at multiples of m are 1/m at 0 and zero elsewhere), so the

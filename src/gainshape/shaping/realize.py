@@ -290,7 +290,7 @@ class KernelResponse:
         n = sfft.next_fast_len(max(min_points, 4 * kernel.size), real=True)
         while n % 2:  # even, so that n / 2 + 1 grid points run from 0 Hz to Nyquist
             n = sfft.next_fast_len(n + 1, real=True)
-        self.kernel, self.offset, self.sfreq, self.causal, self.n = kernel, offset, sfreq, causal, n
+        self.taps, self.offset, self.sfreq, self.causal, self.n = kernel, offset, sfreq, causal, n
         self.freqs = sfft.rfftfreq(n, 1.0 / sfreq)
         self._centred = _kernel_spectrum(kernel, kernel.size // 2, n, causal)
         self.gain = np.abs(self._centred) if causal else self._centred
@@ -304,8 +304,8 @@ class KernelResponse:
 
     def group_delay(self) -> np.ndarray:
         """Group delay (s) on the grid: Re(DTFT(t h) / DTFT(h)) for t from the kernel's origin."""
-        centre = self.kernel.size // 2
-        moments = _kernel_spectrum((np.arange(self.kernel.size) - centre) * self.kernel,
+        centre = self.taps.size // 2
+        moments = _kernel_spectrum((np.arange(self.taps.size) - centre) * self.taps,
                                    centre, self.n, causal=True)
         with np.errstate(divide="ignore", invalid="ignore"):
             centred_delay = np.real(moments / self._centred)

@@ -87,7 +87,7 @@ def edge_timing(response, on_grid, gain_at, exact, edges, removed) -> tuple:
     """
     outer = outer_indices([e.direction for e in edges])
     named = {name: float(edges[i]) for i, name in outer.items()}
-    sfreq, kernel, causal = response.sfreq, response.kernel, response.causal
+    sfreq, kernel, causal = response.sfreq, response.taps, response.causal
     if causal and not exact and len(named) == 1 and not removed:
         (name, cutoff), = named.items()
         return (_timing_of(name, cutoff, (np.arange(kernel.size) - response.offset) / sfreq, kernel,
@@ -188,7 +188,7 @@ def group_delay(response, half_power, passes_at_zero: bool) -> float:
     """
     if not response.causal:
         return 0.0
-    h = response.kernel
+    h = response.taps
     nyquist = response.sfreq / 2.0
     ends = [0.0] * int(passes_at_zero) + [float(e) for e in half_power] + [nyquist]
     intervals = [(a, b) for a, b in zip(ends[::2], ends[1::2]) if b > a]

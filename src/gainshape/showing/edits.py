@@ -297,7 +297,7 @@ def editor_view(realized: FilterDesign, fmax: float, fmin: float = FMIN) -> dict
     freqs = np.geomspace(fmin, fmax, _GRID)
     requested = realized.requested_gain(freqs)
     got = realized.realized_gain(freqs)
-    times, kernel = realized.times, realized.kernel
+    times, kernel = realized.times, realized.taps
     near = outer_envelope_db(kernel) > _SHOWN_DB
     return {
         "freqs": numbers_of(freqs), "requested": numbers_of(requested), "realized": numbers_of(got),

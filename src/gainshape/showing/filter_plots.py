@@ -99,7 +99,7 @@ def _time_panels(axes, design):
     """Impulse response, its envelope in dB and the step response over the
     whole support, the span holding 99 % of the energy shaded."""
     ax_imp, ax_env, ax_step = axes
-    times, kernel = design.times, design.kernel
+    times, kernel = design.times, design.taps
     start, stop = energy_span(times, kernel)
     ax_imp.plot(times, kernel, color="C0", linewidth=1.0)
     ax_env.plot(times, 20 * np.log10(np.maximum(np.abs(kernel) / np.abs(kernel).max(), 1e-12)),

@@ -240,7 +240,7 @@ def plot_lines(found, *, show=True):
 
     check_result(found, "found", ("psd", "background", "typical_excess_db"),
                   "gainshape.find_lines")
-    freqs = found.freq.values
+    freqs = found.frequency.values
     keep = freqs > 0
     unit = found.psd.attrs.get("units", "")
     scale, unit_db = (1e12, "dB re 1 µV²/Hz") if unit.startswith("V") else (1.0, "dB re 1 unit²/Hz")
@@ -255,8 +255,8 @@ def plot_lines(found, *, show=True):
     ax.semilogx(freqs[keep], power_db(np.median(found.background.values[:, keep], axis=0) * scale),
                 color="0.25", linestyle="--", linewidth=1.0, label="background (running median)")
     top = np.max(high)
-    for f, h, row in zip(found.frequency.values, found.height_db.values,
-                         _label_rows(found.frequency.values)):
+    for f, h, row in zip(found.line_frequency.values, found.height_db.values,
+                         _label_rows(found.line_frequency.values)):
         ax.plot([f], [top + 3], marker="v", color="C3", markersize=6)
         ax.annotate(f"{f:.2f} Hz\n+{h:.1f} dB", (f, top + 3), xytext=(0, 7 + 22 * row),
                     textcoords="offset points", ha="center", fontsize="x-small", color="C3")

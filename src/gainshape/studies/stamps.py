@@ -129,14 +129,15 @@ def recipe_hash(recipe) -> str | None:
     return xxhash.xxh3_128(Path(recipe).read_bytes()).hexdigest()
 
 
-def state_key(inputs, selection: dict, summary: bool) -> str:
-    """What the run was asked, as one string (inputs, selection, summary)."""
+def state_key(inputs, selection: dict, band_change: bool) -> str:
+    """What the run was asked, as one string (inputs, selection, band change; the state
+    file keeps the key "summary" it has had since version 1)."""
     listed = str(inputs) if isinstance(inputs, (str, Path)) else [str(p) for p in inputs]
-    return json.dumps({"inputs": listed, "selection": selection, "summary": summary},
+    return json.dumps({"inputs": listed, "selection": selection, "summary": band_change},
                       sort_keys=True)
 
 
-def unchanged_study(recipe, inputs, out_dir: Path, selection: dict, summary: bool) -> list | None:
+def unchanged_study(recipe, inputs, out_dir: Path, selection: dict, band_change: bool) -> list | None:
     """The recordings of the last complete run, if nothing it depends on changed; else None.
 
     Each is (source, subject, session, task, output). Checked: the recipe
@@ -147,11 +148,11 @@ def unchanged_study(recipe, inputs, out_dir: Path, selection: dict, summary: boo
     try:
         state = json.loads((Path(out_dir) / STATE_NAME).read_text(encoding="utf-8"))
         if (state.get("recipe_hash") is None or state["recipe_hash"] != recipe_hash(recipe)
-                or state["key"] != state_key(inputs, selection, summary)
+                or state["key"] != state_key(inputs, selection, band_change)
                 or state["candidates"] != candidates(inputs)):
             return None
         study_files = ["methods.txt", "methods_full.txt", "report.html"]
-        study_files += ["band_change.nc"] if summary else []
+        study_files += ["band_change.nc"] if band_change else []
         if not all((Path(out_dir) / name).is_file() for name in study_files):
             return None
         content = state["recipe"]
@@ -163,8 +164,8 @@ def unchanged_study(recipe, inputs, out_dir: Path, selection: dict, summary: boo
     return [tuple(row) for row in state["recordings"]]
 
 
-def state(recipe, content: dict, inputs, selection: dict, summary: bool, recordings) -> dict:
+def state(recipe, content: dict, inputs, selection: dict, band_change: bool, recordings) -> dict:
     """The state to write after a run in which every recording succeeded."""
     return {"recipe_hash": recipe_hash(recipe), "recipe": content,
-            "key": state_key(inputs, selection, summary), "candidates": candidates(inputs),
+            "key": state_key(inputs, selection, band_change), "candidates": candidates(inputs),
             "recordings": [[str(r[0]), *r[1:4], str(r[4])] for r in recordings]}

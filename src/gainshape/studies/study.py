@@ -15,6 +15,7 @@ from __future__ import annotations
 import contextlib
 import json
 import time
+import warnings
 from pathlib import Path
 
 from .._checks import check_bool, check_positive, warn
@@ -35,9 +36,9 @@ COLUMNS = ["source", "subject", "session", "task", "status", "seconds", "worker_
 
 
 def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=None, tasks=None,
-              overwrite: bool = False, in_memory_mb: float = 1024.0, summary: bool = True,
+              overwrite: bool = False, in_memory_mb: float = 1024.0, band_change: bool = True,
               raise_errors: bool = False, workers: int | None = None, allow_short: bool = False,
-              verbose=None):
+              verbose=None, summary: bool | None = None):
     """Filter every recording of a study with one recipe, on a Dask cluster.
 
     Parameters
@@ -69,9 +70,10 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
         change is read in groups of channels of at most this size, so a
         worker's memory stays within a few times this limit whatever the
         recording's length.
-    summary : bool
-        Measure each recording's band change and gather it (False: skip
-        this, the slowest part after the filtering itself).
+    band_change : bool
+        Measure each recording's band change (:func:`gainshape.band_change`)
+        and gather it (False: skip this, the slowest part after the
+        filtering itself).
     raise_errors : bool
         Raise a RuntimeError after the run if any recording failed (the
         others are done all the same).
@@ -84,6 +86,8 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
         recording fails as "truncated or damaged input".
     verbose : bool | None
         False: no progress bar.
+    summary : bool | None
+        The name of ``band_change`` before 0.2 (a FutureWarning says so).
 
     Returns
     -------
@@ -149,10 +153,14 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
     >>> table = gs.run_study("filter.json", ["a_raw.fif", "b_raw.fif"], "out")  # doctest: +SKIP
     >>> table[["source", "status", "seconds"]]  # doctest: +SKIP
     """
+    if summary is not None:
+        warnings.warn("run_study's 'summary' is now 'band_change' (what it measures); the old "
+                      "name goes in a later release.", FutureWarning, stacklevel=2)
+        band_change = summary
     content = recipe_content_of(recipe)
     overwrite = check_bool("overwrite", overwrite)
     limits = {"in_memory_bytes": check_positive("in_memory_mb", in_memory_mb) * MB,
-              "summary": check_bool("summary", summary),
+              "band_change": check_bool("band_change", band_change),
               "allow_short": check_bool("allow_short", allow_short)}
     raise_errors = check_bool("raise_errors", raise_errors)
     if workers is not None:
@@ -161,9 +169,9 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
     out_dir = Path(out_dir)
     selection = {"subjects": subjects, "sessions": sessions, "tasks": tasks}
     kept = None if overwrite else unchanged_study(recipe, inputs, out_dir, selection,
-                                                  limits["summary"])
+                                                  limits["band_change"])
     if kept is not None:  # nothing changed since the last complete run
-        return _unchanged_table(kept, out_dir, limits["summary"])
+        return _unchanged_table(kept, out_dir, limits["band_change"])
     found = study_recordings(inputs, selection)
     sources = [source for source, _, _ in found]
     outputs = [out_dir / relative for _, relative, _ in found]
@@ -172,7 +180,7 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
     with one_run_at_a_time(out_dir):
         table = _run_locked(content, found, outputs, out_dir, {"client": client, "workers": workers},
                             overwrite, limits, raise_errors, verbose)
-        _write_state(table, recipe, content, inputs, selection, limits["summary"], out_dir)
+        _write_state(table, recipe, content, inputs, selection, limits["band_change"], out_dir)
     failed = table[table["status"] == "failed"]
     if raise_errors and len(failed):
         raise RuntimeError(f"{len(failed)} of {len(table)} recordings failed: "
@@ -191,7 +199,7 @@ def _run_locked(content, found, outputs, out_dir, cluster: dict, overwrite, limi
     for output in outputs:  # what a killed worker of an earlier run left (this run holds the lock)
         remove_stale_staging(output)
     sources = [source for source, _, _ in found]
-    previous = None if overwrite or not limits["summary"] else _previous_summary(out_dir)
+    previous = None if overwrite or not limits["band_change"] else _previous_summary(out_dir)
     results = [None if overwrite else _kept_result(s, o, content, previous, limits)
                for s, o in zip(sources, outputs)]
     todo = [i for i, r in enumerate(results) if r is None]
@@ -242,8 +250,8 @@ def _kept_result(source: Path, output: Path, content: dict, previous, limits: di
     if verdict(source, output, content) != "up to date":
         return None
     record = sidecar_record(output) or {}
-    change = _band_change_of(previous, source) if limits["summary"] else None
-    if "methods" not in record or (limits["summary"] and change is None):
+    change = _band_change_of(previous, source) if limits["band_change"] else None
+    if "methods" not in record or (limits["band_change"] and change is None):
         return None
     return ([str(source), "up to date", time.perf_counter() - start, float("nan"), output, "",
              ""], {"band_change": change, "methods": tuple(record["methods"])})
@@ -267,7 +275,7 @@ def _band_change_of(summary, source: Path):
     return one.dropna("channel", how="all")  # channels the study's union added
 
 
-def _unchanged_table(kept, out_dir: Path, summary: bool):
+def _unchanged_table(kept, out_dir: Path, band_change: bool):
     """run_study's table when nothing changed since the last complete run."""
     import pandas as pd
     import xarray as xr
@@ -275,12 +283,12 @@ def _unchanged_table(kept, out_dir: Path, summary: bool):
     table = pd.DataFrame([[source, sub, ses, task, "up to date", 0.0, float("nan"), Path(output),
                            "", ""] for source, sub, ses, task, output in kept], columns=COLUMNS)
     state = json.loads((out_dir / STATE_NAME).read_text(encoding="utf-8"))
-    table.attrs.update(band_change=xr.load_dataset(out_dir / "band_change.nc") if summary else None,
+    table.attrs.update(band_change=xr.load_dataset(out_dir / "band_change.nc") if band_change else None,
                        methods=state["methods"], problems=[])
     return table
 
 
-def _write_state(table, recipe, content, inputs, selection, summary, out_dir: Path) -> None:
+def _write_state(table, recipe, content, inputs, selection, band_change, out_dir: Path) -> None:
     """The study's state after a run in which every part succeeded (else none:
     the next run then looks at every recording again)."""
     path = out_dir / STATE_NAME
@@ -289,7 +297,7 @@ def _write_state(table, recipe, content, inputs, selection, summary, out_dir: Pa
             path.unlink(missing_ok=True)
         return
     rows = [(r.source, r.subject, r.session, r.task, r.output) for r in table.itertuples()]
-    record = {**state(recipe, content, inputs, selection, summary, rows),
+    record = {**state(recipe, content, inputs, selection, band_change, rows),
               "methods": table.attrs["methods"]}
     with atomic_output(path) as staged:
         staged.write_text(json.dumps(record, indent=1) + "\n", encoding="utf-8")

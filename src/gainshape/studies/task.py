@@ -25,7 +25,7 @@ MB = 2**20
 def filter_recording(source: Path, content: dict, output: Path, overwrite: bool,
                       limits: dict) -> tuple:
     """One recording filtered (a Dask task): its table row, and extras: its
-    band change (None if it failed or ``limits["summary"]`` is False) and its
+    band change (None if it failed or ``limits["band_change"]`` is False) and its
     methods paragraph (None if it failed). Failures become a row."""
     import mne
 
@@ -77,10 +77,10 @@ def _filtered_and_described(source: Path, content: dict, staged: tuple, limits: 
 
 def _described(described, pair, source: Path, output: Path, limits: dict) -> tuple:
     """(brief, full) methods texts of ``described`` and its band change
-    (None unless ``limits["summary"]``), in memory from ``pair`` or by groups
+    (None unless ``limits["band_change"]``), in memory from ``pair`` or by groups
     of channels from the files."""
     text = (methods_text(described), methods_text(described, detail="full"))
-    if not limits["summary"]:
+    if not limits["band_change"]:
         return text, None
     change = band_change(*pair) if pair else band_change_by_groups(
         source, output, limits["in_memory_bytes"])
