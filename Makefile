@@ -20,6 +20,7 @@ demo: $(STAMP)
 
 test: $(STAMP)
 	MPLBACKEND=Agg $(BIN)/python -m pytest -q
+	$(BIN)/python -m mypy
 	$(MAKE) docs
 	$(MAKE) test-wheel
 	$(MAKE) test-oldest

@@ -7,7 +7,7 @@ from scipy.signal import freqz
 
 from gainshape import highpass, lowpass
 from gainshape.shaping.realize import (KernelResponse, _log_interpolated, _near_deep_minima,
-                               _Realizer)
+                               Realizer)
 
 
 @pytest.mark.parametrize("causal", [False, True])
@@ -51,7 +51,7 @@ def test_deep_minima_bins_cover_a_zero_and_its_neighbours():
 def test_shortest_meets_the_target_and_a_percent_less_may_not(curve):
     # common practice (no source): a length search to 1 %; the search figure is
     # the largest error on the thinned grid, aimed at 0.95 x tolerance
-    realizer = _Realizer(curve, 250.0, False, 0.001)
+    realizer = Realizer(curve, 250.0, False, 0.001)
     kernel, offset = realizer.shortest()
     assert realizer.deviation(kernel, offset) <= 0.95 * 0.001
     shorter = realizer.of_length(int(kernel.size * 0.97))

@@ -50,12 +50,27 @@ def test_steps_of_each_kind_validate(make_raw, tmp_path):
     VALIDATOR.validate(json.loads(json.dumps(step)))
 
 
-def test_a_step_written_before_the_format_version_still_validates():
-    old = _step()
-    del old["format_version"]
-    for band in old["realized"]["stop_bands"]:
-        band.pop("attenuated_low", None), band.pop("attenuated_high", None)
-    VALIDATOR.validate(old)
+@pytest.mark.parametrize("version", [0, 1])
+def test_steps_of_earlier_versions_are_read_with_the_current_names(version, make_raw):
+    # the format's rule (docs/step_record.md): readers accept every version written so far
+    raw = make_raw()
+    _, step = gs.apply(raw, gs.lowpass(30.0), return_step=True)
+    old = copy.deepcopy(step)
+    old["realized"]["stopband_attenuation_db"] = old["realized"].pop("stop_band_attenuation_db")
+    old["format_version"] = 1
+    if version == 0:
+        del old["format_version"]
+        for band in old["realized"]["stop_bands"]:
+            band.pop("attenuated_low", None), band.pop("attenuated_high", None)
+    provenance.store_step(raw.info, old)
+    [read] = gs.history(raw)
+    assert read["realized"]["stop_band_attenuation_db"] == \
+        step["realized"]["stop_band_attenuation_db"]
+    assert "stopband_attenuation_db" not in read["realized"]
+    least = np.floor(step["realized"]["stop_band_attenuation_db"])
+    assert f"at least {least:.0f} dB" in gs.methods_text(raw, detail="full")
+    VALIDATOR.validate({**read, "format_version": provenance.STEP_FORMAT_VERSION}
+                       if version == 0 else {**read, "format_version": 2})
 
 
 @pytest.mark.parametrize("damage", ["kernel_samples", "format", "application key", "channels"])

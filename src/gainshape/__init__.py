@@ -74,7 +74,7 @@ class _Package(types.ModuleType):
 
 sys.modules[__name__].__class__ = _Package
 
-from ._version import __version__  # noqa: E402
+from ._version import __version__ as __version__  # noqa: E402  (re-exported)
 
 __all__ = [
     "FilterDesign",

@@ -40,8 +40,8 @@ def main(argv=None) -> int:
         print(f"gainshape {args.name}: {err}", file=sys.stderr)
         return EXIT_USAGE
     except KeyboardInterrupt as err:
-        done = (f"{err.done} of {err.total} recordings done" if hasattr(err, "done")
-                else "no recording done")
+        count, total = getattr(err, "done", None), getattr(err, "total", None)  # a study's
+        done = f"{count} of {total} recordings done" if count is not None else "no recording done"
         print(f"gainshape {args.name}: interrupted: {done}, nothing half-written",
               file=sys.stderr)
         return EXIT_INTERRUPTED
@@ -147,7 +147,7 @@ def _describe(args) -> int:
 def _history(args) -> int:
     import mne
 
-    from .record.steps import history
+    from .record.steps import curve_words, history
     from .record.methods import methods_text
 
     try:
@@ -162,21 +162,12 @@ def _history(args) -> int:
     print(f"{len(steps)} step{'s' if len(steps) != 1 else ''} recorded in {args.file}")
     for number, step in enumerate(steps, start=1):
         print(f"{number}. {step.get('time', '?')}: {step['realized'].get('kind', '?')} filter, "
-              f"{_curve_words(step['curve'])}, designed at {step['design'].get('sfreq', '?')} Hz")
+              f"{curve_words(step['curve'])}, designed at {step['design'].get('sfreq', '?')} Hz")
     print()
     print(methods_text(raw, detail="full" if args.full else "brief"))
     if steps and not args.full:
         print(f"\n(Every stop band and edge: gainshape history {args.file} --full)")
     return EXIT_DONE
-
-
-def _curve_words(record: dict) -> str:
-    """A recorded curve in words (its recipe rebuilt, or the description kept for a callable)."""
-    from .shaping.curves import GainCurve
-
-    if "description" in record:
-        return record["description"]
-    return GainCurve.from_dict(record).describe()
 
 
 if __name__ == "__main__":

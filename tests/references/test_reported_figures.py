@@ -82,7 +82,7 @@ def test_ripple_and_stop_band_attenuation_match_freqz():
         if band.kind in ("notch", "notch inside a stop band"):
             floor = inside & (requested <= f.tolerance)
             assert band.attenuation_db == pytest.approx(-20 * np.log10(realized[floor].max()), abs=0.3)
-    assert c.stopband_attenuation_db == min(b.attenuation_db for b in c.stop_bands)
+    assert c.stop_band_attenuation_db == min(b.attenuation_db for b in c.stop_bands)
 
 
 def test_drawn_floor_is_a_stop_band_of_its_depth_and_the_notch_in_it_is_listed():
@@ -91,7 +91,7 @@ def test_drawn_floor_is_a_stop_band_of_its_depth_and_the_notch_in_it_is_listed()
     c = gs.design(curve, 1000.0).characteristics
     skirt = [b for b in c.stop_bands if b.kind == "above the low-pass edge"]
     assert len(skirt) == 1 and skirt[0].attenuation_db == pytest.approx(40.0, abs=0.5)
-    assert c.stopband_attenuation_db == pytest.approx(40.0, abs=0.5)
+    assert c.stop_band_attenuation_db == pytest.approx(40.0, abs=0.5)
     notches = [b for b in c.stop_bands if "notch" in b.kind]
     assert len(notches) == 1 and notches[0].low < 50.0 < notches[0].high
     assert "notch" in c.kind
@@ -169,7 +169,7 @@ def test_bids_and_methods_figures_equal_the_characteristics_and_a_measurement(ma
         hp_only.times[hp_only.times >= 0][np.argmin(hp_step[hp_only.times >= 0])], rel=0.05)
     assert entry["low-pass step overshoot (%)"] == pytest.approx(lp.overshoot_pct, rel=1e-2)
     least = entry["least stop-band attenuation, over each band's stated range (dB)"]
-    assert c.stopband_attenuation_db - 0.1 < least <= c.stopband_attenuation_db  # rounded down
+    assert c.stop_band_attenuation_db - 0.1 < least <= c.stop_band_attenuation_db  # rounded down
     assert entry["passband ripple (dB)"] == pytest.approx(c.passband_ripple_db, rel=1e-2)
     text = gs.methods_text(out)
     assert f"cutoffs {high:.3g} and {low:.3g} Hz" in text
@@ -179,7 +179,7 @@ def test_bids_and_methods_figures_equal_the_characteristics_and_a_measurement(ma
     assert f"(-3 dB: {_crossing(f, 1 / np.sqrt(2), 0.3, 1.0):.3g} and " \
            f"{_crossing(f, 1 / np.sqrt(2), 20.0, 30.0):.3g} Hz)" in text
     full = gs.methods_text(out, detail="full")
-    assert f"at least {np.floor(c.stopband_attenuation_db):.0f} dB attenuation" in full
+    assert f"at least {np.floor(c.stop_band_attenuation_db):.0f} dB attenuation" in full
     assert f"after {hp.settling_s:.3g} s" in full and f"overshoot {lp.overshoot_pct:.1f} %" in full
 
 

@@ -17,11 +17,13 @@ import warnings
 import numpy as np
 import xarray as xr
 
-from .._checks import GainshapeWarning, check_positive, warn
-from ..filtering.signals import as_arrays
-from ..shaping.filter_design import FilterDesign
-from ..shaping.design import check_filter, design
+from .._checks import check_positive, GainshapeWarning, warn
+from .._types import Recording
 from ..filtering.engine import filter_array
+from ..filtering.signals import as_arrays
+from ..shaping.curves import GainCurve
+from ..shaping.design import check_filter, design
+from ..shaping.filter_design import FilterDesign
 from ..shaping.measure import passband_edges
 
 __all__ = ["audit"]
@@ -34,7 +36,8 @@ _STEP_SECONDS = 1.0  # the step goes up at 0 s and back down after this long
 _ERP_COMPONENTS = (("erp early", "erp", 0.100, 0.015, -5.0), ("erp late", "erp", 0.450, 0.120, 5.0))
 
 
-def audit(filt, *, sfreq: float | None = None, waveform=None) -> xr.Dataset:
+def audit(filt: GainCurve | FilterDesign, *, sfreq: float | None = None,
+          waveform: Recording | np.ndarray | None = None) -> xr.Dataset:
     """Measure what ``filt`` does to test waveforms or to the user's waveform.
 
     Parameters

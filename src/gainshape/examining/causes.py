@@ -52,7 +52,8 @@ def line_causes(frequencies, heights, mains, rate, tolerance) -> tuple[list, lis
     >>> line_causes([3.0, 10.0, 50.0, 150.0], [12.0, 9.0, 40.0, 30.0], 50.0, 1.0, 0.05)
     (['stimulus-locked', 'stimulus-locked', 'mains', 'mains harmonic'], [1.0, 1.0, nan, 50.0])
     """
-    causes, of = [None] * len(frequencies), [np.nan] * len(frequencies)
+    causes: list[str | None] = [None] * len(frequencies)
+    of: list[float] = [np.nan] * len(frequencies)
     for i, f in enumerate(frequencies):
         if (n := _multiple(f, mains, tolerance)):
             causes[i], of[i] = ("mains", np.nan) if n == 1 else ("mains harmonic", mains)

@@ -30,6 +30,7 @@ from scipy import ndimage, stats
 
 from .._checks import check_fraction, check_positive, warn
 from .._spectra import welch_density
+from .._types import Recording
 from ..filtering.signals import as_arrays, clean_spans
 from .causes import line_causes, mains_line, stimulus_rate
 
@@ -42,9 +43,11 @@ _WINDOW_WIDTHS = 4.0  # the background's median runs over +- this many max_width
 _MIN_SEGMENTS_WARNED = 8  # fewer averaged segments: a noisy spectrum, weak lines are missed
 
 
-def find_lines(inst, *, sfreq=None, resolution=None, freq_range=(1.0, None),
+def find_lines(inst: Recording | np.ndarray, *, sfreq: float | None = None,
+               resolution: float | None = None,
+               freq_range: tuple[float, float | None] = (1.0, None),
                min_height_db: float = 5.0, max_width: float = 1.0, presence: float = 0.5,
-               chance: float = 0.01, events=None) -> xr.Dataset:
+               chance: float = 0.01, events: np.ndarray | None = None) -> xr.Dataset:
     """Find narrow lines (mains hum, equipment) in the data channels' spectra.
 
     Parameters
@@ -286,7 +289,7 @@ def _runs(typical, searched, threshold) -> list:
     if above.size == 0:
         return []
     lower = np.sqrt(threshold)
-    runs = []
+    runs: list = []
     for piece in np.split(above, np.flatnonzero(np.diff(above) > 1) + 1):
         start, stop = piece[0], piece[-1] + 1
         while start > 1 and typical[start - 1] >= lower:

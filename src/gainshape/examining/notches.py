@@ -16,7 +16,7 @@ NOTCH_ABOVE = 45.0  # Hz: scalp EEG rhythms are measured up to the low gamma ban
 
 def suggest_notches(found: xr.Dataset, *, margin: float = 2.0, min_width: float = 0.5,
                     rolloff: float = 24.0, notch_above: float = NOTCH_ABOVE,
-                    include=()) -> GainCurve:
+                    include: tuple | list = ()) -> GainCurve:
     """The notch comb that removes mains and the lines no EEG measure needs, and only them.
 
     By default it notches mains and its harmonics (``cause`` "mains" and

@@ -14,6 +14,7 @@ from scipy.signal import csd, welch
 
 from .._checks import warn
 from .._spectra import welch_density
+from .._types import Recording
 from ..filtering.signals import as_arrays
 
 __all__ = ["band_change", "band_change_map", "observed_gain", "DEFAULT_BANDS", "spectral_settings"]
@@ -55,7 +56,9 @@ def spectral_settings(n_times: int, sfreq: float, seconds: float = _WINDOW_SECON
             "detrend": "constant", "scaling": "density", "average": "mean"}
 
 
-def band_change(before, after, bands=None, *, sfreq=None, lines=None) -> xr.Dataset:
+def band_change(before: Recording | np.ndarray, after: Recording | np.ndarray,
+                bands: dict[str, tuple[float, float]] | None = None, *,
+                sfreq: float | None = None, lines: xr.Dataset | None = None) -> xr.Dataset:
     """Per channel and band: power before and after filtering, and the change.
 
     Parameters
@@ -174,7 +177,8 @@ def band_change_map(ds) -> np.ndarray:
     return (10 * np.log10(after / before)).transpose("channel", "band").values
 
 
-def observed_gain(before, after, *, sfreq=None) -> xr.DataArray:
+def observed_gain(before: Recording | np.ndarray, after: Recording | np.ndarray, *,
+                  sfreq: float | None = None) -> xr.DataArray:
     """The amplitude ratio the data saw, channel by frequency: ``|P_xy / P_xx|``.
 
     Blackman-Harris windows of 40 s (at most the record or epoch length).

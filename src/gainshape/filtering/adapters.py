@@ -14,17 +14,18 @@ import numpy as np
 
 from .._checks import check_bool, check_int, check_option, check_positive, DEFAULT_TOLERANCE, warn
 from .._compat import copy_with_empty_data, data_of, picks_to_indices, unlocked
+from .._types import Filtered, KernelRequest, Picks, Recording, Verbosity
 from ..record.steps import fingerprint, make_step, RATE_PPM, same_rate, store_step, usable_steps
 from ..shaping.curves import GainCurve
 from ..shaping.design import check_filter, check_kernel_request, design
 from ..shaping.filter_design import FilterDesign
 from ..shaping.measure import passband_edges
-from .engine import check_finite, check_samples, fft_workers, filter_array, Progress, SegmentWords
 from .blocks import PAD_MODES
+from .engine import check_finite, check_samples, fft_workers, filter_array, Progress, SegmentWords
 from .outofcore import check_request, filtered_raw
 from .signals import (
-    array_picks, check_sfreq, mne_kind, pick_indices, raw_segments, record_count, require_sfreq,
-    names_of_rows, rows_and_segments,
+    array_picks, check_sfreq, mne_kind, names_of_rows, pick_indices, raw_segments, record_count,
+    require_sfreq, rows_and_segments,
 )
 
 __all__ = ["apply", "replay"]
@@ -37,21 +38,21 @@ _EPOCH_HINT = (
 
 
 def apply(
-    inst,
-    filt,
+    inst: Recording | np.ndarray,
+    filt: GainCurve | FilterDesign,
     *,
     sfreq: float | None = None,
-    picks=None,
+    picks: Picks = None,
     pad: str = "reflect",
     causal: bool = False,
-    kernel="shortest",
+    kernel: KernelRequest = "shortest",
     tolerance: float = DEFAULT_TOLERANCE,
     nan: str = "raise",
     n_jobs: int = 1,
     copy: bool = True,
     return_step: bool = False,
-    verbose=None,
-):
+    verbose: Verbosity = None,
+) -> Filtered:
     """Filter a Raw, Epochs, Evoked or array with a gain curve or design.
 
     Parameters
@@ -342,7 +343,8 @@ def _update_info(inst, idx, filt):
             inst.info["lowpass"] = min(float(inst.info["lowpass"]), lowpass)
 
 
-def replay(steps, inst, *, n_jobs: int = 1, verbose=None):
+def replay(steps: list[dict], inst: Recording, *, n_jobs: int = 1,
+           verbose: Verbosity = None) -> Recording:
     """Re-apply recorded steps, in order, to unfiltered data.
 
     Parameters

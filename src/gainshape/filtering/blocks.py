@@ -142,7 +142,7 @@ def edge_pads(seg, n_pad: int, mode: str):
             return np.repeat(head[:, :1], n_pad, 1), np.repeat(tail[:, -1:], n_pad, 1)
         zeros = np.zeros((k, n_pad), dtype=head.dtype)
         return zeros, zeros
-    padded = np.pad(np.asarray(seg[:, :]), ((0, 0), (n_pad, n_pad)), mode=mode)  # row by row
+    padded = np.pad(np.asarray(seg[:, :]), ((0, 0), (n_pad, n_pad)), mode=mode)  # type: ignore[call-overload]  # one of PAD_MODES
     return padded[:, :n_pad], padded[:, n_pad + n :]
 
 

@@ -47,7 +47,7 @@ def check_request(filt, kernel, pad, nan, copy):
             )
 
 
-class FilteredRaw(reader_raw_class()):
+class FilteredRaw(reader_raw_class()):  # type: ignore[misc]  # MNE's reader class, by version
     """A Raw whose samples are filtered as they are read (see :func:`filtered_raw`);
     defined at module level so that it pickles like any Raw."""
 

@@ -12,11 +12,12 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from .._checks import DEFAULT_TOLERANCE, check_bool, check_option, check_positive
+from .._checks import check_bool, check_option, check_positive, DEFAULT_TOLERANCE
 from .._files import atomic_output
+from .._types import KernelRequest, PathLike, Picks
 from ..shaping.curves import GainCurve
-from ..shaping.filter_design import FilterDesign
 from ..shaping.design import check_filter, check_kernel_request, design
+from ..shaping.filter_design import FilterDesign
 from .blocks import PAD_MODES
 
 __all__ = ["read_recipe", "write_recipe", "recipe_content", "recipe_from_content", "recipe_design"]
@@ -25,9 +26,10 @@ _FORMAT, _VERSION = "gainshape.recipe", 1
 _KEYS = ("format", "version", "curve", "causal", "kernel", "tolerance", "pad", "picks")
 
 
-def write_recipe(path, filt, *, causal: bool = False, kernel="shortest",
+def write_recipe(path: PathLike, filt: GainCurve | FilterDesign, *, causal: bool = False,
+                 kernel: KernelRequest = "shortest",
                  tolerance: float = DEFAULT_TOLERANCE,
-                 pad: str = "reflect", picks=None) -> Path:
+                 pad: str = "reflect", picks: Picks = None) -> Path:
     """Write a filter recipe to a JSON file, whole or not at all.
 
     Parameters
@@ -75,7 +77,7 @@ def write_recipe(path, filt, *, causal: bool = False, kernel="shortest",
     return path
 
 
-def read_recipe(path) -> dict:
+def read_recipe(path: PathLike) -> dict:
     """Read a filter recipe written by :func:`write_recipe`.
 
     Parameters
@@ -148,8 +150,8 @@ def recipe_from_content(content, path="the recipe") -> dict:
     if unknown or missing:
         raise ValueError(f"{path} holds the keys {sorted(content)}: "
                          + "; ".join(filter(None, [
-                             unknown and "unknown " + ", ".join(map(repr, sorted(unknown))),
-                             missing and "missing " + ", ".join(map(repr, sorted(missing)))]))
+                             "unknown " + ", ".join(map(repr, sorted(unknown))) if unknown else "",
+                             "missing " + ", ".join(map(repr, sorted(missing))) if missing else ""]))
                          + f". A recipe has exactly {', '.join(_KEYS)}.")
     curve = GainCurve.from_dict({"format": "gainshape.GainCurve", "version": 1,
                                  "curve": content["curve"]})

@@ -4,16 +4,18 @@ from __future__ import annotations
 
 import json
 from pathlib import Path
+from typing import Any
 
-from ..shaping.measure import passband_edges
-from ..shaping.words import round_down, round_sig, round_sig_toward, rounded_all
 from .._checks import missing_modules
 from .._files import atomic_output, atomic_outputs
+from .._types import PathLike, Recording
+from ..shaping.measure import passband_edges
+from ..shaping.words import round_down, round_sig, round_sig_toward, rounded_all
 from .methods import methods_text
 from .steps import history, step_phase_words
 
 
-def bids_filters(inst) -> dict | str:
+def bids_filters(inst: Recording) -> dict | str:
     """The BIDS EEG sidecar ``SoftwareFilters`` object for the recorded steps.
 
     An object of objects (filter name -> parameters, units in the keys), or
@@ -72,7 +74,7 @@ def bids_filters(inst) -> dict | str:
             **edges,
             "passband ripple (dB)": round_sig(r.get("passband_ripple_db"), 3),
             "least stop-band attenuation, over each band's stated range (dB)": round_down(
-                r.get("stopband_attenuation_db"), 1),
+                r.get("stop_band_attenuation_db"), 1),
             "phase response": step_phase_words(step),
             "group delay (s)": round_sig(r.get("group_delay"), 3),
             "kernel length (s)": round_sig(r.get("length"), 4),
@@ -112,7 +114,7 @@ def _bids_stop_band(b: dict) -> dict:
     return out
 
 
-def write_bids_filters(bids_path, inst) -> None:
+def write_bids_filters(bids_path: Any, inst: Recording) -> None:
     """Write :func:`bids_filters` into a BIDS dataset's ``*_eeg.json`` (needs mne-bids).
 
     The sidecar is rewritten whole or not at all; its other keys are kept.
@@ -161,7 +163,8 @@ def write_bids_filters(bids_path, inst) -> None:
         staged.write_text(json.dumps(content, indent=4) + "\n", encoding="utf-8")
 
 
-def export(inst, fname, *, overwrite: bool = False, **export_options) -> list:
+def export(inst: Recording, fname: PathLike, *, overwrite: bool = False,
+           **export_options: Any) -> list:
     """Export a filtered Raw to BrainVision, EDF or EEGLAB, keeping its filter record.
 
     ``mne.export.export_raw`` writes formats that have no place for

@@ -4,18 +4,20 @@ from __future__ import annotations
 
 import numpy as np
 
+from .._checks import check_option
+from .._types import Recording
 from ..shaping.measure import passband_edges
 from ..shaping.words import (
-    held_words, hz_words, notch_centre, round_down, seconds_words, stop_band_words, timing_words,
+    held_words, hz_words, notch_centre, phase_label, round_down, seconds_words, stop_band_words,
+    timing_words, two_rates_sentence,
 )
-from .._checks import check_option
-from .steps import history, step_phase_words
+from .steps import curve_words, history, step_phase_words
 
 
 METHODS_DETAIL = ("brief", "full")  # the lengths of methods_text
 
 
-def methods_text(inst, detail: str = "brief") -> str:
+def methods_text(inst: Recording, detail: str = "brief") -> str:
     """A methods-section paragraph describing every filter step in order.
 
     The brief form (default) gives each step the two or three sentences a
@@ -83,7 +85,7 @@ def _step_sentences(step) -> str:
     curve = step.get("curve", {})
     request = (
         "drawn as a gain curve from a function" if curve.get("reproducible") is False
-        else f"requested as the gain curve '{_curve_words(curve.get('curve', {}))}'"
+        else f"requested as the gain curve '{curve_words(curve)}'"
     )
     if a.get("interrupted"):
         return (f"An application of a {r.get('kind', 'custom-shape')} filter to "
@@ -98,8 +100,8 @@ def _step_sentences(step) -> str:
         *([_timing_sentence(r)] if r.get("edge_timing") else []),
     ]
     details = [f"passband ripple {r.get('passband_ripple_db', float('nan')):.2g} dB"]
-    if np.isfinite(r.get("stopband_attenuation_db", float("nan"))):
-        details.append(f"at least {round_down(r['stopband_attenuation_db'], 0):.0f} dB "
+    if np.isfinite(r.get("stop_band_attenuation_db", float("nan"))):
+        details.append(f"at least {round_down(r['stop_band_attenuation_db'], 0):.0f} dB "
                        "attenuation in every stop band over the range stated for it")
     details.append(f"a largest gain deviation from the request of {r.get('max_deviation', 0):.2g}")
     text.append("It had " + ", ".join(details) + ".")
@@ -112,7 +114,7 @@ def _step_sentences(step) -> str:
     )
     text.append(f"{length}.")
     if isinstance(d.get("two_rates"), dict):
-        text.append(_two_rates_sentence(d["two_rates"]))
+        text.append(two_rates_sentence(d["two_rates"]))
     text.append(f"Each continuous segment was padded at both ends ({a.get('pad', 'reflect')} "
                 "mode of numpy.pad) by at least the kernel's half-length.")
     return " ".join(text)
@@ -125,9 +127,9 @@ def _brief_sentences(step) -> str:
         return _step_sentences(step)
     n = len(step.get("channels", []))
     causal = bool(d.get("causal"))
-    direction = ("causal (minimum-phase, one pass, group delay "
+    direction = (f"causal ({phase_label(True)}, one pass, group delay "
                  f"{1000 * r.get('group_delay', 0.0):.3g} ms)" if causal else
-                 "zero-phase (non-causal, no delay)")
+                 f"{phase_label(False)} (non-causal, no delay)")
     if d.get("kernel") == "exact":
         kernel = "the gain curve applied exactly on each record's frequency grid (no truncation)"
     else:
@@ -244,16 +246,6 @@ def _brief_timing(timings) -> str:
     return "Step response: " + "; ".join(parts) + "." if parts else ""
 
 
-def _two_rates_sentence(r) -> str:
-    """How the kernel above ran in two rates (see gainshape.shaping.rates)."""
-    return (f"It ran in two parts whose sum is that kernel: frequencies below "
-            f"{r['split_hz']:.3g} Hz were filtered at a reduced rate of "
-            f"{r['reduced_rate_hz']:.4g} Hz (decimation by {r['factor']} after a triangular "
-            "anti-aliasing filter, linear interpolation back) and subtracted from the output of "
-            f"a {r['full_rate_kernel_samples']}-sample kernel at the full rate; the rate change "
-            f"leaked at most {r['aliasing_bound']:.2g} of any frequency into others.")
-
-
 def _edge_sentence(r) -> str:
     """Cutoffs of the pass-band edges (with roll-off) and every stop band."""
     passband, stops = passband_edges(r), r.get("stop_bands", [])
@@ -274,12 +266,3 @@ def _edge_sentence(r) -> str:
 def _timing_sentence(r) -> str:
     """The pass-band edges' time behaviour (see gainshape.shaping.timing.EdgeTiming)."""
     return "In time, its " + "; its ".join(timing_words(t) for t in r["edge_timing"]) + "."
-
-
-def _curve_words(recipe) -> str:
-    from ..shaping.curves import GainCurve
-
-    try:
-        return GainCurve.from_dict({"format": "gainshape.GainCurve", "curve": recipe}).describe()
-    except (ValueError, KeyError, TypeError):
-        return "unreadable"

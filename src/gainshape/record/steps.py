@@ -19,16 +19,19 @@ import datetime as _dt
 import numpy as np
 import xxhash
 
-from ..shaping.measure import passband_edges, removed_bands
-from ..shaping.words import hz_range, phase_words
 from .._checks import warn
+from .._types import Recording
+from ..shaping.curves import GainCurve
+from ..shaping.measure import passband_edges, removed_bands
+from ..shaping.words import hz_range, phase_label, phase_words
 
 __all__ = ["History", "fingerprint", "history", "make_step", "store_step", "usable_steps"]
 
 _BEGIN = "[gainshape history v1: one JSON step per line below; do not edit]"
 _END = "[end of gainshape history]"
 _STEP_FORMAT = "gainshape.step"
-STEP_FORMAT_VERSION = 1  # step.schema.json; steps without it (version 0) are read alike
+STEP_FORMAT_VERSION = 2  # step.schema.json; older steps (versions 0 and 1) are read alike
+_RENAMED_IN_2 = {"stopband_attenuation_db": "stop_band_attenuation_db"}  # realized figures
 
 
 class History(list):
@@ -173,7 +176,7 @@ def fingerprint(rows: np.ndarray, picked) -> str:
     """
     h = xxhash.xxh3_128(f"{rows.dtype.str}|{len(picked)}x{rows.shape[-1]}".encode())
     for r in picked:
-        h.update(memoryview(np.ascontiguousarray(rows[r])))
+        h.update(np.ascontiguousarray(rows[r]).tobytes())
     return "xxh3_128:" + h.hexdigest()
 
 
@@ -185,7 +188,7 @@ def store_step(info, step: dict) -> None:
     info["description"] = f"{user_text}\n\n{block}" if user_text else block
 
 
-def history(inst) -> History:
+def history(inst: Recording) -> History:
     """The filter steps recorded on an MNE object, oldest first.
 
     Damaged or hand-edited lines are skipped with a warning.
@@ -232,7 +235,7 @@ def history(inst) -> History:
         if problem:
             damaged.append(f"line {number} ({problem}): {line[:60]!r}")
             continue
-        steps.append(step)
+        steps.append(current_step(step))
     if damaged:
         warn(f"Skipped damaged history {'; '.join(damaged)}. The other steps are read; "
              "the damaged ones are left in info['description'] as they are.")
@@ -255,6 +258,22 @@ def split_description(description):
     return before.strip("\n"), [line for line in block.split("\n") if line.strip()]
 
 
+def current_step(step: dict) -> dict:
+    """A step of any format version with the current version's names (a copy if renamed).
+
+    Examples
+    --------
+    >>> old = {"format_version": 1, "realized": {"stopband_attenuation_db": 40.0}}
+    >>> current_step(old)["realized"]
+    {'stop_band_attenuation_db': 40.0}
+    """
+    realized = step.get("realized")
+    if not isinstance(realized, dict) or not set(_RENAMED_IN_2) & set(realized):
+        return step
+    renamed = {_RENAMED_IN_2.get(key, key): value for key, value in realized.items()}
+    return {**step, "realized": renamed}
+
+
 def step_problem(step) -> str | None:
     """Why a parsed line is not a usable step, or None if it is."""
     if not isinstance(step, dict) or step.get("format") != _STEP_FORMAT:
@@ -264,7 +283,7 @@ def step_problem(step) -> str | None:
     for key, kind in parts.items():
         if not isinstance(step.get(key), kind):
             return f"its {key!r} is not a {kind.__name__}"
-    r, d = step["realized"], step["design"]
+    r, d = current_step(step)["realized"], step["design"]
     lists = ("half_amplitude", "half_power", "rolloff")
     if not all(isinstance(r.get(k, []), list) and all(_is_number(v) for v in r.get(k, []))
                for k in lists):
@@ -273,7 +292,7 @@ def step_problem(step) -> str | None:
     if not isinstance(directions, list) or not set(directions) <= {"rising", "falling"} \
             or len(directions) != len(r.get("half_amplitude", [])):
         return "its edge directions do not match its cutoffs"
-    numbers = ("passband_ripple_db", "stopband_attenuation_db", "max_deviation",
+    numbers = ("passband_ripple_db", "stop_band_attenuation_db", "max_deviation",
                "group_delay", "length")
     if not all(_is_number(r.get(k, 0.0)) for k in numbers) or not _is_number(d.get("sfreq")):
         return "a realized figure or the sampling rate is not a number"
@@ -303,7 +322,7 @@ def usable_steps(steps) -> list:
         if problem:
             skipped.append(f"step {number} ({problem})")
         else:
-            kept.append(step)
+            kept.append(current_step(step))
     if skipped:
         warn(f"Skipped {'; '.join(skipped)}: not whole gainshape step records.")
     return kept
@@ -331,6 +350,22 @@ def step_phase_words(step) -> str:
 
 def phase_label_of(step) -> str:
     """Short label of the kernel for tables: zero-phase or minimum-phase."""
-    return "minimum-phase" if step.get("design", {}).get("causal") else "zero-phase"
+    return phase_label(bool(step.get("design", {}).get("causal")))
 
 
+def curve_words(record: dict) -> str:
+    """A step's recorded curve in words: its recipe described, the description kept for a
+    curve built from a callable, or "unreadable recipe" for a damaged one.
+
+    >>> curve_words({"format": "gainshape.GainCurve", "version": 1,
+    ...              "curve": {"kind": "lowpass", "cutoff": 30.0, "rolloff": 12.0}})
+    'low-pass 30 Hz, 12 dB/octave'
+    >>> curve_words({"reproducible": False, "description": "custom curve from callable f"})
+    'custom curve from callable f'
+    """
+    if isinstance(record, dict) and "description" in record:
+        return str(record["description"])
+    try:
+        return GainCurve.from_dict(record).describe()
+    except (ValueError, KeyError, TypeError):
+        return "unreadable recipe"

@@ -17,9 +17,12 @@ from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 
 import numpy as np
+from numpy.typing import ArrayLike
 
-from .gains import (RECIPE_KINDS, checked_recipe, complement_gain, describe_recipe, fit_below,
-                    gain_function, product_gain, recipe_reasons)
+from .gains import (
+    checked_recipe, complement_gain, describe_recipe, fit_below, gain_function, product_gain,
+    RECIPE_KINDS, recipe_reasons,
+)
 
 __all__ = ["GainCurve", "curve_from_recipe"]
 
@@ -69,7 +72,8 @@ class GainCurve:  # numpydoc ignore=PR01
 
     # -- construction --------------------------------------------------------
     @classmethod
-    def from_points(cls, freqs, gains, *, freq_scale="linear", gain_scale="linear"):
+    def from_points(cls, freqs: ArrayLike, gains: ArrayLike, *, freq_scale: str = "linear",
+                    gain_scale: str = "linear") -> GainCurve:
         """Draw a curve through points, interpolated without overshoot.
 
         Parameters

@@ -15,12 +15,13 @@ from collections import OrderedDict
 import numpy as np
 
 from .._checks import check_bool, check_positive, check_tolerance, DEFAULT_TOLERANCE, warn
+from .._types import KernelRequest
 from .curves import GainCurve
 from .filter_design import FilterDesign
 from .lengths import long_kernel_cause
 from .measure import characterize, max_deviation
 from .rates import two_rates
-from .realize import _Realizer, _requested_taps, _validated_gain, KernelResponse
+from .realize import KernelResponse, Realizer, requested_taps, validated_gain
 
 __all__ = ["design", "FilterDesign"]
 
@@ -35,7 +36,7 @@ def design(
     sfreq: float,
     *,
     causal: bool = False,
-    kernel="shortest",
+    kernel: KernelRequest = "shortest",
     tolerance: float = DEFAULT_TOLERANCE,
 ) -> FilterDesign:
     """Realize ``curve`` at ``sfreq`` as a finite kernel and characterize it.
@@ -143,7 +144,7 @@ def _realized(curve, sfreq, causal, kernel_request, tolerance) -> tuple:
         )
     if fixed and chars.max_deviation > tolerance:
         try:
-            shortest = _Realizer(curve, sfreq, causal, tolerance).shortest()[0]
+            shortest = Realizer(curve, sfreq, causal, tolerance).shortest()[0]
             fix = f"use kernel='shortest' ({shortest.size / sfreq:.3g} s) to meet it."
         except ValueError:
             fix = "no kernel length meets it: the request has a jump or a kink."
@@ -165,8 +166,8 @@ def _realized(curve, sfreq, causal, kernel_request, tolerance) -> tuple:
 def _one_rate(curve, sfreq, causal, kernel_request, tolerance) -> tuple:
     """Kernel, offset, response and deviation of the request run at ``sfreq`` alone."""
     fixed, exact = not isinstance(kernel_request, str), kernel_request == "exact"
-    n_taps = _requested_taps(kernel_request, sfreq) if fixed else None
-    realizer = _Realizer(curve, sfreq, causal, tolerance, min_n=2 * (n_taps or 0))
+    n_taps = requested_taps(kernel_request, sfreq) if fixed else None
+    realizer = Realizer(curve, sfreq, causal, tolerance, min_n=2 * (n_taps or 0))
     if n_taps is None:
         taps, offset = realizer.shortest()
     else:
@@ -195,7 +196,8 @@ class _DesignStore:
 
     def __init__(self, count: int, kernel_bytes: int):
         self.count, self.kernel_bytes = count, kernel_bytes
-        self.kept, self.lock = OrderedDict(), threading.Lock()
+        self.kept: OrderedDict = OrderedDict()
+        self.lock = threading.Lock()
 
     def get(self, key):
         with self.lock:
@@ -221,7 +223,7 @@ _DESIGNS = _DesignStore(_KEPT_DESIGNS, _KEPT_KERNEL_BYTES)
 
 def _not_flat(curve, sfreq) -> list:
     """Refuse a request that removes everything; say so of one that only scales."""
-    gain = _validated_gain(curve, np.linspace(0.0, sfreq / 2.0, 4097))
+    gain = validated_gain(curve, np.linspace(0.0, sfreq / 2.0, 4097))
     if gain.max() == 0.0:
         raise ValueError(
             f"The gain curve {curve!r} is 0 from 0 Hz to Nyquist ({sfreq / 2:g} Hz): it "

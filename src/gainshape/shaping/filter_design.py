@@ -5,20 +5,25 @@ from __future__ import annotations
 import html
 import warnings
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
 import scipy.fft as sfft
+from numpy.typing import ArrayLike, DTypeLike
 
 from .._showing import plotting_function
 from .curves import GainCurve
 from .measure import Characteristics, passband_edges, removed_bands
-from .words import db_floor, hz_range
-from .words import stop_band_words, timing_words
 from .rates import TwoRates
 from .realize import (
-    _kernel_spectrum, _minimum_phase_spectrum, _validated_gain, cached_spectrum, KernelResponse,
+    cached_spectrum, kernel_spectrum, KernelResponse, minimum_phase_spectrum, validated_gain,
 )
-from .words import phase_words, rate_words
+from .words import (
+    db_floor, hz_range, phase_label, phase_words, rate_words, stop_band_words, timing_words,
+)
+
+if TYPE_CHECKING:  # for annotations only: imported when something is drawn
+    from matplotlib.figure import Figure
 
 
 @dataclass(frozen=True, slots=True)
@@ -170,7 +175,7 @@ class FilterDesign:  # numpydoc ignore=PR01
         """
         return int(max(self.offset, self.taps.size - 1 - self.offset))
 
-    def requested_gain(self, freqs) -> np.ndarray:
+    def requested_gain(self, freqs: ArrayLike) -> np.ndarray:
         """The curve's gain at ``freqs`` (Hz).
 
         Parameters
@@ -196,7 +201,7 @@ class FilterDesign:  # numpydoc ignore=PR01
         """
         return self.curve(freqs)
 
-    def realized_gain(self, freqs) -> np.ndarray:
+    def realized_gain(self, freqs: ArrayLike) -> np.ndarray:
         """Magnitude of the response that runs, at ``freqs`` (Hz).
 
         With ``kernel="exact"`` the request is applied on each record's own
@@ -229,7 +234,7 @@ class FilterDesign:  # numpydoc ignore=PR01
         response = KernelResponse(self.taps, self.offset, self.sfreq, self.causal)
         return np.abs(response.gain_at(freqs))
 
-    def spectrum(self, n_fft: int, dtype=np.float64) -> np.ndarray:
+    def spectrum(self, n_fft: int, dtype: DTypeLike = np.float64) -> np.ndarray:
         """Response on the ``rfft`` grid of ``n_fft`` points (for the engine).
 
         Real for zero phase, complex for minimum phase, in single precision
@@ -262,13 +267,13 @@ class FilterDesign:  # numpydoc ignore=PR01
 
     def _compute_spectrum(self, n_fft: int) -> np.ndarray:
         if self.exact:
-            gain = _validated_gain(self.curve, sfft.rfftfreq(n_fft, 1.0 / self.sfreq))
+            gain = validated_gain(self.curve, sfft.rfftfreq(n_fft, 1.0 / self.sfreq))
             if not self.causal:
                 return gain
-            return _minimum_phase_spectrum(self.curve, gain, n_fft, self.sfreq, self.tolerance)
-        return _kernel_spectrum(self.taps, self.offset, n_fft, self.causal)
+            return minimum_phase_spectrum(self.curve, gain, n_fft, self.sfreq, self.tolerance)
+        return kernel_spectrum(self.taps, self.offset, n_fft, self.causal)
 
-    def plot(self, *, fmin=None, show=True):
+    def plot(self, *, fmin: float | None = None, show: bool = True) -> Figure:
         """Requested and realized gain (linear and dB), impulse and step response.
 
         Parameters
@@ -327,8 +332,7 @@ class FilterDesign:  # numpydoc ignore=PR01
                          + " Hz")
         if not c.half_amplitude:
             parts.append("no half-amplitude point")
-        kind = "minimum-phase" if self.causal else "zero-phase"
-        return "; ".join(parts + [kind, f"{c.length:.3g} s at {self.sfreq:g} Hz"])
+        return "; ".join(parts + [phase_label(self.causal), f"{c.length:.3g} s at {self.sfreq:g} Hz"])
 
     def summary(self) -> list[tuple[str, str]]:
         """The characteristics as (label, value) rows of text, for tables.
@@ -369,7 +373,7 @@ class FilterDesign:  # numpydoc ignore=PR01
             ("roll-off", slopes or "none (no pass-band edge)"),
             *[("stop band", stop_band_words(b)) for b in realized["stop_bands"]],
             ("passband ripple", f"{c.passband_ripple_db:.3g} dB"),
-            ("stopband attenuation", f"{db_floor(c.stopband_attenuation_db)} dB (the least of any "
+            ("stopband attenuation", f"{db_floor(c.stop_band_attenuation_db)} dB (the least of any "
                                      "stop band, over its stated range)"),
             ("largest gain deviation", f"{c.max_deviation:.2g} (tolerance {self.tolerance:g})"),
             *[("in time", timing_words(t)) for t in realized["edge_timing"]],

@@ -120,8 +120,8 @@ def _steep_parts(curve, nyquist: float) -> list:
     size = np.abs(slope)
     peaks = np.flatnonzero((size[1:-1] >= size[:-2]) & (size[1:-1] > size[2:])
                            & (size[1:-1] > 1e-6 * size.max(initial=0.0))) + 1
-    out = []
-    for k in peaks:
+    out: list = []
+    for k in peaks.tolist():
         width = _half_peak_span(f, size, k)
         top = 0.5 * (f[k] + f[k + 1])
         if width <= 4 * (f[k + 1] - f[k]):  # a few grid steps: measure it finely

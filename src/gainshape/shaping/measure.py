@@ -10,6 +10,7 @@ its lowest value there.
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
@@ -40,6 +41,7 @@ class EdgeFrequency(float):
     """
 
     __slots__ = ("direction",)
+    direction: str
 
     def __new__(cls, hz: float, direction: str):
         obj = super().__new__(cls, hz)
@@ -81,8 +83,10 @@ class Characteristics:
         notches, band-stops, drawn floors) and each notch inside such a run
         (a null 20 dB below the gain 10 % of its frequency away), with its
         attenuation (see :class:`StopBand`).
-    stopband_attenuation_db : float
+    stop_band_attenuation_db : float
         The smallest attenuation of any stop band (NaN if there is none).
+        (``stopband_attenuation_db`` before 0.2; that name still reads it,
+        with a FutureWarning.)
     max_deviation : float
         Largest |realized - requested| gain difference on a fine grid.
     edge_timing : tuple of EdgeTiming
@@ -100,11 +104,31 @@ class Characteristics:
     rolloff: tuple
     passband_ripple_db: float
     stop_bands: tuple
-    stopband_attenuation_db: float
+    stop_band_attenuation_db: float
     max_deviation: float
     edge_timing: tuple
     group_delay: float
     length: float
+
+    @property
+    def stopband_attenuation_db(self) -> float:
+        """``stop_band_attenuation_db`` under its name before 0.2.
+
+        Examples
+        --------
+        >>> import warnings
+        >>> from gainshape import design, lowpass
+        >>> c = design(lowpass(30.0), 250.0).characteristics
+        >>> with warnings.catch_warnings(record=True) as said:
+        ...     warnings.simplefilter("always")
+        ...     same = c.stopband_attenuation_db == c.stop_band_attenuation_db
+        >>> same, said[0].category.__name__
+        (True, 'FutureWarning')
+        """
+        warnings.warn("Characteristics.stopband_attenuation_db is now "
+                      "stop_band_attenuation_db (spelled as stop_bands); the old name goes in "
+                      "a later release.", FutureWarning, stacklevel=2)
+        return self.stop_band_attenuation_db
 
     def to_dict(self) -> dict:
         """Plain JSON-serializable values (edges as lists of Hz and directions).
@@ -116,7 +140,7 @@ class Characteristics:
         >>> c.to_dict()["stop_bands"][0]["kind"]
         'above the low-pass edge'
         """
-        out = {}
+        out: dict = {}
         for name in self.__slots__:
             value = getattr(self, name)
             if name in ("stop_bands", "edge_timing"):
@@ -182,7 +206,7 @@ def characterize(curve, response, tol, exact, grid_deviation=None) -> Characteri
         rolloff=rolloffs,
         passband_ripple_db=ripple,
         stop_bands=stops,
-        stopband_attenuation_db=float(atten),
+        stop_band_attenuation_db=float(atten),
         max_deviation=deviation,
         edge_timing=timing,
         group_delay=group_delay(response, half_pow, realized[0] >= _HALF_POWER),
@@ -254,7 +278,7 @@ def _steepest_slope(edge, fn, fmin, fmax, floor, edges, hull) -> float:
 
 def _upper_hull(x, y) -> list:
     """Indices of the upper convex hull of points with increasing ``x``."""
-    out = []
+    out: list[int] = []
     for i in range(x.size):
         while len(out) >= 2:
             a, b = out[-2], out[-1]

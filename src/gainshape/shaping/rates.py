@@ -33,7 +33,7 @@ from itertools import chain
 import numpy as np
 import scipy.fft as sfft
 
-from .realize import KernelResponse, _kernel_spectrum, _Realizer, cached_spectrum
+from .realize import KernelResponse, kernel_spectrum, Realizer, cached_spectrum
 
 __all__ = ["KernelPart", "TwoRates", "two_rates", "alias_bound"]
 
@@ -71,7 +71,7 @@ class KernelPart:
     def spectrum(self, n_fft: int, dtype=np.float64) -> np.ndarray:
         """Response on the rfft grid of ``n_fft`` points (t = 0 first), cached."""
         return cached_spectrum(self._spectra, n_fft, dtype,
-                               lambda n: _kernel_spectrum(self.taps, self.offset, n, causal=False))
+                               lambda n: kernel_spectrum(self.taps, self.offset, n, causal=False))
 
 
 @dataclass(frozen=True, eq=False)
@@ -120,10 +120,10 @@ class TwoRates:
         taps = -(-smoothing.size // m)  # the smoothing in m phases of `taps` samples each
         phases = np.zeros(taps * m)
         phases[: smoothing.size] = smoothing
-        phases = phases.reshape(taps, m)
+        weights = phases.reshape(taps, m)
         slow = np.zeros((q.taps.size + taps - 1, m))
         for lag in range(taps):  # the kernel at the reduced rate, every phase at once
-            slow[lag : lag + q.taps.size] += np.outer(q.taps, phases[lag])
+            slow[lag : lag + q.taps.size] += np.outer(q.taps, weights[lag])
         slow = slow.ravel()[: m * (q.taps.size - 1) + smoothing.size]
         centre = m * q.offset + 2 * (m - 1)
         half = max(centre, slow.size - 1 - centre, self.fast.support)
@@ -222,7 +222,7 @@ def two_rates(curve, sfreq: float, tolerance: float) -> TwoRates | None:
         return np.power(curve(f), _blend_weight(f, low_end))
 
     try:
-        fast = KernelPart(*_Realizer(fast_curve, sfreq, False, _FAST_SHARE * tolerance).shortest(),
+        fast = KernelPart(*Realizer(fast_curve, sfreq, False, _FAST_SHARE * tolerance).shortest(),
                           sfreq)
         for per_split in _RATES_PER_SPLIT:  # a higher reduced rate folds less onto the slow band
             factor = int(sfreq // (per_split * split))
@@ -248,7 +248,7 @@ def _slow_part(curve, low_end, factor, sfreq, tolerance) -> KernelPart:
         return removed / _triangle_gain(f, factor, sfreq) ** 2
 
     low = sfreq / factor
-    return KernelPart(*_Realizer(slow_curve, low, False, _SLOW_SHARE * tolerance).shortest(), low)
+    return KernelPart(*Realizer(slow_curve, low, False, _SLOW_SHARE * tolerance).shortest(), low)
 
 
 def _blend_weight(freqs, low_end: float) -> np.ndarray:

@@ -24,7 +24,7 @@ _MAX_KERNEL_SECONDS = 600.0  # longer ones are refused: no EEG record could use 
 
 
 # -- kernel realization -------------------------------------------------------
-def _requested_taps(seconds: float, sfreq: float) -> int:
+def requested_taps(seconds: float, sfreq: float) -> int:
     """Kernel samples for a length in seconds, within what the design grid holds."""
     if seconds > _MAX_KERNEL_SECONDS:
         raise ValueError(
@@ -41,22 +41,22 @@ def _requested_taps(seconds: float, sfreq: float) -> int:
     return n_taps
 
 
-class _Realizer:
+class Realizer:
     """Ideal response on a dense grid (at least ``min_n`` points), and truncations of it."""
 
     def __init__(self, curve, sfreq, causal, tolerance, min_n=0):
         self.sfreq, self.causal, self.tol = sfreq, causal, tolerance
         n = max(_MIN_DENSE, 1 << int(np.ceil(np.log2(max(min_n, 1)))))
         while True:  # grid fine enough for the zero-phase response to decay
-            gain = _validated_gain(curve, sfft.rfftfreq(n, 1.0 / sfreq))
+            gain = validated_gain(curve, sfft.rfftfreq(n, 1.0 / sfreq))
             ideal = sfft.irfft(gain, n)
             if np.abs(ideal[n // 4 : 3 * n // 4]).sum() < tolerance / 4 or n >= _MAX_DENSE:
                 break
             n *= 2
         if causal:  # room for the longer causal response
             n = min(2 * n, _MAX_DENSE)
-            gain = _validated_gain(curve, sfft.rfftfreq(n, 1.0 / sfreq))
-            ideal = sfft.irfft(_minimum_phase_spectrum(curve, gain, n, sfreq, tolerance), n)
+            gain = validated_gain(curve, sfft.rfftfreq(n, 1.0 / sfreq))
+            ideal = sfft.irfft(minimum_phase_spectrum(curve, gain, n, sfreq, tolerance), n)
         self.n, self.gain, self.ideal = n, gain, ideal
 
     def of_length(self, n_taps: int):
@@ -77,11 +77,11 @@ class _Realizer:
         n = self.n
         while n // 2 >= max(4 * kernel.size, _MIN_DENSE):
             n //= 2
-        spec = _kernel_spectrum(kernel, offset, n, self.causal)
+        spec = kernel_spectrum(kernel, offset, n, self.causal)
         gain = self.gain[:: self.n // n]
         return float(np.max(np.abs(np.abs(spec) - gain) if self.causal else np.abs(spec - gain)))
 
-    def shortest(self):
+    def shortest(self) -> tuple[np.ndarray, int]:
         """The shortest tapered truncation within tolerance, to 1 % in length.
 
         The search starts from the length at which the untapered tail's L1
@@ -173,7 +173,7 @@ def _taper(n: int) -> np.ndarray:
     return tukey(n, alpha=2 * _TAPER_FRACTION, sym=True) if n > 2 else np.ones(n)
 
 
-def _validated_gain(curve: GainCurve, freqs: np.ndarray, chunk: int = 2**16) -> np.ndarray:
+def validated_gain(curve: GainCurve, freqs: np.ndarray, chunk: int = 2**16) -> np.ndarray:
     """The curve at ``freqs``, evaluated in chunks (bounded temporaries), checked."""
     gain = np.empty(freqs.shape)
     flat_f, flat_g = freqs.reshape(-1), gain.reshape(-1)
@@ -188,7 +188,7 @@ def _validated_gain(curve: GainCurve, freqs: np.ndarray, chunk: int = 2**16) -> 
     return gain
 
 
-def _minimum_phase_spectrum(curve, gain, n: int, sfreq: float, tolerance: float) -> np.ndarray:
+def minimum_phase_spectrum(curve, gain, n: int, sfreq: float, tolerance: float) -> np.ndarray:
     """Minimum-phase response with magnitude ``gain``, the curve on the rfft
     grid of n points.
 
@@ -207,8 +207,8 @@ def _minimum_phase_spectrum(curve, gain, n: int, sfreq: float, tolerance: float)
     if deep.size:
         offsets = (np.arange(16) + 0.5) / 16 - 0.5
         sub = freqs[deep, None] + offsets[None, :] * (sfreq / n)
-        log_mag[deep] = np.log(np.maximum(_validated_gain(curve, sub), floor)).mean(axis=1)
-    return _cepstral_minimum_phase(np.exp(log_mag), n, floor)
+        log_mag[deep] = np.log(np.maximum(validated_gain(curve, sub), floor)).mean(axis=1)
+    return cepstral_minimum_phase(np.exp(log_mag), n, floor)
 
 
 def _near_deep_minima(gain, tolerance, reach=2) -> np.ndarray:
@@ -226,11 +226,11 @@ def _near_deep_minima(gain, tolerance, reach=2) -> np.ndarray:
     return np.unique(near[(near >= 0) & (near < gain.size)])
 
 
-def _cepstral_minimum_phase(magnitude, n: int, floor: float = 1e-12) -> np.ndarray:
+def cepstral_minimum_phase(magnitude, n: int, floor: float = 1e-12) -> np.ndarray:
     """Minimum-phase response with ``magnitude`` on the rfft grid of ``n``
     points (real cepstrum folded onto positive quefrencies).
 
-    >>> spec = _cepstral_minimum_phase(np.ones(5), 8)
+    >>> spec = cepstral_minimum_phase(np.ones(5), 8)
     >>> bool(np.allclose(spec, 1.0))
     True
     """
@@ -256,7 +256,7 @@ def cached_spectrum(cache: dict, n_fft: int, dtype, compute) -> np.ndarray:
     return cache[key]
 
 
-def _kernel_spectrum(kernel, offset, n_fft, causal) -> np.ndarray:
+def kernel_spectrum(kernel, offset, n_fft, causal) -> np.ndarray:
     """Response of ``kernel`` (t = 0 at ``offset``) on an rfft grid of n_fft."""
     buf = np.zeros(n_fft)
     buf[: kernel.size - offset] = kernel[offset:]  # t >= 0 at the start,
@@ -292,20 +292,20 @@ class KernelResponse:
             n = sfft.next_fast_len(n + 1, real=True)
         self.taps, self.offset, self.sfreq, self.causal, self.n = kernel, offset, sfreq, causal, n
         self.freqs = sfft.rfftfreq(n, 1.0 / sfreq)
-        self._centred = _kernel_spectrum(kernel, kernel.size // 2, n, causal)
+        self._centred = kernel_spectrum(kernel, kernel.size // 2, n, causal)
         self.gain = np.abs(self._centred) if causal else self._centred
         self._requested = (None, None)
 
     def requested(self, curve) -> np.ndarray:
         """``curve`` on the grid, checked; kept for the next call with the same curve."""
         if self._requested[0] is not curve:
-            self._requested = (curve, _validated_gain(curve, self.freqs))
+            self._requested = (curve, validated_gain(curve, self.freqs))
         return self._requested[1]
 
     def group_delay(self) -> np.ndarray:
         """Group delay (s) on the grid: Re(DTFT(t h) / DTFT(h)) for t from the kernel's origin."""
         centre = self.taps.size // 2
-        moments = _kernel_spectrum((np.arange(self.taps.size) - centre) * self.taps,
+        moments = kernel_spectrum((np.arange(self.taps.size) - centre) * self.taps,
                                    centre, self.n, causal=True)
         with np.errstate(divide="ignore", invalid="ignore"):
             centred_delay = np.real(moments / self._centred)

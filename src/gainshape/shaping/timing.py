@@ -8,7 +8,7 @@ import numpy as np
 import scipy.fft as sfft
 from scipy.signal import fftconvolve
 
-from .realize import _cepstral_minimum_phase
+from .realize import cepstral_minimum_phase
 from .stopbands import widened
 
 
@@ -110,7 +110,7 @@ def edge_timing(response, on_grid, gain_at, exact, edges, removed) -> tuple:
             freqs, values = response.freqs[::thin], on_grid[::thin]
         part = _edge_part(freqs, values, name, split, removed)
         if causal:
-            impulse = sfft.irfft(_cepstral_minimum_phase(np.abs(part), n), n)[: n // 2]
+            impulse = sfft.irfft(cepstral_minimum_phase(np.abs(part), n), n)[: n // 2]
             times = np.arange(n // 2) / rate
         else:
             impulse = np.roll(sfft.irfft(part, n), n // 2)
@@ -125,8 +125,8 @@ def _edge_part(freqs, values, name, split, removed) -> np.ndarray:
     part = np.array(values, dtype=float)
     for band in removed:  # with a width either side: a notch's skirts ring too
         lo, hi = widened(*band)
-        i, j = np.searchsorted(freqs, lo) - 1, np.searchsorted(freqs, hi) + 1
-        i, j = max(i, 0), min(j, freqs.size - 1)
+        i = max(int(np.searchsorted(freqs, lo)) - 1, 0)
+        j = min(int(np.searchsorted(freqs, hi)) + 1, freqs.size - 1)
         if j > i:
             part[i : j + 1] = np.linspace(part[i], part[j], j - i + 1)
     if split is None:

@@ -181,8 +181,17 @@ def phase_words(causal: bool, group_delay: float) -> str:
     'minimum-phase (causal kernel, delay 12.3 ms)'
     """
     if not causal:
-        return "zero-phase (symmetric kernel, no delay)"
-    return f"minimum-phase (causal kernel, delay {1000 * group_delay:.3g} ms)"
+        return f"{phase_label(False)} (symmetric kernel, no delay)"
+    return f"{phase_label(True)} (causal kernel, delay {1000 * group_delay:.3g} ms)"
+
+
+def phase_label(causal: bool) -> str:
+    """The short label of a phase response, for tables and one-line descriptions.
+
+    >>> phase_label(False), phase_label(True)
+    ('zero-phase', 'minimum-phase')
+    """
+    return "minimum-phase" if causal else "zero-phase"
 
 
 def round_sig(value, digits):
@@ -213,3 +222,14 @@ def round_sig_toward(value, digits, rounding):
     (236.0, 0.004116)
     """
     return float(hz_words(value, digits, rounding))
+
+
+def two_rates_sentence(r: dict) -> str:
+    """How a kernel ran in two rates, as a methods sentence (:func:`rate_words` is the
+    table's short form; both read :meth:`TwoRates.to_dict`)."""
+    return (f"It ran in two parts whose sum is that kernel: frequencies below "
+            f"{r['split_hz']:.3g} Hz were filtered at a reduced rate of "
+            f"{r['reduced_rate_hz']:.4g} Hz (decimation by {r['factor']} after a triangular "
+            "anti-aliasing filter, linear interpolation back) and subtracted from the output of "
+            f"a {r['full_rate_kernel_samples']}-sample kernel at the full rate; the rate change "
+            f"leaked at most {r['aliasing_bound']:.2g} of any frequency into others.")

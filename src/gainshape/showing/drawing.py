@@ -29,6 +29,7 @@ import traitlets
 
 from .._checks import check_bool, check_positive, check_tolerance, DEFAULT_TOLERANCE
 from .._spectra import welch_density
+from .._types import Recording
 from ..filtering.engine import filter_array, SegmentWords
 from ..filtering.recipes import write_recipe
 from ..filtering.signals import as_arrays
@@ -46,8 +47,9 @@ __all__ = ["GainEditor", "draw"]
 FALLBACK_S = 30.0  # kernel length (s) shown for a curve no kernel follows within tolerance
 
 
-def draw(curve=None, sfreq=None, data=None, *, channel=None, causal=False,
-         tolerance=DEFAULT_TOLERANCE):
+def draw(curve: GainCurve | None = None, sfreq: float | None = None,
+         data: Recording | np.ndarray | None = None, *, channel: str | int | None = None,
+         causal: bool = False, tolerance: float = DEFAULT_TOLERANCE) -> GainEditor:
     """An editor in which a gain curve is drawn by hand and the realized filter follows.
 
     Parameters
@@ -154,7 +156,7 @@ class GainEditor(anywidget.AnyWidget):
     _esm = Path(__file__).with_name("_editor.js")
     _css = Path(__file__).with_name("_editor.css")
 
-    points = traitlets.List().tag(sync=True)
+    points: traitlets.List = traitlets.List().tag(sync=True)
     selected = traitlets.Int(0).tag(sync=True)
     scale = traitlets.Enum(["gain", "dB"], "gain").tag(sync=True)
     message = traitlets.Unicode("").tag(sync=True)
@@ -163,7 +165,7 @@ class GainEditor(anywidget.AnyWidget):
     code = traitlets.Unicode("").tag(sync=True)
     recipe_path = traitlets.Unicode("filter_recipe.json").tag(sync=True)
     channel = traitlets.Unicode("").tag(sync=True)
-    channels = traitlets.List().tag(sync=True)
+    channels: traitlets.List = traitlets.List().tag(sync=True)
     shapes = traitlets.List(list(SHAPES)).tag(sync=True)
     settings = traitlets.Dict().tag(sync=True)
 
@@ -176,7 +178,7 @@ class GainEditor(anywidget.AnyWidget):
                          "causal": causal, "tolerance": tolerance}
         if self._preview is not None:
             self.channels, self.channel = self._preview.names, self._preview.channel
-        self._design = None
+        self._design: FilterDesign | None = None
         self._zoom = None  # (fmax, fmin) of a zoomed view, None for the whole range
         self.on_msg(self._on_page_message)
         self._show(starting_points(start, self.fmax), "")
@@ -196,6 +198,7 @@ class GainEditor(anywidget.AnyWidget):
     @property
     def design(self) -> FilterDesign:
         """The realized filter of :attr:`curve` at the editor's rate."""
+        assert self._design is not None  # made in __init__
         return self._design
 
     def print_code(self) -> None:

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 import numpy as np
 
 from ..shaping.curves import GainCurve
@@ -149,9 +151,11 @@ def _checked_point(freq, gain, fmax) -> tuple[float, float, str]:
         raise Refused(f"A point needs finite numbers; {freq!r} Hz and gain {gain!r} were given.")
     said = []
     if gain < 0:
-        gain, _ = 0.0, said.append("A gain cannot be negative: kept at 0.")
+        gain = 0.0
+        said.append("A gain cannot be negative: kept at 0.")
     elif gain > 1:
-        gain, _ = 1.0, said.append("The editor draws gains up to 1 (it does not amplify): kept at 1.")
+        gain = 1.0
+        said.append("The editor draws gains up to 1 (it does not amplify): kept at 1.")
     if freq >= fmax:
         said.append(f"Frequencies stay below Nyquist: kept at {fmax:g} Hz.")
         freq = fmax
@@ -178,7 +182,7 @@ def rounded_freq(freq: float, down: bool | None = None) -> float:
     (0.1235, 124.9, 0.1001)
     """
     scale = 10.0 ** (np.floor(np.log10(freq)) - 3)
-    rounder = {None: np.round, True: np.floor, False: np.ceil}[down]
+    rounder: Callable = np.round if down is None else np.floor if down else np.ceil
     return float(round(float(rounder(freq / scale) * scale), 12))
 
 

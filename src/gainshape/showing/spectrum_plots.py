@@ -3,10 +3,17 @@
 from __future__ import annotations
 
 from pathlib import PurePath
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from .look import check_result, MAP_LIMIT_DB, power_db, title_of, to_db, unlabelled_minor_ticks
+
+if TYPE_CHECKING:  # for annotations only: imported when something is drawn
+    import xarray as xr
+    from matplotlib.figure import Figure
+
+    from ..shaping.filter_design import FilterDesign
 
 
 def plot_spectrum_pair(freqs, before, after, *, show=True):
@@ -35,7 +42,7 @@ def plot_spectrum_pair(freqs, before, after, *, show=True):
     return fig
 
 
-def plot_band_change(ds, *, show=True):
+def plot_band_change(ds: xr.Dataset, *, show: bool = True) -> Figure:
     """Channel x band map of ``change_db`` (diverging, centred on 0) and a per-band summary.
 
     Epochs are averaged (in power) before mapping. The right panel shows the
@@ -129,7 +136,8 @@ def _change_map(ds, change, rows, row_name, show):
     return fig
 
 
-def plot_observed_gain(da, design=None, *, show=True):
+def plot_observed_gain(da: xr.DataArray, design: FilterDesign | None = None, *,
+                       show: bool = True) -> Figure:
     """Observed gain per channel, its median and the realized gain, linear and in dB.
 
     Channels are drawn thin, their median thick, the realized gain dashed;
@@ -202,7 +210,7 @@ def _over_channels(values, statistic=np.nanmedian) -> np.ndarray:
     return out
 
 
-def plot_lines(found, *, show=True):
+def plot_lines(found: xr.Dataset, *, show: bool = True) -> Figure:
     """The spectrum, its background and the lines :func:`gainshape.find_lines` found.
 
     Top: the median spectrum over channels (a line) within the spread of

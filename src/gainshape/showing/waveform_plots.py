@@ -2,9 +2,15 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 
 from .look import check_result, LABEL_PCT, title_of
+
+if TYPE_CHECKING:  # for annotations only: imported when something is drawn
+    import xarray as xr
+    from matplotlib.figure import Figure
 
 
 def plot_erp_pair(times, before, after, *, label="amplitude", show=True):
@@ -34,7 +40,8 @@ def plot_erp_pair(times, before, after, *, label="amplitude", show=True):
     return fig
 
 
-def plot_audit(ds, *, tmin=-0.5, tmax=2.0, show=True):
+def plot_audit(ds: xr.Dataset, *, tmin: float = -0.5, tmax: float = 2.0,
+               show: bool = True) -> Figure:
     """Original and filtered waveforms, one panel each, with distortions marked.
 
     Triangles mark each component's peak before (grey) and after (blue).

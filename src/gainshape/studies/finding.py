@@ -78,7 +78,7 @@ def _base_name(source: Path) -> str:
 
 
 def check_distinct(sources, outputs) -> None:
-    seen = {}
+    seen: dict = {}
     for source, output in zip(sources, outputs):
         if output in seen and seen[output] != source:
             raise ValueError(f"The inputs {seen[output]} and {source} would both be written to "

@@ -38,7 +38,7 @@ def study_methods(table, texts, out_dir: Path) -> str:
                + (f"; {len(failed)} could not be filtered ({', '.join(failed)})." if failed else "."))
     paragraphs = []
     for form in (0, 1):
-        by_text = {}
+        by_text: dict = {}
         for source, text in zip(table["source"], texts):
             if text is not None:
                 by_text.setdefault(text[form], []).append(Path(source).name)

@@ -17,9 +17,11 @@ import json
 import time
 import warnings
 from pathlib import Path
+from typing import Any, TYPE_CHECKING
 
 from .._checks import check_bool, check_positive, warn
 from .._files import atomic_output
+from .._types import PathLike, Verbosity
 from .finding import (
     check_distinct, ENTITIES, PARTS, recipe_content_of, require_modules, study_recordings,
     write_dataset_description,
@@ -29,16 +31,21 @@ from .stamps import sidecar_record, state, STATE_NAME, unchanged_study, verdict
 from .task import MB, remove_stale_staging
 from .workers import connected, gathered, one_run_at_a_time
 
+if TYPE_CHECKING:  # for annotations only
+    import pandas as pd
+
 __all__ = ["run_study"]
 
 COLUMNS = ["source", "subject", "session", "task", "status", "seconds", "worker_peak_mb",
            "output", "error", "warnings"]
 
 
-def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=None, tasks=None,
+def run_study(recipe: PathLike | dict, inputs: PathLike | list[PathLike], out_dir: PathLike,
+              client: Any = None, *, subjects: list[str] | None = None,
+              sessions: list[str] | None = None, tasks: list[str] | None = None,
               overwrite: bool = False, in_memory_mb: float = 1024.0, band_change: bool = True,
               raise_errors: bool = False, workers: int | None = None, allow_short: bool = False,
-              verbose=None, summary: bool | None = None):
+              verbose: Verbosity = None, summary: bool | None = None) -> pd.DataFrame:
     """Filter every recording of a study with one recipe, on a Dask cluster.
 
     Parameters
@@ -159,7 +166,7 @@ def run_study(recipe, inputs, out_dir, client=None, *, subjects=None, sessions=N
         band_change = summary
     content = recipe_content_of(recipe)
     overwrite = check_bool("overwrite", overwrite)
-    limits = {"in_memory_bytes": check_positive("in_memory_mb", in_memory_mb) * MB,
+    limits: dict = {"in_memory_bytes": check_positive("in_memory_mb", in_memory_mb) * MB,
               "band_change": check_bool("band_change", band_change),
               "allow_short": check_bool("allow_short", allow_short)}
     raise_errors = check_bool("raise_errors", raise_errors)
@@ -200,7 +207,7 @@ def _run_locked(content, found, outputs, out_dir, cluster: dict, overwrite, limi
         remove_stale_staging(output)
     sources = [source for source, _, _ in found]
     previous = None if overwrite or not limits["band_change"] else _previous_summary(out_dir)
-    results = [None if overwrite else _kept_result(s, o, content, previous, limits)
+    results: list = [None if overwrite else _kept_result(s, o, content, previous, limits)
                for s, o in zip(sources, outputs)]
     todo = [i for i, r in enumerate(results) if r is None]
     if todo:

@@ -37,7 +37,7 @@ def one_run_at_a_time(out_dir: Path):
     import socket
 
     lock = out_dir / _LOCK_NAME
-    me = {"pid": os.getpid(), "host": socket.gethostname(), "since": time.strftime("%Y-%m-%d %H:%M:%S")}
+    me: dict = {"pid": os.getpid(), "host": socket.gethostname(), "since": time.strftime("%Y-%m-%d %H:%M:%S")}
     for _ in range(2):
         try:
             with open(lock, "x", encoding="utf-8") as stream:
@@ -129,7 +129,7 @@ def gathered(connection, sources, task_arguments, show: bool) -> list:
     pending = {future.key: (i, future) for i, future in enumerate(connection.map(
         filter_recording, sources, [content] * count, outputs, [overwrite] * count,
         [limits] * count, pure=False))}
-    rows = [None] * count
+    rows: list = [None] * count
     try:
         with tqdm(total=count, unit="recording", disable=not show) as bar:
             for future in distributed.as_completed([f for _, f in pending.values()]):
