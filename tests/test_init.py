@@ -145,21 +145,26 @@ def test_public_names_come_from_the_homes_the_package_lists():
 # come back (our own words rule; the list is from the project's review).
 BORROWED_PARAMETERS = {"phase", "filter_length", "l_freq", "h_freq", "trans_bandwidth",
                        "l_trans_bandwidth", "h_trans_bandwidth", "fir_window", "fir_design",
-                       "iir_params"}
+                       "iir_params", "method", "notch_widths", "skip_by_annotation",
+                       "mt_bandwidth"}
 BORROWED_STRINGS = ("zero-double", "Invalid value for the", "Allowed values are",
                     "firwin", "length='auto'", 'length="auto"', "but got",
                     "must be an instance of")
 
 
 def _public_callables():
+    """Every public function, class, method and classmethod, the editor's included."""
     import inspect
 
-    for name in gs.__all__:
-        obj = getattr(gs, name)
+    from gainshape.showing.drawing import GainEditor
+
+    owners = [(name, getattr(gs, name)) for name in gs.__all__] + [("GainEditor", GainEditor)]
+    for name, obj in owners:
         yield name, obj
         if inspect.isclass(obj):
             for attr, member in vars(obj).items():
-                if callable(member) and not attr.startswith("_"):
+                member = getattr(member, "__func__", member)  # classmethods: the function
+                if callable(member) and not attr.startswith("_") and not inspect.isclass(member):
                     yield f"{name}.{attr}", member
 
 
@@ -175,6 +180,55 @@ def test_public_signatures_use_no_borrowed_parameter_names():
         checked += 1
         assert not params & BORROWED_PARAMETERS, (name, params & BORROWED_PARAMETERS)
     assert checked >= len(gs.__all__)  # the scan saw every public function and class
+
+
+def test_command_line_flags_page_labels_and_record_keys_borrow_no_name(tmp_path):
+    # the command line's flags, the editor page's strings, a recipe's and a step's keys
+    import argparse
+    import json
+    import re
+    from pathlib import Path
+
+    import numpy as np
+
+    from gainshape import cli
+
+    def flags(parser):
+        for action in parser._actions:  # argparse keeps no public list of its options
+            yield from (option.lstrip("-").replace("-", "_") for option in action.option_strings)
+            yield action.dest
+            if isinstance(action, argparse._SubParsersAction):
+                for sub in action.choices.values():
+                    yield from flags(sub)
+
+    names = set(flags(cli._parser()))
+    assert {"out", "scheduler", "allow_short", "sfreq", "full"} <= names  # the scan saw them
+    assert not names & BORROWED_PARAMETERS, names & BORROWED_PARAMETERS
+
+    script = (Path(gs.__file__).parent / "showing" / "_editor.js").read_text()
+    texts = re.findall(r'"((?:[^"\\\n]|\\.)*)"|\'((?:[^\'\\\n]|\\.)*)\'|`([^`]*)`', script)
+    texts = [next(filter(None, groups), "") for groups in texts]
+    assert len(texts) > 50
+    words = {word for text in texts for word in re.findall(r"[A-Za-z_]+", text)}
+    assert not words & BORROWED_PARAMETERS, words & BORROWED_PARAMETERS
+    for text in texts:
+        assert not any(b in text for b in BORROWED_STRINGS), text[:80]
+
+    def keys(value):
+        if isinstance(value, dict):
+            for key, inner in value.items():
+                yield key
+                yield from keys(inner)
+        elif isinstance(value, list):
+            for inner in value:
+                yield from keys(inner)
+
+    recipe = json.loads(gs.write_recipe(tmp_path / "r.json", gs.bandpass(0.1, 40.0)).read_text())
+    _, step = gs.apply(np.zeros((1, 5000)), gs.bandpass(0.1, 40.0) * gs.notch(50.0),
+                       sfreq=250.0, return_step=True)
+    recorded = set(keys(recipe)) | set(keys(step))
+    assert {"kernel", "pad", "realized", "stop_bands"} <= recorded  # the scan saw them
+    assert not recorded & BORROWED_PARAMETERS, recorded & BORROWED_PARAMETERS
 
 
 def test_source_strings_hold_no_borrowed_option_or_message():

@@ -29,10 +29,10 @@ import traitlets
 
 from .._checks import check_bool, check_positive, check_tolerance, DEFAULT_TOLERANCE
 from .._spectra import welch_density
-from .._types import Recording
+from .._types import PathLike, Recording
 from ..filtering.engine import filter_array, SegmentWords
 from ..filtering.recipes import write_recipe
-from ..filtering.signals import as_arrays
+from ..filtering.signals import Signals, as_arrays
 from ..shaping.curves import GainCurve
 from ..shaping.design import design
 from ..shaping.filter_design import FilterDesign
@@ -169,8 +169,9 @@ class GainEditor(anywidget.AnyWidget):
     shapes = traitlets.List(list(SHAPES)).tag(sync=True)
     settings = traitlets.Dict().tag(sync=True)
 
-    def __init__(self, start: GainCurve, sfreq: float, signals=None, *, channel=None,
-                 causal=False, tolerance=DEFAULT_TOLERANCE):
+    def __init__(self, start: GainCurve, sfreq: float, signals: Signals | None = None, *,
+                 channel: str | int | None = None, causal: bool = False,
+                 tolerance: float = DEFAULT_TOLERANCE) -> None:
         super().__init__()
         self._sfreq, self._causal, self._tolerance = float(sfreq), causal, tolerance
         self._preview = None if signals is None else _Preview(signals, channel)
@@ -205,7 +206,7 @@ class GainEditor(anywidget.AnyWidget):
         """Print a line of Python that rebuilds :attr:`curve`."""
         print(self.code)
 
-    def save_recipe(self, path=None) -> Path:
+    def save_recipe(self, path: PathLike | None = None) -> Path:
         """Write the curve and the editor's options as a recipe file
         (:func:`gainshape.write_recipe`), whole or not at all."""
         target = Path(path if path is not None else self.recipe_path)
@@ -305,11 +306,12 @@ class GainEditor(anywidget.AnyWidget):
         """The shortest kernel within tolerance; for a curve no kernel can
         follow (a drawn jump or kink), a kernel of ``FALLBACK_S`` seconds,
         with the reason (its own warning then says how far it misses)."""
-        options = {"causal": self._causal, "tolerance": self._tolerance}
+        causal, tolerance = self._causal, self._tolerance
         try:
-            return design(curve, self._sfreq, **options), ""
+            return design(curve, self._sfreq, causal=causal, tolerance=tolerance), ""
         except ValueError as err:
-            return (design(curve, self._sfreq, kernel=FALLBACK_S, **options),
+            return (design(curve, self._sfreq, kernel=FALLBACK_S, causal=causal,
+                           tolerance=tolerance),
                     f"{err} Shown with a {FALLBACK_S:g} s kernel instead.")
 
     def _acknowledge(self, request):
