@@ -86,3 +86,13 @@ def test_the_schema_refuses_a_damaged_step(damage):
         del step["channels"]
     with pytest.raises(jsonschema.ValidationError):
         VALIDATOR.validate(step)
+
+
+def test_the_typed_step_and_the_schema_name_the_same_keys():
+    # one format written down twice (a TypedDict for the code, a JSON Schema for readers)
+    from typing import get_type_hints
+
+    assert set(get_type_hints(provenance.Step)) == set(SCHEMA["properties"])
+    assert set(SCHEMA["required"]) <= set(get_type_hints(provenance.Step))
+    design_schema = SCHEMA["properties"]["design"]
+    assert set(get_type_hints(provenance.StepDesign)) == set(design_schema["properties"])

@@ -14,6 +14,7 @@ import html
 import json
 import platform
 import uuid
+from typing import TypedDict
 
 import datetime as _dt
 import numpy as np
@@ -22,6 +23,7 @@ import xxhash
 from .._checks import warn
 from .._types import Recording
 from ..shaping.curves import GainCurve
+from ..shaping.filter_design import FilterDesign
 from ..shaping.measure import passband_edges, removed_bands
 from ..shaping.words import hz_range, phase_label, phase_words
 
@@ -84,8 +86,39 @@ def same_rate(a: float, b: float) -> bool:
     return abs(a - b) <= RATE_PPM * 1e-6 * abs(b)
 
 
-def make_step(design, *, channels, pad, nan, segments, dtype, before, after,
-              data_sfreq=None, also=None) -> dict:
+class StepDesign(TypedDict):
+    """A step's ``design`` part: what was asked of :func:`gainshape.design` and its kernel."""
+
+    sfreq: float
+    causal: bool
+    kernel: str | float
+    tolerance: float
+    kernel_samples: int
+    two_rates: dict | None
+    notes: list[str]
+
+
+class Step(TypedDict):
+    """One step record, as :func:`make_step` builds it and ``step.schema.json`` writes it down
+    (``tests/test_step_schema.py`` holds the two to the same keys)."""
+
+    format: str
+    format_version: int
+    id: str
+    time: str
+    software: dict[str, str]
+    curve: dict
+    design: StepDesign
+    realized: dict
+    application: dict
+    channels: list[str]
+    fingerprint_before: str
+    fingerprint_after: str
+
+
+def make_step(design: FilterDesign, *, channels: list[str], pad: str, nan: str,
+              segments: list | None, dtype: str, before: str, after: str,
+              data_sfreq: float | None = None, also: dict | None = None) -> Step:
     """The record of one application (see :func:`gainshape.apply`), the one
     place a step is built; its format is ``step.schema.json`` (shipped with
     the package, version :data:`STEP_FORMAT_VERSION`).
@@ -117,14 +150,14 @@ def make_step(design, *, channels, pad, nan, segments, dtype, before, after,
     except ValueError:
         curve_record = {"reproducible": False, "description": curve.describe(),
                         "reason": "built from a callable"}
-    return {
+    return Step({
         "format": _STEP_FORMAT,
         "format_version": STEP_FORMAT_VERSION,
         "id": uuid.uuid4().hex,
         "time": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
         "software": software_versions(),
         "curve": curve_record,
-        "design": {
+        "design": StepDesign({
             "sfreq": design.sfreq,
             "causal": design.causal,
             "kernel": design.kernel_request,
@@ -132,14 +165,14 @@ def make_step(design, *, channels, pad, nan, segments, dtype, before, after,
             "kernel_samples": int(design.taps.size),
             "two_rates": design.rates.to_dict() if design.rates else None,
             "notes": list(design.notes),
-        },
+        }),
         "realized": design.characteristics.to_dict(),
         "application": {"pad": pad, "nan": nan, "segments": segments, "dtype": dtype,
                         **_rate_shift(design, data_sfreq), **(also or {})},
         "channels": list(channels),
         "fingerprint_before": before,
         "fingerprint_after": after,
-    }
+    })
 
 
 def _rate_shift(design, data_sfreq) -> dict:

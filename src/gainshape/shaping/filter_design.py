@@ -12,6 +12,7 @@ import scipy.fft as sfft
 from numpy.typing import ArrayLike, DTypeLike
 
 from .._showing import plotting_function
+from .._types import KernelRequest
 from .curves import GainCurve
 from .measure import Characteristics, passband_edges, removed_bands
 from .rates import TwoRates
@@ -75,7 +76,7 @@ class FilterDesign:  # numpydoc ignore=PR01
     curve: GainCurve
     sfreq: float
     causal: bool
-    kernel_request: object
+    kernel_request: KernelRequest
     tolerance: float
     taps: np.ndarray
     offset: int
