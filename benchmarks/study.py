@@ -8,7 +8,9 @@ files in single precision, as MNE writes them by default) and the recipe
   ``save``;
 - the same loop split over one forked process per core: what the cores
   give with no scheduler and no summary or report, the ceiling for the study;
-- the same loop that also computes ``gs.band_change`` (the study does);
+- the same loop that also computes ``gs.band_change`` (the study does), alone
+  and split over one process per core: the ceiling for the study with its
+  band change and report (``gs.run_study`` should reach 0.9 of it);
 - ``gs.run_study`` with no client: a local cluster of one single-threaded
   worker process per core, started and closed by the call, writing the
   derivatives, the study summary, the methods paragraph and the report.
@@ -78,17 +80,22 @@ def plain_loop(paths, recipe: dict, out: Path, with_band_change: bool) -> float:
     return time.perf_counter() - start
 
 
-def split_loop(paths, recipe: dict, out: Path, with_band_change: bool) -> float:
+def split_loop(paths, recipe: dict, out: Path, with_band_change: bool, warm: bool = True) -> float:
     """The plain loop split over one forked process per core (every other
-    recording each): what two cores give with no scheduler, no report and no
-    summary, the ceiling a study's speed-up is measured against."""
+    recording each): what the cores give with no scheduler, no report and no
+    summary, the ceiling a study's speed-up is measured against. ``warm``: the
+    pool's processes run a recording each before the timed run, as a kept
+    cluster's workers have; else the pool is started inside the timed run, as
+    ``run_study`` starts its own cluster."""
     import multiprocessing
 
     workers = os.cpu_count() or 1
     shares = [(paths[i::workers], recipe, out, with_band_change) for i in range(workers)]
+    start = time.perf_counter()
     with multiprocessing.get_context("fork").Pool(workers) as pool:
-        pool.starmap(plain_loop, [(ps[:1], *rest) for ps, *rest in shares])  # warm: imports and first designs
-        start = time.perf_counter()
+        if warm:  # imports, first designs, first use of the memory
+            pool.starmap(plain_loop, [(ps[:1], *rest) for ps, *rest in shares])
+            start = time.perf_counter()
         pool.starmap(plain_loop, shares)
         return time.perf_counter() - start
 
@@ -167,6 +174,7 @@ def up_to_date_rerun(folder: Path, minutes: float, repeat: int) -> tuple:
 
 def main() -> None:
     import gainshape as gs
+    from gainshape.studies.workers import connected  # the cluster run_study starts
 
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     parser.add_argument("--recordings", type=int, default=16)
@@ -176,6 +184,8 @@ def main() -> None:
                         default=Path(tempfile.gettempdir()) / "gainshape_study_bench")
     parser.add_argument("--up-to-date-only", action="store_true",
                         help="only the 4-recording re-run with nothing to do")
+    parser.add_argument("--no-memory", action="store_true",
+                        help="skip the worker memory measurements")
     args = parser.parse_args()
     folder = args.folder
     folder.mkdir(parents=True, exist_ok=True)
@@ -204,8 +214,16 @@ def main() -> None:
                for _ in range(args.repeat))
     loop_bc = min(plain_loop(paths, recipe, folder / "loop_bc", with_band_change=True)
                   for _ in range(args.repeat))
+    split_bc = min(split_loop(paths, recipe, folder / "split_bc", with_band_change=True)
+                   for _ in range(args.repeat))
+    fresh_bc = min(split_loop(paths, recipe, folder / "fresh_bc", with_band_change=True,
+                              warm=False) for _ in range(args.repeat))
     wall, table = min((study(paths, recipe_file, folder / "study") for _ in range(args.repeat)),
                       key=lambda run: run[0])
+    with connected(None, os.cpu_count()) as client:  # a cluster kept between calls, as in a notebook
+        study(paths[:2], recipe_file, folder / "kept_warm", client)
+        kept = min(study(paths, recipe_file, folder / "kept", client)[0]
+                   for _ in range(args.repeat))
     assert (table["status"] == "filtered").all(), table["error"].tolist()
     tasks = table["seconds"].sum()
     workers = os.cpu_count()
@@ -215,14 +233,21 @@ def main() -> None:
     print(f"gs.run_study(band_change=False), {workers} workers:            {bare:6.1f} s  "
           f"speed-up {loop / bare:.2f}x")
     print(f"plain loop, read + gs.apply + save + band_change:   {loop_bc:6.1f} s")
-    print(f"gs.run_study (band change, summary, report):        {wall:6.1f} s  "
-          f"speed-up {loop_bc / wall:.2f}x")
+    print(f"  split over {workers} processes started for the run:         {fresh_bc:6.1f} s  "
+          f"speed-up {loop_bc / fresh_bc:.2f}x (ceiling of a study on its own cluster)")
+    print(f"  split over {workers} warm processes (kept pool):            {split_bc:6.1f} s  "
+          f"speed-up {loop_bc / split_bc:.2f}x (ceiling of a study on a kept cluster)")
+    print(f"gs.run_study (band change, summary, report), own cluster:   {wall:6.1f} s  "
+          f"speed-up {loop_bc / wall:.2f}x, {fresh_bc / wall:.2f} of its ceiling")
+    print(f"gs.run_study (band change, summary, report), kept cluster:  {kept:6.1f} s  "
+          f"speed-up {loop_bc / kept:.2f}x, {split_bc / kept:.2f} of its ceiling")
     beyond = wall - tasks / workers
     print(f"study time beyond its tasks' share (cluster start, gathering, summary, report): "
           f"{beyond:.1f} s, {beyond / len(paths):.2f} s per recording")
     print(f"a no-op task's round trip: {1e3 * noop_round_trip(len(paths)):.1f} ms per recording")
 
-    for minutes, limit in ((10.0, 64.0), (60.0, 64.0), (10.0, 1024.0), (60.0, 1024.0)):
+    for minutes, limit in () if args.no_memory else ((10.0, 64.0), (60.0, 64.0), (10.0, 1024.0),
+                                                     (60.0, 1024.0)):
         path = write_recording(folder / "long" / f"rec_{int(minutes)}min_raw.fif", minutes, 99)
         peak = worker_peak_mb(path, recipe_file, folder / "long_out", limit)
         data_mb = CHANNELS * minutes * 60 * SFREQ * 8 / 2**20

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 
 import gainshape as gs
-from gainshape.filtering.blocks import PAD_MODES
+from gainshape._checks import PAD_MODES
 from gainshape.filtering.engine import filter_array
 
 SFREQ = 250.0

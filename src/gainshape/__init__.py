@@ -25,7 +25,7 @@ if typing.TYPE_CHECKING:  # the same names, statically, for type checkers and ed
     from .record.bids import bids_filters, export, write_bids_filters
     from .record.steps import history
     from .record.methods import methods_text
-    from .filtering.recipes import read_recipe, write_recipe
+    from .record.recipes import read_recipe, write_recipe
     from .studies.study import run_study
     from .examining.summaries import band_change, observed_gain
     from .showing.waveform_plots import plot_audit
@@ -37,7 +37,7 @@ _HOMES = {
     "find_lines": "examining.lines", "suggest_notches": "examining.notches",
     "band_change": "examining.summaries", "observed_gain": "examining.summaries",
     "apply": "filtering.adapters", "replay": "filtering.adapters",
-    "read_recipe": "filtering.recipes", "write_recipe": "filtering.recipes",
+    "read_recipe": "record.recipes", "write_recipe": "record.recipes",
     "bids_filters": "record.bids", "export": "record.bids", "write_bids_filters": "record.bids",
     "methods_text": "record.methods", "history": "record.steps", "GainCurve": "shaping.curves",
     "design": "shaping.design", "FilterDesign": "shaping.filter_design",

@@ -92,6 +92,8 @@ def missing_modules(*names: str) -> list:
     return missing
 
 
+LOCAL_PAD_MODES = ("reflect", "symmetric", "edge", "constant")  # numpy.pad modes needing only the ends
+PAD_MODES = (*LOCAL_PAD_MODES, "linear_ramp", "maximum", "mean", "median", "minimum", "wrap")
 DEFAULT_TOLERANCE = 0.001  # largest gain error a design accepts by default (-60 dB of full gain)
 _TOLERANCE_BELOW = 1.0  # a tolerance of the whole gain range would accept any kernel
 

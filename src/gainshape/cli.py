@@ -135,7 +135,7 @@ def _table_text(rows) -> str:
 
 
 def _describe(args) -> int:
-    from .filtering.recipes import read_recipe, recipe_design
+    from .record.recipes import read_recipe, recipe_design
 
     realized = recipe_design(read_recipe(args.recipe), args.sfreq)
     print(realized.curve.describe())

@@ -1,4 +1,5 @@
-"""What made a narrow line in a spectrum: the mains and its harmonics, a multiple of the stimulus rate, or nothing known."""
+"""What made a narrow line in a spectrum: the mains and its harmonics, a multiple of the
+stimulus rate, or nothing known."""
 
 from __future__ import annotations
 

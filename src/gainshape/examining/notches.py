@@ -1,4 +1,5 @@
-"""The notch comb for the lines found in a recording: which lines it removes, which it leaves and why, in words a methods section can keep."""
+"""The notch comb for the lines found in a recording: which lines it removes, which it
+leaves and why, in words a methods section can keep."""
 
 from __future__ import annotations
 

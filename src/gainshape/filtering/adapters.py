@@ -20,7 +20,7 @@ from ..shaping.curves import GainCurve
 from ..shaping.design import check_filter, check_kernel_request, design
 from ..shaping.filter_design import FilterDesign
 from ..shaping.measure import passband_edges
-from .blocks import PAD_MODES
+from .._checks import PAD_MODES
 from .engine import check_finite, check_samples, fft_workers, filter_array, Progress, SegmentWords
 from .outofcore import check_request, filtered_raw
 from .signals import (

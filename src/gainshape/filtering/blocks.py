@@ -10,9 +10,8 @@ import numpy as np
 import scipy.fft as sfft
 
 from .. import _compat
+from .._checks import LOCAL_PAD_MODES
 
-LOCAL_PAD_MODES = ("reflect", "symmetric", "edge", "constant")  # need only the ends
-PAD_MODES = (*LOCAL_PAD_MODES, "linear_ramp", "maximum", "mean", "median", "minimum", "wrap")
 _MIN_BLOCK_BYTES = 8 * 2**20
 _BLOCK_FRACTION = 0.1  # working memory per block, as a fraction of the data
 _GLIBC = platform.libc_ver()[0] == "glibc"  # the heap trick below is glibc's behaviour

@@ -18,7 +18,8 @@ import numpy as np
 
 from .._checks import check_int, check_option, warn
 from ..shaping.rates import KernelPart
-from .blocks import filter_segment, PAD_MODES
+from .._checks import PAD_MODES
+from .blocks import filter_segment
 
 __all__ = ["Progress", "check_finite", "check_samples", "fft_workers", "filter_array"]
 

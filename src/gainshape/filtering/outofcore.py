@@ -13,10 +13,11 @@ from pathlib import Path
 
 import numpy as np
 from .._compat import reader_raw_arguments, reader_raw_class, unlocked
+from .._checks import LOCAL_PAD_MODES
 from .._files import atomic_output
 from ..shaping.filter_design import FilterDesign
 from .blocks import (
-    LOCAL_PAD_MODES, block_plan, filter_span, full_rate_part, pads_and_slow_output,
+    block_plan, filter_span, full_rate_part, pads_and_slow_output,
     spectrum_buffer,
 )
 from .engine import check_finite, fft_workers

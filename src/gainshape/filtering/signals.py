@@ -1,4 +1,6 @@
-"""Data as the arrays filtering works on: the rows of Raw, Epochs, Evoked and arrays, the channels picked, the events, and the spans between discontinuities (boundaries, bad annotations)."""
+"""Data as the arrays filtering works on: the rows of Raw, Epochs, Evoked and arrays, the
+channels picked, the events, and the spans between discontinuities (boundaries, bad
+annotations)."""
 
 from __future__ import annotations
 

@@ -1,4 +1,5 @@
-"""The BIDS entry of a filtered recording (SoftwareFilters), written into its sidecar, and the export of a filtered recording with its record."""
+"""The BIDS entry of a filtered recording (SoftwareFilters), written into its sidecar, and
+the export of a filtered recording with its record."""
 
 from __future__ import annotations
 

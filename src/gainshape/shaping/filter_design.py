@@ -1,4 +1,5 @@
-"""FilterDesign: a gain curve realized as a kernel at one sampling rate, with its measured characteristics, what users hold and apply."""
+"""FilterDesign: a gain curve realized as a kernel at one sampling rate, with its measured
+characteristics, what users hold and apply."""
 
 from __future__ import annotations
 

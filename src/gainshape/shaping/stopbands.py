@@ -1,4 +1,6 @@
-"""Stop bands of a realized gain: the runs below half amplitude and the notches inside them, each with its attenuation held over a stated range, and the peak search between grid points that bounds it."""
+"""Stop bands of a realized gain: the runs below half amplitude and the notches inside
+them, each with its attenuation held over a stated range, and the peak search between
+grid points that bounds it."""
 
 from __future__ import annotations
 

@@ -1,4 +1,5 @@
-"""Each pass-band edge's time behaviour (pre-response, overshoot, undershoot, settling and decay) and the group delay, measured on the kernel's step and impulse responses."""
+"""Each pass-band edge's time behaviour (pre-response, overshoot, undershoot, settling and
+decay) and the group delay, measured on the kernel's step and impulse responses."""
 
 from __future__ import annotations
 

@@ -1,4 +1,5 @@
-"""The figures of a design in words: frequency ranges, attenuation held over a range, time behaviour, the phase label and the two-rate description (one home each)."""
+"""The figures of a design in words: frequency ranges, attenuation held over a range, time
+behaviour, the phase label and the two-rate description (one home each)."""
 
 from __future__ import annotations
 

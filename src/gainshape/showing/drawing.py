@@ -31,7 +31,7 @@ from .._checks import check_bool, check_positive, check_tolerance, DEFAULT_TOLER
 from .._spectra import welch_density
 from .._types import PathLike, Recording
 from ..filtering.engine import filter_array, SegmentWords
-from ..filtering.recipes import write_recipe
+from ..record.recipes import write_recipe
 from ..filtering.signals import Signals, as_arrays
 from ..shaping.curves import GainCurve
 from ..shaping.design import design

@@ -1,4 +1,5 @@
-"""The curve editor's edits, checked in Python: a point moved, added, removed or stepped, a zoom, and the view the page script draws (points, traces and numbers)."""
+"""The curve editor's edits, checked in Python: a point moved, added, removed or stepped, a
+zoom, and the view the page script draws (points, traces and numbers)."""
 
 from __future__ import annotations
 

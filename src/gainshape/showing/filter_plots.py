@@ -1,4 +1,5 @@
-"""Figures of one filter: its gain against the request, the deviation, and its step and impulse responses."""
+"""Figures of one filter: its gain against the request, the deviation, and its step and
+impulse responses."""
 
 from __future__ import annotations
 
@@ -42,7 +43,7 @@ def plot_design(design, *, fmin=None, show=True):
     """
     import matplotlib.pyplot as plt
 
-    check_result(design, "design", ("kernel", "characteristics"), "gs.design(curve, sfreq)")
+    check_result(design, "design", ("taps", "characteristics"), "gs.design(curve, sfreq)")
     freqs = design_frequencies(design, fmin)
     requested = design.requested_gain(freqs)
     realized = design.realized_gain(freqs)

@@ -2,11 +2,13 @@
 
 The figures themselves are in :mod:`.filter_plots`, :mod:`.spectrum_plots` and
 :mod:`.waveform_plots`; matplotlib is imported inside the functions, so that
-importing gainshape never imports it. Layout vocabulary: the *gain panels* show the requested gain as a light
-filled area and the realized gain as a line over it, against a
-log-frequency axis, linear (0..1) and in dB; the *deviation panel* shows
-realized minus requested with the tolerance band; the *time panels* show
-the kernel (impulse response) and its running sum (step response).
+importing gainshape never imports it.
+
+Layout vocabulary: the *gain panels* show the requested gain as a light filled
+area and the realized gain as a line over it, against a log-frequency axis,
+linear (0..1) and in dB; the *deviation panel* shows realized minus requested
+with the tolerance band; the *time panels* show the kernel (impulse response)
+and its running sum (step response).
 """
 
 from __future__ import annotations

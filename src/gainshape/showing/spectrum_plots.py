@@ -1,4 +1,5 @@
-"""Figures of spectra: before and after, the band-power change (per recording and across a study), the observed gain, and the lines found."""
+"""Figures of spectra: before and after, the band-power change (per recording and across a
+study), the observed gain, and the lines found."""
 
 from __future__ import annotations
 

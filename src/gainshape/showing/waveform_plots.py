@@ -1,4 +1,5 @@
-"""Figures of waveforms: an ERP before and after, and what a filter does to test waveforms (the audit)."""
+"""Figures of waveforms: an ERP before and after, and what a filter does to test waveforms
+(the audit)."""
 
 from __future__ import annotations
 

@@ -1,4 +1,5 @@
-"""A study's recordings: found in a BIDS root or a folder, named for their outputs, and the derivative's dataset description."""
+"""A study's recordings: found in a BIDS root or a folder, named for their outputs, and the
+derivative's dataset description."""
 
 from __future__ import annotations
 
@@ -7,7 +8,7 @@ from pathlib import Path
 
 from .._checks import missing_modules
 from .._files import atomic_output
-from ..filtering.recipes import read_recipe, recipe_content
+from ..record.recipes import read_recipe, recipe_content
 
 
 ENTITIES = ("subject", "session", "task")

@@ -1,4 +1,5 @@
-"""A study's summaries: the band change by groups of recordings, the methods paragraph, and the HTML report with its figure."""
+"""A study's summaries: the band change by groups of recordings, the methods paragraph, and
+the HTML report with its figure."""
 
 from __future__ import annotations
 
@@ -6,7 +7,7 @@ import re
 from pathlib import Path
 
 from .._files import atomic_output
-from ..filtering.recipes import recipe_design, recipe_from_content
+from ..record.recipes import recipe_design, recipe_from_content
 from .finding import ENTITIES
 
 

@@ -12,6 +12,7 @@ at all.
 
 from __future__ import annotations
 
+import concurrent.futures
 import contextlib
 import json
 import time
@@ -211,16 +212,18 @@ def _run_locked(content, found, outputs, out_dir, cluster: dict, overwrite, limi
                for s, o in zip(sources, outputs)]
     todo = [i for i, r in enumerate(results) if r is None]
     if todo:
-        with connected(cluster["client"], cluster["workers"]) as connection:
-            # the report's filter figure is drawn on the cluster beside the recordings
-            figure = connection.submit(filter_figure, content, sources, pure=False)
+        # the report's filter figure is drawn here while the workers filter: this process
+        # only waits for them, so the figure takes no worker's time
+        with concurrent.futures.ThreadPoolExecutor(1) as drawer, \
+                connected(cluster["client"], cluster["workers"]) as connection:
+            drawing = drawer.submit(filter_figure, content, sources)
             done = gathered(connection, [sources[i] for i in todo],
                              [content, [outputs[i] for i in todo], overwrite, limits],
                              verbose is not False)
             for i, result in zip(todo, done):
                 results[i] = result
             try:
-                figure = figure.result()
+                figure = drawing.result()
             except Exception:  # the report goes without it; the recordings' rows say why
                 figure = None
     else:

@@ -1,4 +1,5 @@
-"""One recording's task: read it whole (or say how it is damaged), filter it, write the output and its record, and measure the band change."""
+"""One recording's task: read it whole (or say how it is damaged), filter it, write the
+output and its record, and measure the band change."""
 
 from __future__ import annotations
 
@@ -13,7 +14,7 @@ from pathlib import Path
 from .._files import atomic_outputs
 from ..examining.summaries import band_change
 from ..filtering.adapters import apply
-from ..filtering.recipes import recipe_from_content
+from ..record.recipes import recipe_from_content
 from ..record.bids import bids_filters
 from ..record.methods import methods_text
 from .stamps import file_fingerprint, file_stamps, SIDECAR_KEY, stamp, verdict

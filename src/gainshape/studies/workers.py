@@ -1,4 +1,5 @@
-"""Where a study's tasks run: one run at a time per output folder (a lock file), a local pool or a Dask cluster, results gathered as they finish, Ctrl-C honoured."""
+"""Where a study's tasks run: one run at a time per output folder (a lock file), a local
+pool or a Dask cluster, results gathered as they finish, Ctrl-C honoured."""
 
 from __future__ import annotations
 

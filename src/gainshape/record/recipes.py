@@ -12,13 +12,12 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from .._checks import check_bool, check_option, check_positive, DEFAULT_TOLERANCE
+from .._checks import check_bool, check_option, check_positive, DEFAULT_TOLERANCE, PAD_MODES
 from .._files import atomic_output
 from .._types import KernelRequest, PathLike, Picks
 from ..shaping.curves import GainCurve
 from ..shaping.design import check_filter, check_kernel_request, design
 from ..shaping.filter_design import FilterDesign
-from .blocks import PAD_MODES
 
 __all__ = ["read_recipe", "write_recipe", "recipe_content", "recipe_from_content", "recipe_design"]
 
