@@ -40,14 +40,17 @@ WINGS = {
                 "measure", "lengths", "filter_design", "design"],
     "record": ["steps", "methods", "bids", "recipes"],
     "filtering": ["blocks", "engine", "outofcore", "signals", "adapters"],
-    "examining": ["summaries", "causes", "lines", "notches", "audit"],
-    "showing": ["look", "filter_plots", "spectrum_plots", "waveform_plots", "edits", "drawing"],
+    "examining": ["summaries", "causes", "lines", "notches", "audit", "components", "cautions",
+                  "compare"],
+    "showing": ["look", "filter_plots", "spectrum_plots", "waveform_plots", "comparison_plots",
+                "edits", "drawing"],
     "studies": ["stamps", "finding", "task", "workers", "report", "study"],
     "top": ["about", "simulate", "cli", "demo"],
 }
 OUTSIDE = {"ground", "top"}  # modules directly in src/gainshape
 MNE_AWARE = {"_compat", "filtering.signals", "filtering.adapters", "record.steps", "record.bids",
-             "studies.finding", "studies.task", "studies.report", "cli", "simulate", "demo"}
+             "examining.compare", "studies.finding", "studies.task", "studies.report", "cli",
+             "simulate", "demo"}
 MAX_LINES = 500
 
 

@@ -15,6 +15,7 @@ if typing.TYPE_CHECKING:  # the same names, statically, for type checkers and ed
     from .about import about
     from .filtering.adapters import apply, replay
     from .examining.audit import audit
+    from .examining.compare import compare_filters
     from .shaping.curves import GainCurve
     from .shaping.shapes import bandpass, bandstop, highpass, lowpass, notch
     from .shaping.filter_design import FilterDesign
@@ -29,23 +30,25 @@ if typing.TYPE_CHECKING:  # the same names, statically, for type checkers and ed
     from .studies.study import run_study
     from .examining.summaries import band_change, observed_gain
     from .showing.waveform_plots import plot_audit
+    from .showing.comparison_plots import plot_comparison
     from .showing.spectrum_plots import plot_band_change, plot_lines, plot_observed_gain
 
 # public name -> the module that defines it
 _HOMES = {
     "GainshapeWarning": "_checks", "about": "about", "audit": "examining.audit",
-    "find_lines": "examining.lines", "suggest_notches": "examining.notches",
-    "band_change": "examining.summaries", "observed_gain": "examining.summaries",
-    "apply": "filtering.adapters", "replay": "filtering.adapters",
-    "read_recipe": "record.recipes", "write_recipe": "record.recipes",
-    "bids_filters": "record.bids", "export": "record.bids", "write_bids_filters": "record.bids",
-    "methods_text": "record.methods", "history": "record.steps", "GainCurve": "shaping.curves",
-    "design": "shaping.design", "FilterDesign": "shaping.filter_design",
-    "bandpass": "shaping.shapes", "bandstop": "shaping.shapes", "highpass": "shaping.shapes",
-    "lowpass": "shaping.shapes", "notch": "shaping.shapes", "draw": "showing.drawing",
-    "plot_band_change": "showing.spectrum_plots", "plot_lines": "showing.spectrum_plots",
-    "plot_observed_gain": "showing.spectrum_plots", "plot_audit": "showing.waveform_plots",
-    "run_study": "studies.study",
+    "compare_filters": "examining.compare", "find_lines": "examining.lines",
+    "suggest_notches": "examining.notches", "band_change": "examining.summaries",
+    "observed_gain": "examining.summaries", "apply": "filtering.adapters",
+    "replay": "filtering.adapters", "bids_filters": "record.bids", "export": "record.bids",
+    "write_bids_filters": "record.bids", "methods_text": "record.methods",
+    "read_recipe": "record.recipes", "write_recipe": "record.recipes", "history": "record.steps",
+    "GainCurve": "shaping.curves", "design": "shaping.design",
+    "FilterDesign": "shaping.filter_design", "bandpass": "shaping.shapes",
+    "bandstop": "shaping.shapes", "highpass": "shaping.shapes", "lowpass": "shaping.shapes",
+    "notch": "shaping.shapes", "plot_comparison": "showing.comparison_plots",
+    "draw": "showing.drawing", "plot_band_change": "showing.spectrum_plots",
+    "plot_lines": "showing.spectrum_plots", "plot_observed_gain": "showing.spectrum_plots",
+    "plot_audit": "showing.waveform_plots", "run_study": "studies.study",
 }
 
 
@@ -86,6 +89,7 @@ __all__ = [
     "band_change",
     "bandpass",
     "bids_filters",
+    "compare_filters",
     "bandstop",
     "design",
     "draw",
@@ -99,6 +103,7 @@ __all__ = [
     "observed_gain",
     "plot_audit",
     "plot_band_change",
+    "plot_comparison",
     "plot_lines",
     "plot_observed_gain",
     "read_recipe",
