@@ -205,3 +205,20 @@ def test_the_view_shows_the_channel_table_and_gains(compared):
         condition=0)
     assert cells[0].startswith(f"{float(change.isel(candidate=0, component=0)):+.1f} %")
     assert len(gains.get_lines()) >= 3
+
+
+def test_the_chosen_filter_records_the_comparison_and_the_methods_say_so(compared):
+    # the step's record is checked against step.schema.json by the suite's conftest hook
+    ev = evoked()
+    chosen = gs.apply(ev, CANDIDATES["0.5-30 Hz"], comparison=compared)
+    [step] = gs.history(chosen)
+    record = step["application"]["chosen_after_comparison"]
+    assert list(record["candidates"]) == list(CANDIDATES)
+    assert record["components"] == {k: list(v) for k, v in COMPONENTS.items()}
+    text = gs.methods_text(chosen)
+    assert ("The filter was chosen after comparing 3 candidates (0.1-30 Hz; 0.5-30 Hz; "
+            "1-20 Hz), filtered on the averages (each padded on its own) and measured "
+            "against the least-filtered candidate, '0.1-30 Hz'") in text
+    assert "N1 (60-160 ms, negative), P3 (300-650 ms, positive)." in text
+    with pytest.raises(TypeError, match="'comparison'"):
+        gs.apply(ev, CANDIDATES["0.5-30 Hz"], comparison={"not": "a comparison"})

@@ -10,17 +10,22 @@ recordings.
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
-from .._checks import check_bool, check_int, check_option, check_positive, DEFAULT_TOLERANCE, warn
+from .._checks import (
+    check_bool, check_int, check_option, check_positive, DEFAULT_TOLERANCE, PAD_MODES, warn,
+)
 from .._compat import copy_with_empty_data, data_of, picks_to_indices, unlocked
 from .._types import Filtered, KernelRequest, Picks, Recording, Verbosity
-from ..record.steps import fingerprint, make_step, RATE_PPM, same_rate, store_step, usable_steps
+from ..record.steps import (
+    chosen_after, fingerprint, make_step, RATE_PPM, same_rate, store_step, usable_steps,
+)
 from ..shaping.curves import GainCurve
 from ..shaping.design import check_filter, check_kernel_request, design
 from ..shaping.filter_design import FilterDesign
 from ..shaping.measure import passband_edges
-from .._checks import PAD_MODES
 from .engine import check_finite, check_samples, fft_workers, filter_array, Progress, SegmentWords
 from .outofcore import check_request, filtered_raw
 from .signals import (
@@ -52,6 +57,7 @@ def apply(
     copy: bool = True,
     return_step: bool = False,
     verbose: Verbosity = None,
+    comparison: Any = None,
 ) -> Filtered:
     """Filter a Raw, Epochs, Evoked or array with a gain curve or design.
 
@@ -104,6 +110,10 @@ def apply(
         as by default; ``mne.set_log_level("WARNING")`` silences it); an MNE
         level ("info", "warning", ...) applies to this call. A plain text
         bar (no widgets), counting seconds of data, or epochs.
+    comparison : xarray.Dataset | None
+        The :func:`gainshape.compare_filters` result this filter was chosen
+        after: the step records the comparison's candidates, data, reference
+        and components, and the methods paragraph says so in one sentence.
 
     Returns
     -------
@@ -132,6 +142,7 @@ def apply(
     ((4, 2500), dtype('float64'))
     """
     check_filter(filt)
+    noted = {} if comparison is None else {"chosen_after_comparison": chosen_after(comparison)}
     check_option("nan", nan, ("raise", "split"))
     check_option("pad", pad, PAD_MODES)
     copy = check_bool("copy", copy)
@@ -140,7 +151,7 @@ def apply(
     fft_workers(n_jobs)  # checked before the design is made
     if isinstance(inst, np.ndarray):
         out, step = _apply_array(inst, filt, sfreq, picks, pad, options, nan, n_jobs, copy,
-                                 verbose)
+                                 verbose, noted)
         return (out, step) if return_step else out
     kind = mne_kind(inst)
     check_sfreq(inst, sfreq)
@@ -149,19 +160,18 @@ def apply(
                          "left (all dropped?); there is nothing to filter.")
     idx = pick_indices(inst, picks)
     if kind == "raw" and not inst.preload:
-
         check_request(filt, kernel, pad, nan, copy)
         filt = _realize(filt, inst.info["sfreq"], options)
-        out, step = _apply_lazy(inst, filt, idx, pad, nan, n_jobs)
+        out, step = _apply_lazy(inst, filt, idx, pad, nan, n_jobs, noted)
     else:
         filt = _realize(filt, inst.info["sfreq"], options)
-        out, step = _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose)
+        out, step = _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose, noted)
     _update_info(out, idx, filt)
     store_step(out.info, step)
     return (out, step) if return_step else out
 
 
-def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
+def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose, noted):
     """Filter data in memory; returns the filtered object and its step."""
     names = [inst.ch_names[i] for i in idx]
     if kind == "epochs" and not inst.preload:
@@ -184,7 +194,7 @@ def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
     def record(after, also=None):
         return make_step(filt, channels=names, pad=pad, nan=nan, segments=seconds,
                          dtype=str(data.dtype), before=before, after=after,
-                         data_sfreq=inst.info["sfreq"], also=also)
+                         data_sfreq=inst.info["sfreq"], also={**noted, **(also or {})})
 
     try:
         filter_array(
@@ -202,7 +212,7 @@ def _apply_loaded(inst, kind, filt, idx, pad, nan, n_jobs, copy, verbose):
     return out, record(fingerprint(out_data.reshape(-1, data.shape[-1]), rows))
 
 
-def _apply_lazy(raw, filt, idx, pad, nan, n_jobs):
+def _apply_lazy(raw, filt, idx, pad, nan, n_jobs, noted):
     """A lazily filtered Raw for one that is not loaded, and its step."""
 
     segments = raw_segments(raw)
@@ -210,11 +220,11 @@ def _apply_lazy(raw, filt, idx, pad, nan, n_jobs):
     seconds = [[a / filt.sfreq, b / filt.sfreq] for a, b in segments]
     step = make_step(filt, channels=[raw.ch_names[i] for i in idx], pad=pad, nan=nan,
                      segments=seconds, dtype="float64", before=None, after=None,
-                     data_sfreq=raw.info["sfreq"], also={"lazy": True})
+                     data_sfreq=raw.info["sfreq"], also={**noted, "lazy": True})
     return out, step
 
 
-def _apply_array(data, filt, sfreq, picks, pad, options, nan, n_jobs, copy, verbose):
+def _apply_array(data, filt, sfreq, picks, pad, options, nan, n_jobs, copy, verbose, noted):
     if sfreq is None and isinstance(filt, FilterDesign):
         sfreq = filt.sfreq
     sfreq = require_sfreq(sfreq)
@@ -234,7 +244,7 @@ def _apply_array(data, filt, sfreq, picks, pad, options, nan, n_jobs, copy, verb
     step = make_step(filt, channels=[f"row {c}" for c in np.atleast_1d(channels)], pad=pad,
                      nan=nan, segments=None, dtype=str(data.dtype), before=before,
                      after=fingerprint(out.reshape(-1, out.shape[-1]), rows), data_sfreq=sfreq,
-                     also={"rows": [int(c) for c in np.atleast_1d(channels)]})
+                     also={**noted, "rows": [int(c) for c in np.atleast_1d(channels)]})
     return out, step
 
 

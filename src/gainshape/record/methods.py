@@ -72,11 +72,33 @@ def methods_text(inst: Recording, detail: str = "brief") -> str:
         f"(NumPy {sw.get('numpy', '?')}, SciPy {sw.get('scipy', '?')}, "
         f"MNE-Python {sw.get('mne', '?')})"
     )
-    sentences = _brief_sentences if detail == "brief" else _step_sentences
+    def sentences(step) -> str:
+        said = (_brief_sentences if detail == "brief" else _step_sentences)(step)
+        choice = step.get("application", {}).get("chosen_after_comparison")
+        return f"{said} {_choice_sentence(choice)}" if choice else said
+
     if len(steps) == 1:
         return f"{opening}. {sentences(steps[0])}"
     parts = [f"({i + 1}) {sentences(s)}" for i, s in enumerate(steps)]
     return f"{opening} in {len(steps)} steps, applied in this order. " + " ".join(parts)
+
+
+def _choice_sentence(choice: dict) -> str:
+    """The comparison a filter was chosen after, in one sentence.
+
+    >>> _choice_sentence({"candidates": {"a": "x", "b": "y"}, "data": "the averages",
+    ...     "reference": "the candidate 'a', as asked", "components": {"P3": [0.3, 0.6, "+"]}})
+    "The filter was chosen after comparing 2 candidates (a; b), filtered on the averages and \
+measured against the candidate 'a', as asked, on the component P3 (300-600 ms, positive)."
+    """
+    named = [f"{name} ({1000 * start:.0f}-{1000 * stop:.0f} ms, "
+             f"{'positive' if polarity == '+' else 'negative'})"
+             for name, (start, stop, polarity) in choice.get("components", {}).items()]
+    on = (f", on the component{'s' if len(named) > 1 else ''} {', '.join(named)}"
+          if named else "")
+    return (f"The filter was chosen after comparing {len(choice.get('candidates', {}))} "
+            f"candidates ({'; '.join(choice.get('candidates', {}))}), filtered on "
+            f"{choice.get('data', '?')} and measured against {choice.get('reference', '?')}{on}.")
 
 
 def _step_sentences(step) -> str:

@@ -14,7 +14,7 @@ import html
 import json
 import platform
 import uuid
-from typing import TypedDict
+from typing import Any, TypedDict
 
 import datetime as _dt
 import numpy as np
@@ -402,3 +402,23 @@ def curve_words(record: dict) -> str:
         return GainCurve.from_dict(record).describe()
     except (ValueError, KeyError, TypeError):
         return "unreadable recipe"
+
+
+def chosen_after(comparison: Any) -> dict:
+    """What a step keeps of the comparison its filter was chosen after (the settings
+    :func:`gainshape.compare_filters` wrote in ``attrs["record"]``).
+
+    >>> import xarray as xr
+    >>> ds = xr.Dataset(attrs={"record": '{"candidates": {"a": "low-pass 30 Hz"}, '
+    ...     '"data": "the averages", "reference": "the candidate a", "components": {}}'})
+    >>> sorted(chosen_after(ds))
+    ['candidates', 'components', 'data', 'reference']
+    """
+    try:
+        record = json.loads(comparison.attrs["record"])
+        assert {"candidates", "data", "reference", "components"} <= set(record)
+    except (AttributeError, KeyError, TypeError, ValueError, AssertionError):
+        raise TypeError("The 'comparison' parameter takes the Dataset gainshape.compare_filters "
+                        f"returned; a {type(comparison).__name__} without its record was "
+                        "given.") from None
+    return record
