@@ -73,6 +73,17 @@ breaks = [
  ("audit pre-response: in % where data units are named (units)", "src/gainshape/examining/audit.py", "        \"pre_response\": before,", "        \"pre_response\": 100 * before / peak,"),
  ("failed row: previous output not named", "src/gainshape/studies/task.py", "    return output, f\"previous output kept, from {when}; {words}\"", "    return None, words"),
  ("truncation: marker check off by the whole file", "src/gainshape/studies/task.py", "        if positions and max(positions) > raw.n_times:", "        if positions and max(positions) > 2 * raw.n_times:"),
+ ("compare: peak change against the candidate's own peak (wrong denominator)", "src/gainshape/examining/compare.py", "         \"peak_change_pct\": (dims, 100 * sign * (got[\"peak\"] - base[\"peak\"]) / size),", "         \"peak_change_pct\": (dims, 100 * sign * (got[\"peak\"] - base[\"peak\"]) / np.abs(got[\"peak\"])),"),
+ ("compare: latency in s where ms is named (units)", "src/gainshape/examining/compare.py", "         \"latency_ms\": (dims, 1000 * got[\"latency\"]),", "         \"latency_ms\": (dims, got[\"latency\"]),"),
+ ("compare: deflections before and after swapped (swapped fields)", "src/gainshape/examining/compare.py", "         \"deflection_before\": (dims, got[\"before\"]),", "         \"deflection_before\": (dims, got[\"after\"]),"),
+ ("compare: onset at 40 % (wrong level)", "src/gainshape/examining/components.py", "ONSET_FRACTION = 0.5  # the onset rule: the waveform reaches this fraction of the reference's peak", "ONSET_FRACTION = 0.4  # the onset rule: the waveform reaches this fraction of the reference's peak"),
+ ("compare: onset at the candidate's own peak (wrong level)", "src/gainshape/examining/components.py", "            \"onset\": _onset(times, sign * wave, k, int(inside[0]), level),", "            \"onset\": _onset(times, sign * wave, k, int(inside[0]), sign * peak),"),
+ ("compare: peak change sign ignoring polarity", "src/gainshape/examining/compare.py", "    sign = np.array([1.0 if chosen[name][2] == \"+\" else -1.0 for name in names])[:, None]", "    sign = np.ones((len(names), 1))"),
+ ("compare: waveforms one sample late (misaligned)", "src/gainshape/examining/compare.py", "                    wave = runs[label][\"averages\"][k, ch] * scale", "                    wave = np.roll(runs[label][\"averages\"][k, ch], 1) * scale"),
+ ("compare: mean over the whole record (wrong range)", "src/gainshape/examining/components.py", "    return {\"peak\": peak, \"latency\": float(times[k]), \"mean\": float(wave[inside].mean()),", "    return {\"peak\": peak, \"latency\": float(times[k]), \"mean\": float(wave.mean()),"),
+ ("compare: the reference difference wave read 12 samples off (misaligned)", "src/gainshape/examining/compare.py", "        base.append(_signed_extreme(ref.values[..., inside]))", "        base.append(_signed_extreme(ref.values[..., np.roll(inside, 12)]))"),
+ ("compare: high-pass caution from 0.5 Hz (wrong threshold)", "src/gainshape/examining/cautions.py", "HIGH_PASS_CAUTION_HZ = 0.3  # at or above: artefactual opposite-polarity effects reported", "HIGH_PASS_CAUTION_HZ = 0.5  # at or above: artefactual opposite-polarity effects reported"),
+ ("compare: the methods sentence drops the reference", "src/gainshape/record/methods.py", "            f\"{choice.get('data', '?')} and measured against {choice.get('reference', '?')}{on}.\")", "            f\"{choice.get('data', '?')}{on}.\")"),
 ]
 chosen = [b for b in breaks if not sys.argv[1:] or any(n in b[0] for n in sys.argv[1:])]
 caught = 0

@@ -155,15 +155,17 @@ def test_two_conditions_give_the_difference_wave_peak_by_numpy():
     with pytest.warns(gs.GainshapeWarning):
         ds = gs.compare_filters(CANDIDATES, [ev_a, ev_b], components=COMPONENTS)
     assert list(ds["contrast"].values) == ["deviant - standard"]
-    d = gs.design(CANDIDATES["1-20 Hz"], SFREQ)
+    d, ref = gs.design(CANDIDATES["1-20 Hz"], SFREQ), gs.design(CANDIDATES["0.1-30 Hz"], SFREQ)
     times = ev_a.times
     for component, (start, stop, _) in COMPONENTS.items():
         inside = (times >= start) & (times <= stop)
         diff = 1e6 * (by_numpy(d, ev_b.data[0]) - by_numpy(d, ev_a.data[0]))[inside]
-        want = diff[np.argmax(np.abs(diff))]
-        got = ds["difference_peak"].sel(candidate="1-20 Hz", channel="Cz",
-                                        component=component).item()
-        assert got == pytest.approx(want, rel=1e-6)
+        base = 1e6 * (by_numpy(ref, ev_b.data[0]) - by_numpy(ref, ev_a.data[0]))[inside]
+        want, base = diff[np.argmax(np.abs(diff))], base[np.argmax(np.abs(base))]
+        got = ds.sel(candidate="1-20 Hz", channel="Cz", component=component)
+        assert got["difference_peak"].item() == pytest.approx(want, rel=1e-6)
+        assert got["difference_peak_change_pct"].item() == pytest.approx(
+            100 * (want - base) / abs(base), abs=1e-6)
 
 
 def test_components_are_proposed_and_listed_when_none_are_given():
