@@ -186,6 +186,8 @@ def test_components_are_proposed_and_listed_when_none_are_given():
     (lambda ev: gs.compare_filters(CANDIDATES, ev, components={"P3": (0.6, 0.3, "+")}),
      ValueError, "P3"),
     (lambda ev: gs.compare_filters(CANDIDATES, np.zeros((2, 100))), TypeError, "'data'"),
+    (lambda ev: gs.compare_filters({"at 500 Hz": gs.design(gs.lowpass(30.0), 500.0),
+                                    "here": gs.lowpass(30.0)}, ev), ValueError, "500 Hz"),
 ])
 def test_bad_input_is_refused_before_any_filtering(call, error, match):
     ev = evoked()
@@ -224,3 +226,24 @@ def test_the_chosen_filter_records_the_comparison_and_the_methods_say_so(compare
     assert "N1 (60-160 ms, negative), P3 (300-650 ms, positive)." in text
     with pytest.raises(TypeError, match="'comparison'"):
         gs.apply(ev, CANDIDATES["0.5-30 Hz"], comparison={"not": "a comparison"})
+
+
+def test_epochs_of_two_event_types_are_two_conditions_and_one_contrast():
+    # the epochs path: each event type averaged after filtering; the band change combines
+    # epochs by their mean power (as gainshape.band_change's own maps do)
+    rng = np.random.default_rng(2)
+    times = np.arange(round(-0.3 * SFREQ), round(1.2 * SFREQ)) / SFREQ
+    data = np.stack([erp(times, 1.0 + (i % 2)) for i in range(40)])[:, None, :] \
+        + 1e-7 * rng.standard_normal((40, 1, times.size))
+    events = np.column_stack([np.arange(40), np.zeros(40, int), 1 + np.arange(40) % 2])
+    epochs = mne.EpochsArray(data, mne.create_info(["Cz"], SFREQ, "eeg"), events=events,
+                             tmin=times[0], event_id={"small": 1, "large": 2}, verbose=False)
+    with pytest.warns(gs.GainshapeWarning):
+        ds = gs.compare_filters(CANDIDATES, epochs, components=COMPONENTS)
+    assert list(ds["condition"].values) == ["small", "large"]
+    assert list(ds["contrast"].values) == ["large - small"]
+    assert ds["band_change_db"].dims == ("candidate", "band")
+    assert ds.attrs["filtered_on"].startswith("the epochs")
+    large = ds["peak"].sel(candidate="0.1-30 Hz", condition="large", component="P3").item()
+    small = ds["peak"].sel(candidate="0.1-30 Hz", condition="small", component="P3").item()
+    assert large / small == pytest.approx(2.0, rel=0.01)  # the simulated amplitudes

@@ -21,6 +21,7 @@ import xarray as xr
 from .._checks import GainshapeWarning, check_positive, warn
 from .._types import Picks, Recording
 from ..filtering.adapters import apply
+from ..record.steps import same_rate
 from ..shaping.curves import GainCurve
 from ..shaping.design import check_filter, design
 from ..shaping.filter_design import FilterDesign
@@ -122,6 +123,11 @@ def compare_filters(candidates: Mapping[str, GainCurve | FilterDesign] | Sequenc
         raise ValueError(f"The 'reference' parameter takes None, 'detrended' or one of the "
                          f"labels {sorted(labelled)}; {reference!r} was given.")
     given = None if components is None else checked_components(components, times[0], times[-1])
+    for label, filt in labelled.items():
+        if isinstance(filt, FilterDesign) and not same_rate(filt.sfreq, sfreq):
+            raise ValueError(f"The candidate {label!r} was designed at {filt.sfreq:g} Hz; the "
+                             f"data are sampled at {sfreq:g} Hz. Design it at the data's rate, "
+                             f"or pass its curve.")
     designs = {label: filt if isinstance(filt, FilterDesign) else design(filt, sfreq)
                for label, filt in labelled.items()}
     runs, said = {}, {}
@@ -399,12 +405,18 @@ def _figure(timing, key: str) -> float:
 
 def _band_changes(runs: dict, ref_run: dict) -> xr.Dataset:
     """Each candidate's band-power change against the reference (median over channels),
-    on what the filters ran on (the recording, the epochs, or the first average); NaN
-    for bands too slow for its length."""
+    on what the filters ran on (the recording, the epochs, or the first average; epochs
+    combined by their mean power); NaN for bands too slow for its length."""
+    def change(run) -> xr.DataArray:
+        found = band_change(ref_run["object"], run["object"]).sel(channel=ref_run["channels"])
+        if "epoch" in found.dims:  # the epochs' mean power, before and after
+            ratio = found["power_after"].mean("epoch") / found["power_before"].mean("epoch")
+            return (10 * xr.apply_ufunc(np.log10, ratio)).median("channel")
+        return found["change_db"].median("channel")
+
     with warnings.catch_warnings():
-        warnings.simplefilter("ignore")  # short averages: slow bands are NaN, as stated
-        changes = [band_change(ref_run["object"], run["object"])["change_db"]
-                   .sel(channel=ref_run["channels"]).median("channel") for run in runs.values()]
+        warnings.simplefilter("ignore")  # short records: slow bands are NaN, as stated
+        changes = [change(run) for run in runs.values()]
     return xr.Dataset({"band_change_db": xr.concat(changes, dim="candidate")
                        .assign_coords(candidate=list(runs))
                        .reset_coords(drop=True)})
