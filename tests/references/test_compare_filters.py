@@ -243,6 +243,7 @@ def test_epochs_of_two_event_types_are_two_conditions_and_one_contrast():
     assert list(ds["condition"].values) == ["small", "large"]
     assert list(ds["contrast"].values) == ["large - small"]
     assert ds["band_change_db"].dims == ("candidate", "band")
+    assert ds["band_change_db"].attrs["units"] == "dB" and "band_resolved" in ds.coords
     assert ds.attrs["filtered_on"].startswith("the epochs")
     large = ds["peak"].sel(candidate="0.1-30 Hz", condition="large", component="P3").item()
     small = ds["peak"].sel(candidate="0.1-30 Hz", condition="small", component="P3").item()

@@ -417,6 +417,9 @@ def _band_changes(runs: dict, ref_run: dict) -> xr.Dataset:
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")  # short records: slow bands are NaN, as stated
         changes = [change(run) for run in runs.values()]
-    return xr.Dataset({"band_change_db": xr.concat(changes, dim="candidate")
-                       .assign_coords(candidate=list(runs))
-                       .reset_coords(drop=True)})
+    joined = xr.concat(changes, dim="candidate", coords="minimal", compat="override")
+    kept = [c for c in joined.coords if c not in ("band", "band_low", "band_high", "band_resolved")]
+    median = joined.drop_vars(kept).assign_coords(candidate=list(runs))
+    median.attrs = {"units": "dB", "long_name": "band-power change against the reference, "
+                    "median over channels (band_resolved: the data are long enough)"}
+    return xr.Dataset({"band_change_db": median})
