@@ -54,7 +54,7 @@ def plot_comparison(ds: xr.Dataset, *, channel: str | None = None,
     ...                         components={"P3": (0.3, 0.5, "+")})
     >>> fig = gs.plot_comparison(ds, show=False)
     >>> [ax.get_title() for ax in fig.axes[:3]]
-    ['Pz, condition 1', 'change of each peak (%), and deflections', 'realized gain']
+    ['Pz, condition 1', 'peak change; ▼ ▲ deflections before, after (% of peak)', 'realized gain']
     """
     import matplotlib.pyplot as plt
 
@@ -112,21 +112,21 @@ def _waveforms(ax, ds, channel: str, condition: str) -> None:
 
 def _table(ax, figures) -> None:
     """Candidate x component, coloured by the peak's change, with the values printed."""
-    change = figures["peak_change_pct"].transpose("candidate", "component").values
+    change = np.round(figures["peak_change_pct"].transpose("candidate", "component").values, 1) \
+        + 0.0  # no "-0.0 %"
     ax.imshow(change, cmap="RdBu_r", vmin=-_TABLE_LIMIT_PCT, vmax=_TABLE_LIMIT_PCT,
               aspect="auto")
     before = figures["deflection_before_pct"].transpose("candidate", "component").values
     after = figures["deflection_after_pct"].transpose("candidate", "component").values
     for i in range(change.shape[0]):
         for j in range(change.shape[1]):
-            ax.text(j, i, f"{change[i, j]:+.1f} %\nbefore {before[i, j]:.0f} %, "
-                          f"after {after[i, j]:.0f} %", ha="center", va="center",
-                    fontsize="x-small",
+            ax.text(j, i, f"{change[i, j]:+.1f} %\n▼ {before[i, j]:.0f} %  ▲ {after[i, j]:.0f} %",
+                    ha="center", va="center", fontsize="small",
                     color="white" if abs(change[i, j]) > 0.6 * _TABLE_LIMIT_PCT else "black")
     ax.set_xticks(range(change.shape[1]), [str(c) for c in figures["component"].values])
     ax.set_yticks(range(change.shape[0]), [str(c) for c in figures["candidate"].values],
                   fontsize="small")
-    ax.set_title("change of each peak (%), and deflections")
+    ax.set_title("peak change; ▼ ▲ deflections before, after (% of peak)", fontsize="medium")
 
 
 def _gains(ax, ds) -> None:
