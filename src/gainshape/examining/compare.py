@@ -103,6 +103,10 @@ def compare_filters(candidates: Mapping[str, GainCurve | FilterDesign] | Sequenc
     Methods 209:212-218.
     Rousselet GA (2012). Does filtering preclude us from studying ERP
     time-courses? Front Psychol 3:131.
+    Kiesel A, Miller J, Jolicœur P, Brisson B (2008). Measurement of ERP
+    latency differences: a comparison of single-participant and
+    jackknife-based scoring methods. Psychophysiology 45:250-274 (fractional
+    peak latency, the onset rule used here).
 
     Examples
     --------

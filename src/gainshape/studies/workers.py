@@ -25,6 +25,13 @@ _LOCAL_WORKERS = {
     # Dask's sampling profiler walks the task's stack every 10 ms; without it a
     # recording took 0.89 s instead of 0.99 s on two busy workers (two A/B runs)
     "distributed.worker.profile.enabled": False,
+    # the event loop's watchdog tick (20 ms) and the system and memory monitors (0.5 s,
+    # 0.1 s) woke each worker 60 times a second: at 1 s each, 16 recordings on two
+    # workers took 8.3-8.5 s instead of 8.8-9.3 s and 15.4-16.2 s of CPU instead of
+    # 16.3-17.1 s (two A/B rounds); a worker's memory is still watched every second
+    "distributed.admin.tick.interval": "1s",
+    "distributed.admin.system-monitor.interval": "1s",
+    "distributed.worker.memory.monitor-interval": "1s",
 }
 
 
