@@ -134,25 +134,10 @@ def compare_filters(candidates: Mapping[str, GainCurve | FilterDesign] | Sequenc
                              f"or pass its curve.")
     designs = {label: filt if isinstance(filt, FilterDesign) else design(filt, sfreq)
                for label, filt in labelled.items()}
-    runs, said = {}, {}
-    for label, d in designs.items():  # what filtering says of each, kept with the candidate
-        with warnings.catch_warnings(record=True) as caught:
-            warnings.simplefilter("always", GainshapeWarning)
-            runs[label] = _averaged(data, d, picks, epoching)
-        said[label] = " ".join(dict.fromkeys(str(w.message) for w in caught))
-    if reference == "detrended":
-        ref_label, ref_run = None, _averaged(data, None, picks, epoching)
-        stated = ("the data with no filter, less the straight line through each record's "
-                  "first and last samples")
-    else:
-        ref_label = reference or _least_filtered(designs)
-        ref_run = runs[ref_label]
-        stated = (f"the candidate {ref_label!r}, as asked" if reference else
-                  f"the least-filtered candidate, {ref_label!r} (smallest mean of (1 - gain)^2 "
-                  f"from {_LEAST_FROM_HZ:g} Hz to Nyquist on a log-frequency grid)")
-    scale, unit = ref_run["scale"], ref_run["unit"]
+    runs, said = _filtered_runs(designs, data, picks, epoching)
+    ref_label, ref_run, stated = _reference(reference, designs, runs, data, picks, epoching)
     chosen = given or proposed_components(times, ref_run["averages"].mean(axis=(0, 1)))
-    ds = _measured(runs, ref_run, chosen, times, scale)
+    ds = _measured(runs, ref_run, chosen, times, ref_run["scale"])
     ds = ds.merge(_characteristics(designs, sfreq)).merge(_band_changes(runs, ref_run))
     ds["notes"] = ("candidate", [candidate_notes(ds.sel(candidate=label), designs[label],
                                                  deflection_share) for label in designs])
@@ -169,13 +154,37 @@ def compare_filters(candidates: Mapping[str, GainCurve | FilterDesign] | Sequenc
         "components": json.dumps(chosen),
         "components_from": "given" if given else "proposed: the largest peaks after 0 s of "
                            "the reference, averaged over channels and conditions",
-        "deflection_share": deflection_share, "units": unit, "sfreq": sfreq,
+        "deflection_share": deflection_share, "units": ref_run["unit"], "sfreq": sfreq,
         "sources": json.dumps(SOURCES),
         "record": json.dumps({"candidates": {label: d.describe() for label, d in designs.items()},
                               "data": ref_run["on"], "reference": stated,
                               "components": chosen}),
     })
     return ds
+
+
+def _filtered_runs(designs: dict, data, picks, epoching) -> tuple[dict, dict]:
+    """Each candidate's averages, and what filtering warned of for each (its words)."""
+    runs, said = {}, {}
+    for label, d in designs.items():
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always", GainshapeWarning)
+            runs[label] = _averaged(data, d, picks, epoching)
+        said[label] = " ".join(dict.fromkeys(str(w.message) for w in caught))
+    return runs, said
+
+
+def _reference(reference, designs: dict, runs: dict, data, picks, epoching) -> tuple:
+    """(label or None, the reference's averages, the reference in words)."""
+    if reference == "detrended":
+        return None, _averaged(data, None, picks, epoching), (
+            "the data with no filter, less the straight line through each record's first and "
+            "last samples")
+    label = reference or _least_filtered(designs)
+    stated = (f"the candidate {label!r}, as asked" if reference else
+              f"the least-filtered candidate, {label!r} (smallest mean of (1 - gain)^2 from "
+              f"{_LEAST_FROM_HZ:g} Hz to Nyquist on a log-frequency grid)")
+    return label, runs[label], stated
 
 
 def _labelled(candidates) -> dict:
