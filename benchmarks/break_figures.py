@@ -83,6 +83,7 @@ breaks = [
  ("compare: mean over the whole record (wrong range)", "src/gainshape/examining/components.py", "    return {\"peak\": peak, \"latency\": float(times[k]), \"mean\": float(wave[inside].mean()),", "    return {\"peak\": peak, \"latency\": float(times[k]), \"mean\": float(wave.mean()),"),
  ("compare: the reference difference wave read 12 samples off (misaligned)", "src/gainshape/examining/compare.py", "        base.append(_signed_extreme(ref.values[..., inside]))", "        base.append(_signed_extreme(ref.values[..., np.roll(inside, 12)]))"),
  ("compare: high-pass caution from 0.5 Hz (wrong threshold)", "src/gainshape/examining/cautions.py", "HIGH_PASS_CAUTION_HZ = 0.3  # at or above: artefactual opposite-polarity effects reported", "HIGH_PASS_CAUTION_HZ = 0.5  # at or above: artefactual opposite-polarity effects reported"),
+ ("compare: cautions read every channel (no expressed-channel mask)", "src/gainshape/examining/cautions.py", "EXPRESSED_SHARE = 0.5  # cautions read the channels where a component is at least half its largest", "EXPRESSED_SHARE = 0.0  # cautions read the channels where a component is at least half its largest"),
  ("compare: the methods sentence drops the reference", "src/gainshape/record/methods.py", "            f\"{choice.get('data', '?')} and measured against {choice.get('reference', '?')}{on}.\")", "            f\"{choice.get('data', '?')}{on}.\")"),
 ]
 chosen = [b for b in breaks if not sys.argv[1:] or any(n in b[0] for n in sys.argv[1:])]

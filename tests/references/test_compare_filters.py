@@ -249,3 +249,20 @@ def test_epochs_of_two_event_types_are_two_conditions_and_one_contrast():
     large = ds["peak"].sel(candidate="0.1-30 Hz", condition="large", component="P3").item()
     small = ds["peak"].sel(candidate="0.1-30 Hz", condition="small", component="P3").item()
     assert large / small == pytest.approx(2.0, rel=0.01)  # the simulated amplitudes
+
+
+def test_cautions_read_only_the_channels_where_a_component_is_expressed():
+    # common practice (no source): a share of a peak is read where the peak is there; on a
+    # channel with a trace of the component after a slow bump, shares of its tiny peak explode
+    times = np.arange(round(-0.3 * SFREQ), round(1.2 * SFREQ)) / SFREQ
+    bump = 2e-6 * np.exp(-((times + 0.1) / 0.15) ** 2)
+    data = np.stack([erp(times), 0.02 * erp(times) + bump])
+    ev = mne.EvokedArray(data, mne.create_info(["Pz", "Fp1"], SFREQ, "eeg"), tmin=times[0],
+                         verbose=False)
+    with pytest.warns(gs.GainshapeWarning):
+        ds = gs.compare_filters({"0.1 Hz": gs.highpass(0.1), "1 Hz": gs.highpass(1.0)}, ev,
+                                components={"P3": COMPONENTS["P3"]})
+    shares = ds["deflection_before_pct"].sel(candidate="1 Hz", component="P3").isel(condition=0)
+    assert float(shares.sel(channel="Fp1")) > float(shares.sel(channel="Pz")) > 10
+    note = str(ds["notes"].sel(candidate="1 Hz").values)
+    assert f"P3 {float(shares.sel(channel='Pz')):.0f} %" in note

@@ -12,11 +12,13 @@ import xarray as xr
 
 from ..shaping.filter_design import FilterDesign
 
-__all__ = ["DEFLECTION_SHARE", "HIGH_PASS_CAUTION_HZ", "ONSET_NOTED_MS", "SOURCES", "candidate_notes"]
+__all__ = ["DEFLECTION_SHARE", "EXPRESSED_SHARE", "HIGH_PASS_CAUTION_HZ", "ONSET_NOTED_MS", "SOURCES",
+           "candidate_notes"]
 
 HIGH_PASS_CAUTION_HZ = 0.3  # at or above: artefactual opposite-polarity effects reported
 DEFLECTION_SHARE = 0.1  # a deflection larger than this share of the peak gets a note
 ONSET_NOTED_MS = 0.5  # a zero-phase candidate moving an onset earlier by more gets a note
+EXPRESSED_SHARE = 0.5  # cautions read the channels where a component is at least half its largest
 SOURCES = {
     "Tanner et al. 2015": "Tanner D, Morgan-Short K, Luck SJ (2015). How inappropriate "
                           "high-pass filters can produce artifactual effects and incorrect "
@@ -49,17 +51,28 @@ def candidate_notes(figures: xr.Dataset, design: FilterDesign, share: float) -> 
                      "cutoffs in this range produced artefactual effects of opposite polarity "
                      "before a late positivity (Tanner et al. 2015); at most 0.1 Hz was "
                      "recommended for ERPs (Acunzo et al. 2012)")
+    expressed = _expressed(figures)
     for side in ("before", "after"):
-        pct = figures[f"deflection_{side}_pct"]
+        pct = figures[f"deflection_{side}_pct"].where(expressed)
         if bool((pct > 100 * share).any()):
             worst = pct.max(dim=[d for d in pct.dims if d != "component"])
             listed = ", ".join(f"{c} {float(v):.0f} %" for c, v in
                                zip(worst["component"].values, worst.values) if v > 100 * share)
             notes.append(f"a deflection of opposite polarity {side} the component larger than "
-                         f"{100 * share:g} % of its peak (largest over channels: {listed})")
-    shifts = figures["onset_shift_ms"]
+                         f"{100 * share:g} % of its peak (largest over the channels where the "
+                         f"component is at least half its largest: {listed})")
+    shifts = figures["onset_shift_ms"].where(expressed)
     if not design.causal and bool((shifts < -ONSET_NOTED_MS).any()):
         notes.append(f"zero-phase (non-causal): onsets moved earlier, by up to "
                      f"{-float(np.nanmin(shifts.values)):.1f} ms; a non-causal filter can "
                      "make an effect start before it does (Rousselet 2012)")
     return "; ".join(notes)
+
+
+def _expressed(figures: xr.Dataset) -> xr.DataArray:
+    """Where a component is expressed: channels whose reference peak is at least half the
+    largest (all of them when the reference peak is not in ``figures``)."""
+    if "reference_peak" not in figures or "channel" not in figures["reference_peak"].dims:
+        return xr.ones_like(figures["onset_shift_ms"], dtype=bool)
+    size = abs(figures["reference_peak"])
+    return size >= EXPRESSED_SHARE * size.max("channel")

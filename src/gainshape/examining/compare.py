@@ -80,7 +80,7 @@ def compare_filters(candidates: Mapping[str, GainCurve | FilterDesign] | Sequenc
         it shrinks; ``latency_shift_ms``, ``onset_shift_ms``), the
         deflections of opposite polarity on candidate minus reference
         (``deflection_before``, ``deflection_after`` and their ``_pct`` of the
-        reference's peak), for two or more conditions the difference wave's
+        reference's peak, ``reference_peak``), for two or more conditions the difference wave's
         peak and its change; per candidate its realized cutoffs, roll-off,
         kernel length, pre-response and undershoot, ``band_change_db`` (median
         over channels), ``gain``, ``notes`` (cautions) and ``filtering_said``
@@ -348,7 +348,8 @@ def _measured(runs: dict, ref_run: dict, chosen: dict, times: np.ndarray,
          "deflection_after_pct": (dims, 100 * np.abs(got["after"]) / size),
          "waveform": (("candidate", "condition", "channel", "time"),
                       np.stack([runs[label]["averages"] * scale for label in labels])),
-         "reference_waveform": (("condition", "channel", "time"), ref)},
+         "reference_waveform": (("condition", "channel", "time"), ref),
+         "reference_peak": (dims[1:], base["peak"])},
         coords={"candidate": labels, "channel": ref_run["channels"], "component": names,
                 "condition": ref_run["conditions"], "time": times})
     if ref.shape[0] >= 2:
