@@ -212,18 +212,19 @@ def _run_locked(content, found, outputs, out_dir, cluster: dict, overwrite, limi
                for s, o in zip(sources, outputs)]
     todo = [i for i, r in enumerate(results) if r is None]
     if todo:
-        # the report's filter figure is drawn here while the workers filter: this process
-        # only waits for them, so the figure takes no worker's time
+        # the report's filter figure is drawn here, in this process, once fewer recordings
+        # are left than there are workers: on a core that would otherwise idle
         with concurrent.futures.ThreadPoolExecutor(1) as drawer, \
                 connected(cluster["client"], cluster["workers"]) as connection:
-            drawing = drawer.submit(filter_figure, content, sources)
+            drawing: list = []
             done = gathered(connection, [sources[i] for i in todo],
-                             [content, [outputs[i] for i in todo], overwrite, limits],
-                             verbose is not False)
+                            [content, [outputs[i] for i in todo], overwrite, limits],
+                            verbose is not False, lambda: drawing.append(
+                                drawer.submit(filter_figure, content, sources)))
             for i, result in zip(todo, done):
                 results[i] = result
             try:
-                figure = drawing.result()
+                figure = drawing[0].result()
             except Exception:  # the report goes without it; the recordings' rows say why
                 figure = None
     else:

@@ -8,6 +8,7 @@ import json
 import os
 import sys
 import time
+from collections.abc import Callable
 from pathlib import Path
 
 from .task import failed_row, filter_recording
@@ -121,13 +122,16 @@ def _import_what_workers_use() -> None:
         importlib.import_module(name)
 
 
-def gathered(connection, sources, task_arguments, show: bool) -> list:
+def gathered(connection, sources, task_arguments, show: bool,
+             when_a_worker_is_free: Callable[[], object] | None = None) -> list:
     """Each recording's (row, extras) from one task per recording, in
     input order, with a bar over recordings as they finish.
 
     A result is let go of as soon as it is gathered, so a worker that dies
     later does not make the cluster run finished recordings again; a task
     lost with its worker (after Dask's retries) becomes a failed row.
+    ``when_a_worker_is_free`` is called once, when fewer recordings are left
+    than there are workers (a core would idle), or at the end.
     """
     import distributed
     from tqdm.std import tqdm
@@ -138,18 +142,28 @@ def gathered(connection, sources, task_arguments, show: bool) -> list:
         filter_recording, sources, [content] * count, outputs, [overwrite] * count,
         [limits] * count, pure=False))}
     rows: list = [None] * count
+    cores = max(len(connection.scheduler_info().get("workers", {})), 1)
+    calls = [when_a_worker_is_free] if when_a_worker_is_free else []
+
+    def left(n: int) -> None:  # n recordings left: a core idles when they are fewer
+        if calls and n < cores:
+            calls.pop()()
+
+    left(count)
     try:
         with tqdm(total=count, unit="recording", disable=not show) as bar:
             for future in distributed.as_completed([f for _, f in pending.values()]):
                 i, _ = pending.pop(future.key)
                 rows[i] = task_result(future, sources[i], outputs[i])
                 bar.update(1)
+                left(len(pending))
     except KeyboardInterrupt as err:  # what has not started does not start
         connection.cancel([f for _, f in pending.values()])
         raise Interrupted(sum(r is not None for r in rows), count) from err
     except BaseException:
         connection.cancel([f for _, f in pending.values()])
         raise
+    left(0)
     return rows
 
 
